@@ -1,0 +1,2 @@
+//! The `subrange` command.
+fn main() {}
