@@ -6,3 +6,9 @@
 extern crate alloc;
 #[cfg(feature = "std")]
 extern crate std;
+
+pub mod coder;
+mod error;
+pub mod model;
+
+pub use error::{Error, ErrorKind, Result};

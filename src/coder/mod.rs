@@ -1,0 +1,34 @@
+//! The integer range coder.
+//!
+//! An [`Encoder`] narrows an interval `[low, low + range)` once per coded
+//! symbol: a model supplies the symbol's cumulative frequency `cum` and
+//! frequency `freq` out of a `total` (at most 2^16), and the interval shrinks
+//! to that span. Whenever `range` drops below 2^24 the top byte is shifted
+//! out, so the arithmetic stays in 32/64-bit integers and the output streams.
+//! Carries into bytes not yet released are handled with a cached byte and a
+//! count of pending `0xFF` bytes. A binary step splits the range by a 16-bit
+//! probability for bit-oriented models.
+//!
+//! The [`Decoder`] repeats the encoder's arithmetic and finds each symbol with
+//! the model's [`locate`](crate::model::Model::locate). No floating point is
+//! used anywhere: a stream decodes identically on every platform.
+//!
+//! [`IdealCost`] measures `Σ -log2(freq / total)`, the length an ideal coder
+//! would reach with the same model, so coding overhead can be separated from
+//! model quality.
+
+mod cost;
+mod decoder;
+mod encoder;
+mod sink;
+mod source;
+
+pub use cost::{log2_q32, IdealCost};
+pub use decoder::Decoder;
+pub use encoder::Encoder;
+pub use sink::ByteSink;
+#[cfg(feature = "std")]
+pub use sink::IoSink;
+#[cfg(feature = "std")]
+pub use source::IoSource;
+pub use source::{ByteSource, SliceSource};

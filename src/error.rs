@@ -1,0 +1,244 @@
+//! The crate's one error type.
+//!
+//! Every fallible operation returns [`Error`], a small wrapper around a
+//! [`#[non_exhaustive]`](ErrorKind) enum whose variants carry the context a
+//! user needs to act: the offset of a truncation, the block of a checksum
+//! mismatch, the limit that a declared size broke. [`Error::kind`] inspects it.
+//!
+//! With the `std` feature, `Error` converts into [`std::io::Error`]: damaged
+//! input maps to [`std::io::ErrorKind::InvalidData`], truncation to
+//! [`std::io::ErrorKind::UnexpectedEof`], and the original error stays
+//! reachable as the source.
+
+use core::fmt;
+
+/// What went wrong, with the context needed to report it.
+#[derive(Debug, thiserror::Error)]
+#[non_exhaustive]
+pub enum ErrorKind {
+    /// The coded input ended before the decoder had what it needed.
+    #[error("truncated input: the coded stream ends at byte offset {offset}")]
+    Truncated {
+        /// Offset (in bytes, from the start of the stream) where input ran out.
+        offset: u64,
+    },
+    /// The model cannot code this symbol: it is outside the alphabet or has
+    /// zero frequency.
+    #[error("symbol {symbol} cannot be coded by this model (alphabet of {alphabet})")]
+    UncodableSymbol {
+        /// The symbol that was asked for.
+        symbol: u32,
+        /// The model's alphabet size.
+        alphabet: u32,
+    },
+    /// A model or frequency table broke the [`Model`](crate::model::Model)
+    /// contract (zero or oversize total, a span outside the total, ...).
+    #[error("invalid model: {reason}")]
+    InvalidModel {
+        /// Which rule was broken.
+        reason: &'static str,
+    },
+    /// A parameter given by the caller is out of its documented range.
+    #[error("invalid parameter `{name}`: {reason}")]
+    InvalidParameter {
+        /// The parameter's name.
+        name: &'static str,
+        /// The rule it broke.
+        reason: &'static str,
+    },
+    /// The coded stream is not one this decoder could have produced.
+    #[error("corrupt coded stream at byte offset {offset}: {reason}")]
+    CorruptStream {
+        /// Offset (in bytes) near which the damage was detected.
+        offset: u64,
+        /// What was found.
+        reason: &'static str,
+    },
+    /// A serialised model table could not be read back.
+    #[error("corrupt model table: {reason}")]
+    CorruptTable {
+        /// What was found.
+        reason: &'static str,
+    },
+    /// The container does not start with this crate's magic number.
+    #[error("not a subrange container: the magic number is missing")]
+    BadMagic,
+    /// The container's format version is not one this release reads.
+    #[error("unsupported container version {found} (this release reads version {supported})")]
+    UnsupportedVersion {
+        /// Version found in the header.
+        found: u32,
+        /// Highest version this release reads.
+        supported: u32,
+    },
+    /// The container names a preset this release does not know.
+    #[error("unknown preset id {id}")]
+    UnknownPreset {
+        /// The preset identifier found.
+        id: u32,
+    },
+    /// A block of the container is damaged.
+    #[error("corrupt block {index}: {reason}")]
+    CorruptBlock {
+        /// Zero-based block index.
+        index: u64,
+        /// What was found.
+        reason: &'static str,
+    },
+    /// A block decoded, but its CRC-32 does not match the recorded one.
+    #[error(
+        "checksum mismatch in block {block}: recorded {expected:#010x}, computed {actual:#010x}"
+    )]
+    ChecksumMismatch {
+        /// Zero-based block index.
+        block: u64,
+        /// Checksum recorded in the container.
+        expected: u32,
+        /// Checksum of the decoded bytes.
+        actual: u32,
+    },
+    /// A declared size is over the configured limit; nothing was allocated.
+    #[error("limit exceeded: {what} is {declared}, the limit is {limit}")]
+    LimitExceeded {
+        /// What was declared (block size, table size, memory, ...).
+        what: &'static str,
+        /// The declared value.
+        declared: u64,
+        /// The limit in force.
+        limit: u64,
+    },
+    /// Bytes follow the end of the coded data.
+    #[error("{count} unexpected trailing byte(s) after the end at offset {offset}")]
+    TrailingBytes {
+        /// Offset of the first unexpected byte.
+        offset: u64,
+        /// How many were seen (a lower bound for streams).
+        count: u64,
+    },
+    /// A model snapshot was missing, different, or damaged.
+    #[error("snapshot mismatch: {reason}")]
+    Snapshot {
+        /// What did not match.
+        reason: &'static str,
+    },
+    /// An I/O error from the underlying reader or writer.
+    #[cfg(feature = "std")]
+    #[error("I/O error: {0}")]
+    Io(#[from] std::io::Error),
+}
+
+/// The error type of every fallible operation in this crate.
+///
+/// # Example
+///
+/// ```
+/// use subrange::{Error, ErrorKind};
+///
+/// let err = Error::from(ErrorKind::Truncated { offset: 12 });
+/// assert!(matches!(err.kind(), ErrorKind::Truncated { offset: 12 }));
+/// assert_eq!(err.to_string(), "truncated input: the coded stream ends at byte offset 12");
+/// ```
+pub struct Error {
+    kind: ErrorKind,
+}
+
+impl Error {
+    /// The kind of error, with its context.
+    pub fn kind(&self) -> &ErrorKind {
+        &self.kind
+    }
+
+    /// Consumes the error, returning its kind.
+    pub fn into_kind(self) -> ErrorKind {
+        self.kind
+    }
+
+    /// True when the error means the input is damaged or truncated (as opposed
+    /// to a caller mistake or an I/O failure).
+    pub fn is_damage(&self) -> bool {
+        matches!(
+            self.kind,
+            ErrorKind::Truncated { .. }
+                | ErrorKind::CorruptStream { .. }
+                | ErrorKind::CorruptTable { .. }
+                | ErrorKind::BadMagic
+                | ErrorKind::CorruptBlock { .. }
+                | ErrorKind::ChecksumMismatch { .. }
+                | ErrorKind::TrailingBytes { .. }
+        )
+    }
+}
+
+impl From<ErrorKind> for Error {
+    fn from(kind: ErrorKind) -> Self {
+        Error { kind }
+    }
+}
+
+#[cfg(feature = "std")]
+impl From<std::io::Error> for Error {
+    fn from(err: std::io::Error) -> Self {
+        Error {
+            kind: ErrorKind::Io(err),
+        }
+    }
+}
+
+impl fmt::Debug for Error {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        fmt::Debug::fmt(&self.kind, f)
+    }
+}
+
+impl fmt::Display for Error {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        fmt::Display::fmt(&self.kind, f)
+    }
+}
+
+impl core::error::Error for Error {
+    fn source(&self) -> Option<&(dyn core::error::Error + 'static)> {
+        core::error::Error::source(&self.kind)
+    }
+}
+
+#[cfg(feature = "std")]
+impl From<Error> for std::io::Error {
+    fn from(err: Error) -> Self {
+        use std::io::ErrorKind as Io;
+        let io_kind = match &err.kind {
+            ErrorKind::Truncated { .. } => Io::UnexpectedEof,
+            ErrorKind::Io(inner) => inner.kind(),
+            ErrorKind::InvalidParameter { .. } | ErrorKind::UncodableSymbol { .. } => {
+                Io::InvalidInput
+            }
+            _ => Io::InvalidData,
+        };
+        std::io::Error::new(io_kind, err)
+    }
+}
+
+/// Shorthand for `Result<T, subrange::Error>`.
+pub type Result<T, E = Error> = core::result::Result<T, E>;
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn damage_is_classified() {
+        assert!(Error::from(ErrorKind::BadMagic).is_damage());
+        assert!(!Error::from(ErrorKind::UnknownPreset { id: 9 }).is_damage());
+    }
+
+    #[cfg(feature = "std")]
+    #[test]
+    fn io_conversion_keeps_source() {
+        let io: std::io::Error = Error::from(ErrorKind::Truncated { offset: 3 }).into();
+        assert_eq!(io.kind(), std::io::ErrorKind::UnexpectedEof);
+        let inner = io.get_ref().unwrap().downcast_ref::<Error>().unwrap();
+        assert!(matches!(inner.kind(), ErrorKind::Truncated { offset: 3 }));
+        let io: std::io::Error = Error::from(ErrorKind::BadMagic).into();
+        assert_eq!(io.kind(), std::io::ErrorKind::InvalidData);
+    }
+}
