@@ -8,6 +8,7 @@ extern crate alloc;
 extern crate std;
 
 pub mod coder;
+pub mod corpus;
 mod error;
 pub mod model;
 

@@ -20,12 +20,14 @@
 mod cost;
 mod decoder;
 mod encoder;
+mod lanes;
 mod sink;
 mod source;
 
 pub use cost::{log2_q32, IdealCost};
 pub use decoder::Decoder;
 pub use encoder::Encoder;
+pub use lanes::{decode_interleaved, encode_interleaved, MAX_LANES};
 pub use sink::ByteSink;
 #[cfg(feature = "std")]
 pub use sink::IoSink;
