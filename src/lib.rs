@@ -1,4 +1,72 @@
 //! subrange: streaming arithmetic-coding compression.
+//!
+//! A finite-precision integer range coder, models that feed it frequencies,
+//! and (with `std`) a checksummed block container with `std::io` adapters.
+//!
+//! - [`coder`]: [`Encoder`](coder::Encoder) and [`Decoder`](coder::Decoder)
+//!   narrow an integer interval by each symbol's span; a binary step codes
+//!   bits with 16-bit probabilities; interleaved lanes for speed; ideal-cost
+//!   accounting.
+//! - [`model`]: the [`Model`](model::Model) trait and models: a static
+//!   [`TableModel`](model::TableModel) and an adaptive order-0
+//!   [`AdaptiveModel`](model::AdaptiveModel).
+//! - [`corpus`]: seeded synthetic demo data (river-gauge telemetry).
+//!
+//! # Example: code records with two models in one stream
+//!
+//! ```
+//! use subrange::coder::{Decoder, Encoder};
+//! use subrange::model::{AdaptiveModel, TableModel};
+//!
+//! # fn main() -> Result<(), subrange::Error> {
+//! let mut status = TableModel::from_counts(&[97, 2, 1], 10)?; // ok, low battery, sensor fault
+//! let mut level = AdaptiveModel::new(1024)?; // water level in cm
+//! let records = [(0u32, 212u32), (0, 213), (1, 213), (0, 215)];
+//! let mut enc = Encoder::new();
+//! for &(s, l) in &records {
+//!     enc.encode(&mut status, s)?;
+//!     enc.encode(&mut level, l)?;
+//! }
+//! let bytes = enc.finish()?;
+//! let mut level = AdaptiveModel::new(1024)?;
+//! let mut dec = Decoder::new(&bytes)?;
+//! for &(s, l) in &records {
+//!     assert_eq!((dec.decode(&mut status)?, dec.decode(&mut level)?), (s, l));
+//! }
+//! # Ok(())
+//! # }
+//! ```
+//!
+//! # Example: measure coding overhead
+//!
+//! ```
+//! use subrange::coder::Encoder;
+//! use subrange::model::TableModel;
+//!
+//! # fn main() -> Result<(), subrange::Error> {
+//! let data = subrange::corpus::skewed(7, 100_000);
+//! let mut model = TableModel::from_bytes_histogram(&data, 12)?;
+//! let mut enc = Encoder::new();
+//! enc.enable_cost_meter();
+//! for &b in &data {
+//!     enc.encode(&mut model, b.into())?;
+//! }
+//! let ideal = enc.ideal_cost().unwrap().bits();
+//! let actual = (enc.finish()?.len() * 8) as f64;
+//! assert!(actual - ideal < 64.0);
+//! # Ok(())
+//! # }
+//! ```
+//!
+//! # Crate features
+//!
+//! - `std` (default): `std::io` sinks and sources, [`std::error::Error`]
+//!   conversions, and everything above the coder that needs the standard library.
+//! - `parallel` (default): code container blocks on all cores (rayon).
+//! - `cli` (default): the `subrange` command-line tool's dependencies.
+//!
+//! With `default-features = false` the crate is `no_std` + `alloc`: the coder
+//! and the models.
 #![no_std]
 #![deny(missing_docs, missing_debug_implementations)]
 #![forbid(unsafe_code)]
@@ -13,3 +81,7 @@ mod error;
 pub mod model;
 
 pub use error::{Error, ErrorKind, Result};
+
+#[cfg(doctest)]
+#[doc = include_str!("../README.md")]
+struct ReadmeDoctests;

@@ -23,6 +23,7 @@ mod encoder;
 mod lanes;
 mod sink;
 mod source;
+mod table_lanes;
 
 pub use cost::{log2_q32, IdealCost};
 pub use decoder::Decoder;
@@ -34,3 +35,4 @@ pub use sink::IoSink;
 #[cfg(feature = "std")]
 pub use source::IoSource;
 pub use source::{ByteSource, SliceSource};
+pub use table_lanes::{decode_table_lanes, encode_table_lanes};

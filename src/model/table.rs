@@ -167,6 +167,12 @@ impl TableModel {
         &self.freq
     }
 
+    /// Cumulative frequencies: `cumulative()[s]` is where symbol `s` starts;
+    /// the last entry is the total.
+    pub fn cumulative(&self) -> &[u32] {
+        &self.cum
+    }
+
     /// `log2` of the total.
     pub fn log2_total(&self) -> u32 {
         self.log2_total
