@@ -15,7 +15,7 @@
 
 use std::io::{Read, Write};
 
-use subrange::coder::{decode_interleaved, encode_interleaved, Decoder, Encoder};
+use subrange::coder::{decode_table_lanes, encode_table_lanes, Decoder, Encoder};
 use subrange::model::{AdaptiveModel, Model, TableModel};
 
 use crate::exit::{CliError, CliResult};
@@ -94,10 +94,10 @@ impl Codec for StaticCodec {
         if data.is_empty() {
             return Ok(Vec::new());
         }
-        let mut model = TableModel::from_bytes_histogram(data, TABLE_LOG2_TOTAL)
+        let model = TableModel::from_bytes_histogram(data, TABLE_LOG2_TOTAL)
             .map_err(|e| lib_err("static", e))?;
         let lanes =
-            encode_interleaved(&mut model, data, STATIC_LANES).map_err(|e| lib_err("static", e))?;
+            encode_table_lanes(&model, data, STATIC_LANES).map_err(|e| lib_err("static", e))?;
         let mut out = model.to_bytes();
         for lane in &lanes {
             put_leb128(&mut out, lane.len() as u64);
@@ -111,7 +111,7 @@ impl Codec for StaticCodec {
         if raw_len == 0 {
             return Ok(Vec::new());
         }
-        let (mut model, used) =
+        let (model, used) =
             TableModel::from_table_bytes(packed, 256).map_err(|e| lib_err("static", e))?;
         let mut pos = used;
         let mut lens = [0usize; STATIC_LANES];
@@ -129,7 +129,7 @@ impl Codec for StaticCodec {
             pos = end;
         }
         let mut out = vec![0u8; raw_len];
-        decode_interleaved(&mut model, &views, &mut out).map_err(|e| lib_err("static", e))?;
+        decode_table_lanes(&model, &views, &mut out).map_err(|e| lib_err("static", e))?;
         Ok(out)
     }
     fn ideal_bits(&self, data: &[u8]) -> CliResult<Option<f64>> {
