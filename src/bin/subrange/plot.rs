@@ -91,9 +91,9 @@ fn colour(i: usize, kind: Kind) -> RGBColor {
         RGBColor(0x17, 0xbe, 0xcf),
     ];
     const BASELINES: [RGBColor; 3] = [
-        RGBColor(0xaa, 0xaa, 0xaa),
-        RGBColor(0x77, 0x77, 0x77),
-        RGBColor(0x33, 0x33, 0x33),
+        RGBColor(0x99, 0x99, 0x99),
+        RGBColor(0x66, 0x66, 0x66),
+        RGBColor(0x22, 0x22, 0x22),
     ];
     match kind {
         Kind::Preset => PRESETS[i % PRESETS.len()],
@@ -127,7 +127,7 @@ fn draw(
         .build_cartesian_2d(x_range.log_scale(), 0.0..top)?;
     chart
         .configure_mesh()
-        .x_desc("encode speed, MB/s (log scale)")
+        .x_desc("encode speed, MB/s (log scale); large points: all inputs, small: each input")
         .y_desc("ratio (original / compressed)")
         .draw()?;
 
