@@ -6,3 +6,5 @@
 extern crate alloc;
 #[cfg(feature = "std")]
 extern crate std;
+
+pub mod mq;
