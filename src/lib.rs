@@ -79,6 +79,7 @@ pub mod coder;
 pub mod corpus;
 mod error;
 pub mod model;
+pub mod mq;
 
 pub use error::{Error, ErrorKind, Result};
 
