@@ -54,5 +54,4 @@ impl fmt::Display for MqError {
     }
 }
 
-#[cfg(feature = "std")]
-impl std::error::Error for MqError {}
+impl core::error::Error for MqError {}
