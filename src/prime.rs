@@ -125,6 +125,10 @@ impl<M: SnapshotState + Model + Clone> Primer<M> {
     /// with the same snapshot. `max_len` bounds the message length the frame
     /// may declare (and so the memory this call allocates).
     ///
+    /// `frame` must be exactly the frame: the range decoder reads up to four
+    /// bytes ahead, so a few bytes appended to a frame can go unnoticed (more
+    /// are reported). Take the frame's length from the transport.
+    ///
     /// # Errors
     ///
     /// [`ErrorKind::Snapshot`] when the frame is too short to hold an
