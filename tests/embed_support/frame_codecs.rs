@@ -49,9 +49,13 @@ pub fn cold_frame(data: &[u8]) -> Vec<u8> {
 /// dictionary is fed through the same compressor first and flushed to a byte
 /// boundary; only the bytes after that point belong to the frame. The
 /// decoder does the same (inflates the dictionary's stream, then the frame),
-/// which is exactly what a preset dictionary means. The result is checked by
-/// inflating it.
+/// which is exactly what a preset dictionary means; see [`inflate_frame`].
 pub fn deflate_frame(dictionary: &[u8], data: &[u8]) -> Vec<u8> {
+    deflate_with_prefix(dictionary, data).1
+}
+
+/// The dictionary's own stream and the frame's bytes.
+fn deflate_with_prefix(dictionary: &[u8], data: &[u8]) -> (Vec<u8>, Vec<u8>) {
     let mut c = Compress::new(Compression::best(), false);
     let mut out = Vec::with_capacity(dictionary.len() + data.len() + 64);
     if !dictionary.is_empty() {
@@ -64,14 +68,20 @@ pub fn deflate_frame(dictionary: &[u8], data: &[u8]) -> Vec<u8> {
     c.compress_vec(data, &mut out, FlushCompress::Finish)
         .unwrap();
     assert_eq!(c.total_in() as usize, dictionary.len() + data.len());
-    // Check: the prefix stream plus the frame inflate to dictionary + data.
+    let frame = out.split_off(prefix);
+    (out, frame)
+}
+
+/// Inflates a frame from [`deflate_frame`] with the same dictionary.
+pub fn inflate_frame(dictionary: &[u8], frame: &[u8]) -> Vec<u8> {
+    let (mut stream, _) = deflate_with_prefix(dictionary, &[]);
+    stream.extend_from_slice(frame);
     let mut d = Decompress::new(false);
-    let mut back = Vec::with_capacity(dictionary.len() + data.len() + 16);
-    d.decompress_vec(&out, &mut back, FlushDecompress::Finish)
+    let mut back = Vec::with_capacity(dictionary.len() + 4096);
+    d.decompress_vec(&stream, &mut back, FlushDecompress::Finish)
         .unwrap();
     assert_eq!(&back[..dictionary.len()], dictionary);
-    assert_eq!(&back[dictionary.len()..], data);
-    out.split_off(prefix)
+    back.split_off(dictionary.len())
 }
 
 /// Average bits per frame of each codec over `frames`.
@@ -99,7 +109,15 @@ pub fn measure(training: &[Vec<u8>], frames: &[Vec<u8>]) -> BitsPerFrame {
             frame.len()
         }),
         cold: bits(&|x| cold_frame(x).len()),
-        deflate: bits(&|x| deflate_frame(&[], x).len()),
-        deflate_dictionary: bits(&|x| deflate_frame(&sample, x).len()),
+        deflate: bits(&|x| {
+            let frame = deflate_frame(&[], x);
+            assert_eq!(inflate_frame(&[], &frame), x);
+            frame.len()
+        }),
+        deflate_dictionary: bits(&|x| {
+            let frame = deflate_frame(&sample, x);
+            assert_eq!(inflate_frame(&sample, &frame), x);
+            frame.len()
+        }),
     }
 }
