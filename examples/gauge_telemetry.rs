@@ -172,8 +172,8 @@ fn entropy(symbols: impl Iterator<Item = u32>) -> f64 {
         .sum()
 }
 
-fn main() -> Result<(), subrange::Error> {
-    let mut rng = Rng(2024_05_01);
+fn main() -> Result<(), Box<dyn std::error::Error>> {
+    let mut rng = Rng(20_240_501);
     let yesterday = simulate_day(&mut rng, 0);
     let today = simulate_day(&mut rng, 1);
     let mut tables = train(&yesterday)?;

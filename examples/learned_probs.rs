@@ -52,9 +52,9 @@ impl Predictor {
     fn predict(&self, d1: i32, d2: i32, out: &mut [f32; CLASSES]) {
         let (d1, d2) = (d1 as f32, d2 as f32);
         let mut max = f32::MIN;
-        for k in 0..CLASSES {
-            out[k] = self.w1[k] * d1 + self.w2[k] * d2 + self.b[k];
-            max = max.max(out[k]);
+        for (k, logit) in out.iter_mut().enumerate() {
+            *logit = self.w1[k] * d1 + self.w2[k] * d2 + self.b[k];
+            max = max.max(*logit);
         }
         let mut sum = 0.0;
         for v in out.iter_mut() {

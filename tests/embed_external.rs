@@ -87,36 +87,26 @@ fn code_drifting(steps: usize, laplace: bool, as_f32: bool) -> (f64, f64) {
     (bytes.len() as f64 * 8.0, ideal)
 }
 
-#[test]
-fn drifting_gaussian_within_half_a_percent_of_ideal() {
+fn check_within_half_a_percent(laplace: bool) {
     for as_f32 in [false, true] {
-        let (coded, ideal) = code_drifting(20_000, false, as_f32);
-        eprintln!(
-            "laplace={} f32={as_f32}: coded {coded} ideal {ideal:.1} overhead {:.4}%",
-            false,
-            (coded / ideal - 1.0) * 100.0
-        );
+        let (coded, ideal) = code_drifting(20_000, laplace, as_f32);
+        let overhead = (coded / ideal - 1.0) * 100.0;
+        eprintln!("laplace={laplace} f32={as_f32}: coded {coded} bits, ideal {ideal:.1}, overhead {overhead:.4} %");
         assert!(
             coded <= ideal * 1.005,
-            "f32={as_f32}: coded {coded} bits, ideal {ideal:.0} bits"
+            "laplace={laplace} f32={as_f32}: coded {coded} bits, ideal {ideal:.0}"
         );
     }
 }
 
 #[test]
+fn drifting_gaussian_within_half_a_percent_of_ideal() {
+    check_within_half_a_percent(false);
+}
+
+#[test]
 fn drifting_laplacian_within_half_a_percent_of_ideal() {
-    for as_f32 in [false, true] {
-        let (coded, ideal) = code_drifting(20_000, true, as_f32);
-        eprintln!(
-            "laplace={} f32={as_f32}: coded {coded} ideal {ideal:.1} overhead {:.4}%",
-            true,
-            (coded / ideal - 1.0) * 100.0
-        );
-        assert!(
-            coded <= ideal * 1.005,
-            "f32={as_f32}: coded {coded} bits, ideal {ideal:.0} bits"
-        );
-    }
+    check_within_half_a_percent(true);
 }
 
 #[test]

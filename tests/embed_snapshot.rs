@@ -208,7 +208,7 @@ fn state_error(snap: &Snapshot) -> &'static str {
 
 #[test]
 fn bad_parameters_and_states_are_refused() {
-    // A valid one first, to show the helper builds real states.
+    // A valid one first, to show that `adaptive_state` builds real states.
     let ok = adaptive_state(4, 24, 65_536, 0, &[1, 2, 3, 4]);
     let m: AdaptiveModel = ok.restore().unwrap();
     assert_eq!(m.frequencies(), &[1, 2, 3, 4]);

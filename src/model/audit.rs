@@ -151,6 +151,17 @@ pub struct Divergence {
 }
 
 /// The outcome of an audit.
+///
+/// Its `Display` form is a one-line summary:
+///
+/// ```
+/// use subrange::model::audit::audit_model;
+/// use subrange::model::TableModel;
+///
+/// let report = audit_model(|| TableModel::from_counts(&[3, 1], 2).unwrap(), &[0, 0, 1, 0]);
+/// assert!(report.is_symmetric());
+/// assert!(report.to_string().starts_with("symmetric: 4 of 4 steps agree"));
+/// ```
 #[derive(Debug)]
 pub struct AuditReport {
     /// Number of symbols the audit was asked to check.

@@ -21,10 +21,11 @@
 //! predictor in a deterministic way (same binary, or integer/fixed-point
 //! arithmetic, or a math library of your own) — this crate cannot check it.
 //!
-//! The conversion itself is exact and platform-independent: no floating point
-//! operation is performed at all. Each value is taken apart into its integer
-//! mantissa and exponent and shifted into a 44-bit fixed-point weight relative
-//! to the largest value; everything after that is integer arithmetic.
+//! The conversion itself is exact and platform-independent: no floating-point
+//! arithmetic is performed. Each value (an `f32` widened exactly to `f64`) is
+//! taken apart into its integer mantissa and exponent and shifted into a
+//! 44-bit fixed-point weight relative to the largest value; everything after
+//! that is integer arithmetic.
 //!
 //! # Method (O(alphabet), no sorting)
 //!

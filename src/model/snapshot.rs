@@ -282,6 +282,14 @@ impl Snapshot {
     ///
     /// [`ErrorKind::Snapshot`] when the snapshot holds a different kind of
     /// model, or the model's reader rejects the state.
+    ///
+    /// ```
+    /// use subrange::model::{AdaptiveModel, Snapshot, TableModel};
+    ///
+    /// let snapshot = Snapshot::capture(&AdaptiveModel::new(8).unwrap()).unwrap();
+    /// assert!(snapshot.restore::<AdaptiveModel>().is_ok());
+    /// assert!(snapshot.restore::<TableModel>().is_err()); // another kind
+    /// ```
     pub fn restore<M: SnapshotState>(&self) -> Result<M> {
         if self.kind() != M::KIND {
             return Err(snapshot_error("snapshot holds a different kind of model"));
