@@ -121,6 +121,9 @@ pub enum ErrorKind {
         /// What did not match.
         reason: &'static str,
     },
+    /// An error of the MQ binary coder (context or state out of range).
+    #[error("MQ coder: {0}")]
+    Mq(#[from] crate::mq::MqError),
     /// An I/O error from the underlying reader or writer.
     #[cfg(feature = "std")]
     #[error("I/O error: {0}")]
@@ -169,6 +172,14 @@ impl Error {
     }
 }
 
+impl From<crate::mq::MqError> for Error {
+    fn from(err: crate::mq::MqError) -> Self {
+        Error {
+            kind: ErrorKind::Mq(err),
+        }
+    }
+}
+
 impl From<ErrorKind> for Error {
     fn from(kind: ErrorKind) -> Self {
         Error { kind }
@@ -209,9 +220,9 @@ impl From<Error> for std::io::Error {
         let io_kind = match &err.kind {
             ErrorKind::Truncated { .. } => Io::UnexpectedEof,
             ErrorKind::Io(inner) => inner.kind(),
-            ErrorKind::InvalidParameter { .. } | ErrorKind::UncodableSymbol { .. } => {
-                Io::InvalidInput
-            }
+            ErrorKind::InvalidParameter { .. }
+            | ErrorKind::UncodableSymbol { .. }
+            | ErrorKind::Mq(_) => Io::InvalidInput,
             _ => Io::InvalidData,
         };
         std::io::Error::new(io_kind, err)

@@ -10,6 +10,8 @@
 //! - [`model`]: the [`Model`](model::Model) trait and models: a static
 //!   [`TableModel`](model::TableModel) and an adaptive order-0
 //!   [`AdaptiveModel`](model::AdaptiveModel).
+//! - [`prime`]: small messages coded from a saved, checksummed model snapshot.
+//! - [`mq`]: the MQ binary arithmetic coder of ITU-T T.88 / ISO/IEC 15444-1.
 //! - [`corpus`]: seeded synthetic demo data (river-gauge telemetry).
 //!
 //! # Example: code records with two models in one stream
@@ -65,8 +67,8 @@
 //! - `parallel` (default): code container blocks on all cores (rayon).
 //! - `cli` (default): the `subrange` command-line tool's dependencies.
 //!
-//! With `default-features = false` the crate is `no_std` + `alloc`: the coder
-//! and the models.
+//! With `default-features = false` the crate is `no_std` + `alloc`: the coder,
+//! the models, primed messages ([`prime`]) and the MQ coder ([`mq`]).
 #![no_std]
 #![deny(missing_docs, missing_debug_implementations)]
 #![forbid(unsafe_code)]
@@ -79,6 +81,8 @@ pub mod coder;
 pub mod corpus;
 mod error;
 pub mod model;
+pub mod mq;
+pub mod prime;
 
 pub use error::{Error, ErrorKind, Result};
 

@@ -1,8 +1,8 @@
 //! `subrange analyze` on files with known entropy.
 
-mod common;
+mod cli_support;
 
-use common::*;
+use cli_support::*;
 
 /// The figure of order `k` in the entropy table.
 fn order_bits(report: &str, k: usize) -> f64 {

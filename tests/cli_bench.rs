@@ -1,8 +1,8 @@
 //! `subrange bench` on small files: JSON validity, plot output, errors.
 
-mod common;
+mod cli_support;
 
-use common::*;
+use cli_support::*;
 use serde_json::Value;
 
 fn bench_json(dir: &Scratch, extra: &[&str]) -> Value {

@@ -1,8 +1,8 @@
 //! Usage errors, help texts and exit codes.
 
-mod common;
+mod cli_support;
 
-use common::*;
+use cli_support::*;
 
 #[test]
 fn every_command_has_help_that_documents_exit_codes() {

@@ -3,7 +3,7 @@
 //! The encoder emits one byte at a time and never rewrites a byte once it has
 //! handed it over (carries are settled before a byte leaves the encoder), so a
 //! sink can be a plain append-only stream. `Vec<u8>` is a sink; with the `std`
-//! feature, [`IoSink`] buffers bytes for any [`std::io::Write`].
+//! feature, `IoSink` buffers bytes for any [`std::io::Write`].
 
 use alloc::vec::Vec;
 
@@ -20,7 +20,7 @@ pub trait ByteSink {
     ///
     /// # Errors
     ///
-    /// Whatever the destination reports (for [`IoSink`], an I/O error).
+    /// Whatever the destination reports (for `IoSink`, an I/O error).
     fn put(&mut self, byte: u8) -> Result<()>;
 
     /// Appends `count` copies of `byte` (used to release runs of settled

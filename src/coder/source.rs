@@ -3,7 +3,7 @@
 //! A source hands out bytes one at a time and says when it has none left;
 //! it never invents bytes. The decoder decides what the end of input means
 //! (see [`Decoder`](super::Decoder)). [`SliceSource`] reads a `&[u8]`; with the
-//! `std` feature, [`IoSource`] reads any [`std::io::Read`] through a buffer.
+//! `std` feature, `IoSource` reads any [`std::io::Read`] through a buffer.
 
 use crate::error::Result;
 
@@ -18,7 +18,7 @@ pub trait ByteSource {
     ///
     /// # Errors
     ///
-    /// Whatever the underlying input reports (for [`IoSource`], I/O errors).
+    /// Whatever the underlying input reports (for `IoSource`, I/O errors).
     fn take(&mut self) -> Result<Option<u8>>;
 
     /// Number of bytes handed out so far.

@@ -89,6 +89,13 @@ impl Store {
         }
     }
 
+    fn frequencies(&self) -> &[u32] {
+        match self {
+            Store::Linear { freq, .. } => freq,
+            Store::Tree(t) => t.frequencies(),
+        }
+    }
+
     #[inline]
     fn freq(&self, i: usize) -> u32 {
         match self {
@@ -263,6 +270,73 @@ impl AdaptiveModel {
         } else {
             0
         }
+    }
+
+    /// All current frequencies, one per symbol, followed by the escape's
+    /// when the model [uses an escape](AdaptiveModel::uses_escape). With
+    /// [`params`](AdaptiveModel::params) this is the model's whole state:
+    /// [`from_frequencies`](AdaptiveModel::from_frequencies) rebuilds it.
+    ///
+    /// ```
+    /// use subrange::model::{AdaptiveModel, Model};
+    ///
+    /// let mut model = AdaptiveModel::new(3).unwrap();
+    /// model.update(2);
+    /// assert_eq!(model.frequencies(), &[1, 1, 25]);
+    /// ```
+    pub fn frequencies(&self) -> &[u32] {
+        self.store.frequencies()
+    }
+
+    /// A model with the given parameters in the given state, as returned by
+    /// [`frequencies`](AdaptiveModel::frequencies) (for restoring a trained
+    /// model).
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::InvalidParameter`] when the parameters are invalid (as for
+    /// [`with_params`](AdaptiveModel::with_params)), when `freq` does not have
+    /// one entry per symbol (plus one for the escape, if the parameters make
+    /// the model use one), when the frequencies sum to more than the limit,
+    /// or when a frequency that must be at least 1 is 0 (every symbol's
+    /// without escape, the escape's with it).
+    ///
+    /// ```
+    /// use subrange::model::{AdaptiveModel, AdaptiveParams, Model};
+    ///
+    /// let mut model = AdaptiveModel::new(4).unwrap();
+    /// model.update(1);
+    /// let copy = AdaptiveModel::from_frequencies(4, model.params(), model.frequencies()).unwrap();
+    /// assert_eq!(copy, model);
+    /// assert!(AdaptiveModel::from_frequencies(4, AdaptiveParams::default(), &[1, 0, 1, 1]).is_err());
+    /// ```
+    pub fn from_frequencies(alphabet: u32, params: AdaptiveParams, freq: &[u32]) -> Result<Self> {
+        let mut model = Self::with_params(alphabet, params)?;
+        let bad = |reason| {
+            Err(ErrorKind::InvalidParameter {
+                name: "freq",
+                reason,
+            }
+            .into())
+        };
+        let entries = alphabet as usize + usize::from(model.escape);
+        if freq.len() != entries {
+            return bad("needs one frequency per symbol, plus one for the escape");
+        }
+        let sum: u64 = freq.iter().map(|&f| u64::from(f)).sum();
+        if sum > u64::from(params.limit) {
+            return bad("frequencies sum to more than the limit");
+        }
+        let floor_ok = if model.escape {
+            freq[alphabet as usize] >= 1
+        } else {
+            freq.iter().all(|&f| f >= 1)
+        };
+        if !floor_ok {
+            return bad("a symbol (without escape) or the escape has frequency 0");
+        }
+        model.store = Store::new(freq.to_vec());
+        Ok(model)
     }
 
     fn halve(&mut self) {

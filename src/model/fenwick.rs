@@ -143,8 +143,12 @@ impl FenwickTree {
             step >>= 1;
         }
         // `pos` symbols have cumulative sum <= target; symbol `pos` holds it.
-        let symbol = pos.min(n.saturating_sub(1));
-        (symbol, target - rest)
+        if pos >= n {
+            // target >= total: the last symbol, and where it starts.
+            let last = n.saturating_sub(1);
+            return (last, self.total - self.freq.get(last).copied().unwrap_or(0));
+        }
+        (pos, target - rest)
     }
 
     /// Replaces every frequency `f` by `map(f)` and rebuilds in O(n).

@@ -13,16 +13,28 @@
 //! - [`AdaptiveModel`]: order-0 counts that learn as they code, for alphabets
 //!   up to 65,536 symbols (a Fenwick tree when the alphabet is large, an escape
 //!   for symbols not seen yet when it is very large).
+//! - [`ProbabilityAdapter`]: a per-step table built from probabilities that
+//!   come from outside (a learned or statistical model), see [`external`].
+//!
+//! Around them: [`snapshot`] saves and restores a trained model's state
+//! (to start small messages from it), and [`audit`] checks that a model of
+//! your own behaves identically on the encoding and the decoding side.
 
 mod adaptive;
+pub mod audit;
+pub mod external;
 mod fenwick;
 mod quantize;
 mod serial;
+pub mod snapshot;
 mod table;
 
 pub use adaptive::{AdaptiveModel, AdaptiveParams};
+pub use audit::{audit_model, AuditReport};
+pub use external::{quantize_probabilities, Probability, ProbabilityAdapter};
 pub use fenwick::FenwickTree;
 pub use quantize::quantize_counts;
+pub use snapshot::{Snapshot, SnapshotState};
 pub use table::TableModel;
 
 /// Largest total a model may have: 2^16.

@@ -1,0 +1,35 @@
+#!/usr/bin/env bash
+# Builds every fuzz target and runs each for a short, bounded time.
+# Usage: fuzz/smoke.sh [SECONDS_PER_TARGET]
+# cargo-fuzz needs nightly features: the nightly toolchain when installed,
+# otherwise RUSTC_BOOTSTRAP=1 on stable.
+set -euo pipefail
+cd "$(dirname "$0")"
+secs="${1:-30}"
+
+if ! command -v cargo-fuzz >/dev/null 2>&1; then
+  cargo install cargo-fuzz --locked
+fi
+if rustup run nightly rustc --version >/dev/null 2>&1; then
+  fuzz=(cargo +nightly fuzz)
+else
+  export RUSTC_BOOTSTRAP=1
+  fuzz=(cargo fuzz)
+fi
+
+python3 gen_seeds.py
+targets=$("${fuzz[@]}" list)
+"${fuzz[@]}" build -O -s none
+for t in $targets; do
+  dict=()
+  [ -f "dicts/$t.dict" ] && dict=(-dict="dicts/$t.dict")
+  mkdir -p "corpus/$t"
+  echo "-- $t (${secs}s)"
+  "${fuzz[@]}" run -O -s none "$t" "corpus/$t" "seeds/$t" -- \
+    -max_total_time="$secs" -timeout=1 -rss_limit_mb=512 -print_final_stats=1 "${dict[@]}" 2>&1 \
+    | grep -E "stat::number_of_executed_units|stat::peak_rss_mb|ERROR|SUMMARY|panicked|deadly" || true
+  if compgen -G "artifacts/$t/*" >/dev/null; then
+    echo "fuzz target $t found a failing input: fuzz/artifacts/$t/" >&2
+    exit 1
+  fi
+done

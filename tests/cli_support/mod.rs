@@ -1,0 +1,118 @@
+//! Helpers for the CLI tests: run the binary as a separate process in a
+//! scratch directory of its own.
+
+#![allow(dead_code)]
+
+use std::fs;
+use std::io::Write;
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output, Stdio};
+use std::sync::atomic::{AtomicU32, Ordering};
+
+/// A fresh directory under the system's temporary directory, removed on drop.
+pub struct Scratch(PathBuf);
+
+impl Scratch {
+    pub fn new(tag: &str) -> Self {
+        static N: AtomicU32 = AtomicU32::new(0);
+        let dir = std::env::temp_dir().join(format!(
+            "subrange-cli-{tag}-{}-{}",
+            std::process::id(),
+            N.fetch_add(1, Ordering::Relaxed)
+        ));
+        let _ = fs::remove_dir_all(&dir);
+        fs::create_dir_all(&dir).unwrap();
+        Scratch(dir)
+    }
+
+    pub fn path(&self) -> &Path {
+        &self.0
+    }
+
+    pub fn join(&self, name: &str) -> PathBuf {
+        self.0.join(name)
+    }
+
+    pub fn write(&self, name: &str, bytes: &[u8]) -> PathBuf {
+        let p = self.join(name);
+        fs::write(&p, bytes).unwrap();
+        p
+    }
+
+    /// The names in the directory, sorted (temporary files included).
+    pub fn entries(&self) -> Vec<String> {
+        let mut v: Vec<String> = fs::read_dir(&self.0)
+            .unwrap()
+            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+            .collect();
+        v.sort();
+        v
+    }
+}
+
+impl Drop for Scratch {
+    fn drop(&mut self) {
+        let _ = fs::remove_dir_all(&self.0);
+    }
+}
+
+/// Runs `subrange` with `args` in `dir`, feeding `stdin` (empty if `None`).
+pub fn run_in(dir: &Path, args: &[&str], stdin: Option<&[u8]>) -> Output {
+    let mut child = Command::new(env!("CARGO_BIN_EXE_subrange"))
+        .args(args)
+        .current_dir(dir)
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("the subrange binary runs");
+    let mut pipe = child.stdin.take().unwrap();
+    let input = stdin.unwrap_or(&[]).to_vec();
+    let feeder = std::thread::spawn(move || {
+        // The command may exit before reading everything (an error): ignore.
+        let _ = pipe.write_all(&input);
+    });
+    let out = child.wait_with_output().unwrap();
+    feeder.join().unwrap();
+    out
+}
+
+/// The exit code (panics if killed by a signal).
+pub fn code(out: &Output) -> i32 {
+    out.status.code().expect("exited normally")
+}
+
+pub fn stderr(out: &Output) -> String {
+    String::from_utf8_lossy(&out.stderr).into_owned()
+}
+
+pub fn stdout(out: &Output) -> String {
+    String::from_utf8_lossy(&out.stdout).into_owned()
+}
+
+/// Asserts the command failed with `want` and printed exactly one line,
+/// prefixed `subrange:`, and no panic text.
+pub fn assert_one_line_failure(out: &Output, want: i32) {
+    let err = stderr(out);
+    assert_eq!(code(out), want, "stderr: {err}");
+    assert_eq!(err.lines().count(), 1, "one line expected: {err:?}");
+    assert!(err.starts_with("subrange: "), "{err:?}");
+    assert!(!err.contains("panicked"), "{err:?}");
+}
+
+/// Telemetry-like test data: station lines with slowly drifting readings.
+pub fn gauge_text(lines: usize) -> Vec<u8> {
+    let mut s = String::new();
+    let mut level = 120i64;
+    for i in 0..lines {
+        level += [(0), 1, -1, 0, 2, -2, 0, 0][i * 7 % 8];
+        s.push_str(&format!(
+            "G{:03},{},{},{}\n",
+            100 + i % 5,
+            i * 10,
+            level,
+            level * 3 / 2
+        ));
+    }
+    s.into_bytes()
+}
