@@ -60,7 +60,10 @@ pub(crate) struct ContainerReader<R> {
     trailing: TrailingData,
     header: Option<Header>,
     index: u64,
+    /// Raw bytes in the blocks of the current container.
     total: u64,
+    /// Raw bytes in the blocks of all containers read (for the limit).
+    grand_total: u64,
     done: bool,
 }
 
@@ -73,6 +76,7 @@ impl<R: Read> ContainerReader<R> {
             header: None,
             index: 0,
             total: 0,
+            grand_total: 0,
             done: false,
         }
     }
@@ -111,12 +115,13 @@ impl<R: Read> ContainerReader<R> {
                 Frame::Block(frame) => {
                     check(
                         "total decoded length",
-                        self.total.saturating_add(frame.raw_len),
+                        self.grand_total.saturating_add(frame.raw_len),
                         self.limits.total_limit(),
                     )?;
                     read_payload(&mut self.input, &frame, payload)?;
                     self.index += 1;
                     self.total += frame.raw_len;
+                    self.grand_total += frame.raw_len;
                     return Ok(Some(frame));
                 }
                 Frame::End {
@@ -160,6 +165,7 @@ impl<R: Read> ContainerReader<R> {
                 } else {
                     self.header = None;
                     self.index = 0;
+                    self.total = 0;
                 }
             }
         }

@@ -32,9 +32,9 @@ use crate::stream::Options;
 /// for minute in (0..600).step_by(10) {
 ///     writeln!(c, "G107,{minute},212,1123,94")?;
 /// }
-/// assert_eq!(c.total_in(), 1330);
+/// assert_eq!(c.total_in(), 1249);
 /// let packed = c.finish()?;
-/// assert!(packed.len() < 1330 / 2);
+/// assert!(packed.len() < 1249 / 2);
 /// # Ok(())
 /// # }
 /// ```

@@ -105,17 +105,24 @@ pub fn decompress_with_options(data: &[u8], options: &DecodeOptions) -> Result<V
         let fit = usize::try_from(limits.memory_limit() / need).unwrap_or(usize::MAX);
         let batch = (2 * workers.count()).min(fit).max(1);
         let mut items: Vec<(Preset, BlockFrame, Vec<u8>)> = Vec::with_capacity(batch);
+        // A read error is reported after the blocks before it, so that the
+        // first damage in stream order is the one reported.
+        let mut stop = None;
         while items.len() < batch {
-            match reader.next_block(&mut buf)? {
-                Some(frame) => {
+            match reader.next_block(&mut buf) {
+                Ok(Some(frame)) => {
                     let preset = reader.header()?.preset;
                     items.push((preset, frame, core::mem::take(&mut buf)));
                 }
-                None => break,
+                Ok(None) => break,
+                Err(e) => {
+                    stop = Some(e);
+                    break;
+                }
             }
         }
         if items.is_empty() {
-            return Ok(out);
+            return stop.map_or(Ok(out), Err);
         }
         let decoded = workers.map(items, |(preset, frame, mut payload)| {
             let mut raw = Vec::new();
@@ -123,6 +130,9 @@ pub fn decompress_with_options(data: &[u8], options: &DecodeOptions) -> Result<V
         });
         for raw in decoded {
             out.extend_from_slice(&raw?);
+        }
+        if let Some(e) = stop {
+            return Err(e);
         }
     }
 }
