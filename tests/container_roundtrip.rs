@@ -264,3 +264,29 @@ fn overhead_on_incompressible_data_is_a_few_bytes_per_block() {
         );
     }
 }
+
+#[test]
+fn container_overhead_at_the_default_block_size() {
+    // Target: container bytes beyond the coded payloads stay within
+    // 0.1 % of the payloads + 64 bytes.
+    let data: Vec<u8> = subrange::corpus::demo(600_000)
+        .into_iter()
+        .flat_map(|d| d.data)
+        .collect();
+    for preset in Preset::all() {
+        let mut o = Options::new();
+        o.preset(preset);
+        let packed = compress(&data, &o).unwrap();
+        let report = inspect(&packed[..]).unwrap();
+        assert!(report.is_intact());
+        let payload: u64 = report.blocks.iter().map(|b| b.coded_len).sum();
+        let overhead = packed.len() as u64 - payload;
+        println!(
+            "{preset}: {} blocks, payload {payload} bytes, container {} bytes, overhead {overhead} bytes",
+            report.blocks.len(),
+            packed.len()
+        );
+        assert!(overhead * 1000 <= payload + 64 * 1000, "{overhead}");
+        assert!(overhead <= 64 + 20 * report.blocks.len() as u64);
+    }
+}

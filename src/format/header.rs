@@ -105,7 +105,11 @@ pub(crate) fn read_header<R: Read>(input: &mut Input<R>, limits: &DecodeLimits) 
     if input.u32_le()? != expected {
         return Err(corrupt(at, "header checksum mismatch"));
     }
-    let id = u32::try_from(id).map_err(|_| ErrorKind::UnknownPreset { id: u32::MAX })?;
+    let id = u32::try_from(id).map_err(|_| ErrorKind::LimitExceeded {
+        what: "preset id",
+        declared: id,
+        limit: u32::MAX.into(),
+    })?;
     if block_size == 0 {
         return Err(corrupt(start, "block size is zero"));
     }

@@ -17,10 +17,11 @@ use crate::error::{ErrorKind, Result};
 use crate::model::{AdaptiveModel, AdaptiveParams};
 
 fn model(params: &[u32]) -> Result<AdaptiveModel> {
-    let mut p = AdaptiveParams::default();
-    p.increment = params[0];
-    p.limit = params[1];
-    p.escape = Some(false);
+    let p = AdaptiveParams {
+        increment: params[0],
+        limit: params[1],
+        escape: Some(false),
+    };
     AdaptiveModel::with_params(256, p)
 }
 
