@@ -219,7 +219,34 @@ pub(crate) fn decode_payload(
             "decoded length differs from the frame",
         ));
     }
-    let actual = crc32fast::hash(out);
+    check_raw(frame, out)
+}
+
+/// Decodes a block's payload into `out` (exactly `raw_len` bytes long) and
+/// checks the raw CRC-32.
+pub(crate) fn decode_payload_into(
+    preset: &Preset,
+    frame: &BlockFrame,
+    payload: &[u8],
+    out: &mut [u8],
+) -> Result<()> {
+    if out.len() as u64 != frame.raw_len || payload.len() as u64 != frame.payload_len {
+        return Err(bad_block(
+            frame.index,
+            "decoded length differs from the frame",
+        ));
+    }
+    match frame.kind {
+        BlockKind::Stored => out.copy_from_slice(payload),
+        BlockKind::Coded => preset
+            .decode_into(payload, out)
+            .map_err(|e| in_block(frame.index, e))?,
+    }
+    check_raw(frame, out)
+}
+
+fn check_raw(frame: &BlockFrame, raw: &[u8]) -> Result<()> {
+    let actual = crc32fast::hash(raw);
     if actual != frame.raw_crc {
         return Err(ErrorKind::ChecksumMismatch {
             block: frame.index,

@@ -33,7 +33,9 @@ pub use inspect::{inspect, BlockInfo, CrcStatus, EndInfo, Inspection, Inspector}
 pub use limits::{DecodeLimits, MAX_BLOCK_SIZE};
 pub use reader::TrailingData;
 
-pub(crate) use block::{decode_payload, encode_block, end_record, BlockFrame, EncodedBlock};
+pub(crate) use block::{
+    decode_payload, decode_payload_into, encode_block, end_record, BlockFrame, EncodedBlock,
+};
 pub(crate) use header::encode_header;
 pub(crate) use reader::ContainerReader;
 

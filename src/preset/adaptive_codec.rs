@@ -10,6 +10,8 @@
 //! Invariant: the decoder consumes the payload exactly; input left over after
 //! the block's last byte is an error.
 
+#[cfg(test)]
+use alloc::vec;
 use alloc::vec::Vec;
 
 use crate::coder::{Decoder, Encoder};
@@ -45,16 +47,11 @@ pub(crate) fn encode(raw: &[u8], params: &[u32]) -> Result<Vec<u8>> {
     enc.finish()
 }
 
-pub(crate) fn decode(
-    payload: &[u8],
-    raw_len: usize,
-    params: &[u32],
-    out: &mut Vec<u8>,
-) -> Result<()> {
+pub(crate) fn decode(payload: &[u8], params: &[u32], out: &mut [u8]) -> Result<()> {
     let mut m = model(params)?;
     let mut dec = Decoder::new(payload)?;
-    for _ in 0..raw_len {
-        out.push(dec.decode(&mut m)? as u8);
+    for b in out.iter_mut() {
+        *b = dec.decode(&mut m)? as u8;
     }
     dec.finish()?;
     Ok(())
@@ -73,11 +70,10 @@ mod tests {
     fn trailing_payload_bytes_are_rejected() {
         let raw = b"flow 1123 l/s, temperature 9.4 C".to_vec();
         let mut payload = encode(&raw, &[24, 65_536]).unwrap();
-        let mut out = Vec::new();
-        decode(&payload, raw.len(), &[24, 65_536], &mut out).unwrap();
+        let mut out = vec![0u8; raw.len()];
+        decode(&payload, &[24, 65_536], &mut out).unwrap();
         assert_eq!(out, raw);
         payload.extend_from_slice(&[1, 2, 3, 4, 5, 6]);
-        out.clear();
-        assert!(decode(&payload, raw.len(), &[24, 65_536], &mut out).is_err());
+        assert!(decode(&payload, &[24, 65_536], &mut out).is_err());
     }
 }

@@ -25,14 +25,16 @@
 //! A preset is a [`PresetKind`] variant plus one match arm in each of
 //! [`PresetKind::id`], [`PresetKind::name`], [`PresetKind::summary`],
 //! [`PresetKind::param_specs`], `check_params`, [`Preset::encode_block`],
-//! [`Preset::decode_block`] and [`Preset::memory_needed`], and an entry in
+//! `Preset::decode_into` (which [`Preset::decode_block`] calls) and
+//! [`Preset::memory_needed`], and an entry in
 //! [`PresetKind::ALL`] and in `NAME_LIST`. Parameters are up to
 //! [`MAX_PARAMS`] integers described by [`ParamSpec`]s (name, default,
 //! range); a block codec with functions such as
 //! `encode(data, &params) -> Result<Vec<u8>>`,
 //! `decode(coded, raw_len, &params) -> Result<Vec<u8>>` and
 //! `memory_needed(&params) -> u64` plugs straight into those arms, reading
-//! its parameters with [`Preset::params`]. Its payload layout goes into
+//! its parameters with [`Preset::params`] (a `decode` that returns a `Vec`
+//! is copied into `decode_into`'s slice after checking its length). Its payload layout goes into
 //! `docs/FORMAT.md`. The tests iterate [`Preset::all`], so a new preset is
 //! covered by the container round-trip and damage tests automatically.
 
@@ -423,9 +425,26 @@ impl Preset {
                 declared: raw_len as u64,
                 limit: 0,
             })?;
+        out.resize(raw_len, 0);
+        let r = self.decode_into(payload, out);
+        if r.is_err() {
+            out.clear();
+        }
+        r
+    }
+
+    /// Decodes a payload into `out`, whose length is the block's raw length
+    /// (the one-shot decoder writes blocks straight into its output).
+    pub(crate) fn decode_into(&self, payload: &[u8], out: &mut [u8]) -> Result<()> {
+        if out.is_empty() {
+            if !payload.is_empty() {
+                return Err(corrupt(0, "payload of an empty block is not empty"));
+            }
+            return Ok(());
+        }
         match self.kind {
-            PresetKind::Static => static_codec::decode(payload, raw_len, self.params(), out),
-            PresetKind::Adaptive => adaptive_codec::decode(payload, raw_len, self.params(), out),
+            PresetKind::Static => static_codec::decode(payload, self.params(), out),
+            PresetKind::Adaptive => adaptive_codec::decode(payload, self.params(), out),
         }
     }
 

@@ -62,12 +62,7 @@ pub(crate) fn encode(raw: &[u8], params: &[u32]) -> Result<Vec<u8>> {
     Ok(out)
 }
 
-pub(crate) fn decode(
-    payload: &[u8],
-    raw_len: usize,
-    params: &[u32],
-    out: &mut Vec<u8>,
-) -> Result<()> {
+pub(crate) fn decode(payload: &[u8], params: &[u32], out: &mut [u8]) -> Result<()> {
     let (max_lanes, cap) = (params[0], params[1]);
     let mut cur = Cursor::new(payload);
     let lanes = cur.byte().ok_or_else(|| corrupt(0, "payload is empty"))?;
@@ -113,7 +108,6 @@ pub(crate) fn decode(
         );
     }
     views.push(cur.rest());
-    out.resize(raw_len, 0);
     decode_interleaved(&mut model, &views, out)
 }
 
@@ -143,8 +137,8 @@ mod tests {
     fn hostile_table_length_is_a_limit_error() {
         let mut payload = vec![1u8];
         put_vint(&mut payload, 1 << 40);
-        let mut out = Vec::new();
-        let err = decode(&payload, 10, &[4, 12], &mut out).unwrap_err();
+        let mut out = [0u8; 10];
+        let err = decode(&payload, &[4, 12], &mut out).unwrap_err();
         assert!(matches!(err.kind(), ErrorKind::LimitExceeded { .. }));
     }
 
@@ -152,12 +146,12 @@ mod tests {
     fn non_canonical_table_is_rejected() {
         let raw = b"river level 212 cm".to_vec();
         let mut payload = encode(&raw, &[4, 12]).unwrap();
-        let mut out = Vec::new();
-        decode(&payload, raw.len(), &[4, 12], &mut out).unwrap();
+        let mut out = vec![0u8; raw.len()];
+        decode(&payload, &[4, 12], &mut out).unwrap();
         assert_eq!(out, raw);
         // Set a padding bit in the table's last byte.
         let table_len = payload[1] as usize;
         payload[1 + table_len] |= 1;
-        assert!(decode(&payload, raw.len(), &[4, 12], &mut out).is_err());
+        assert!(decode(&payload, &[4, 12], &mut out).is_err());
     }
 }

@@ -110,7 +110,7 @@ impl<W: Write> Engine<W> {
         }
         if self.buf.is_empty() && data.len() >= self.batch_bytes {
             let n = data.len() / self.batch_bytes * self.batch_bytes;
-            self.emit(&data[..n])?;
+            self.emit(&data[..n], self.batch_bytes)?;
             self.total_in += n as u64;
             return Ok(n);
         }
@@ -128,15 +128,16 @@ impl<W: Write> Engine<W> {
 
     fn emit_buffer(&mut self) -> io::Result<()> {
         let buf = core::mem::take(&mut self.buf);
-        let r = self.emit(&buf);
+        let r = self.emit(&buf, self.batch_bytes);
         self.buf = buf;
         self.buf.clear();
         r
     }
 
-    /// Codes `raw` as consecutive blocks and writes their records.
-    fn emit(&mut self, raw: &[u8]) -> io::Result<()> {
-        for batch in raw.chunks(self.batch_bytes) {
+    /// Codes `raw` as consecutive blocks, `batch_bytes` at a time, and
+    /// writes their records.
+    fn emit(&mut self, raw: &[u8], batch_bytes: usize) -> io::Result<()> {
+        for batch in raw.chunks(batch_bytes) {
             let chunks: Vec<(u64, &[u8])> = batch
                 .chunks(self.block_size)
                 .enumerate()
@@ -220,6 +221,23 @@ impl<W: Write> Engine<W> {
             .inspect_err(|_| self.state = State::Failed)?;
         self.state = State::Finished;
         Ok(())
+    }
+
+    /// Codes `data` as the last bytes of the stream, all its blocks in one
+    /// parallel pass (for callers that hold the whole input and output in
+    /// memory anyway), then finishes.
+    pub(crate) fn finish_with(&mut self, data: &[u8]) -> io::Result<()> {
+        if !self.is_open() {
+            return Err(broken());
+        }
+        if !self.buf.is_empty() {
+            self.emit_buffer()?;
+        }
+        if !data.is_empty() {
+            self.emit(data, data.len())?;
+            self.total_in += data.len() as u64;
+        }
+        self.finish()
     }
 
     pub(crate) fn is_finished(&self) -> bool {

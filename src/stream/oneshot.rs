@@ -1,7 +1,8 @@
 //! One-shot and reader-to-writer helpers.
 //!
 //! [`compress`] and [`compress_reader`] run the same engine as the
-//! [`Compressor`]; [`decompress`] reads with the same container reader as
+//! [`Compressor`] ([`compress`] codes all blocks in one parallel pass, as it
+//! holds input and output in memory anyway); [`decompress`] reads with the same container reader as
 //! the [`Decompressor`] but decodes batches of blocks on several threads.
 //! Output is byte-identical whatever the thread count.
 
@@ -9,8 +10,9 @@ use std::io::{self, Read, Write};
 use std::vec::Vec;
 
 use crate::error::{Error, ErrorKind, Result};
-use crate::format::{decode_payload, BlockFrame, ContainerReader, DecodeLimits};
+use crate::format::{decode_payload_into, BlockFrame, ContainerReader, DecodeLimits};
 use crate::preset::Preset;
+use crate::stream::engine::Engine;
 use crate::stream::workers::Workers;
 use crate::stream::{Compressor, DecodeOptions, Decompressor, Options};
 
@@ -44,9 +46,15 @@ pub(crate) fn from_io(e: io::Error) -> Error {
 /// # }
 /// ```
 pub fn compress(data: &[u8], options: &Options) -> Result<Vec<u8>> {
-    let mut c = Compressor::new(Vec::with_capacity(data.len() / 2 + 64), options);
-    c.write_all(data).map_err(from_io)?;
-    c.finish().map_err(from_io)
+    // Room for the worst case (every block stored), so the output never
+    // moves; pages not written are never touched.
+    let blocks = data.len() / options.get_block_size() + 1;
+    let bound = data.len() + 24 * blocks + 64;
+    let mut engine = Engine::new(Vec::with_capacity(bound), options);
+    engine.finish_with(data).map_err(from_io)?;
+    Ok(engine
+        .take_inner()
+        .expect("the inner writer is present until taken"))
 }
 
 /// Decompresses a whole container held in memory, with default options.
@@ -87,8 +95,8 @@ pub fn decompress_with_limits(data: &[u8], limits: &DecodeLimits) -> Result<Vec<
 }
 
 /// Decompresses a container in memory with explicit options, decoding
-/// batches of blocks on `options.threads` threads. Blocks in flight at once
-/// are limited so that their memory stays within the memory limit.
+/// batches of blocks on `options.threads` threads (16 blocks per thread at
+/// a time, fewer when their memory would pass the memory limit).
 ///
 /// # Errors
 ///
@@ -98,21 +106,25 @@ pub fn decompress_with_options(data: &[u8], options: &DecodeOptions) -> Result<V
     let limits = *options.get_limits();
     let mut reader = ContainerReader::new(data, limits, options.get_trailing());
     let mut out = Vec::new();
-    let mut buf = Vec::new();
+    // Payload buffers, reused from batch to batch.
+    let mut spare: Vec<Vec<u8>> = Vec::new();
     loop {
         let header = reader.header()?;
         let need = header.preset.memory_needed(header.block_size).max(1);
         let fit = usize::try_from(limits.memory_limit() / need).unwrap_or(usize::MAX);
-        let batch = (2 * workers.count()).min(fit).max(1);
+        // The output is in memory anyway: large batches keep all threads
+        // busy, within the memory limit.
+        let batch = (16 * workers.count()).min(fit).max(1);
         let mut items: Vec<(Preset, BlockFrame, Vec<u8>)> = Vec::with_capacity(batch);
         // A read error is reported after the blocks before it, so that the
         // first damage in stream order is the one reported.
         let mut stop = None;
         while items.len() < batch {
+            let mut buf = spare.pop().unwrap_or_default();
             match reader.next_block(&mut buf) {
                 Ok(Some(frame)) => {
                     let preset = reader.header()?.preset;
-                    items.push((preset, frame, core::mem::take(&mut buf)));
+                    items.push((preset, frame, buf));
                 }
                 Ok(None) => break,
                 Err(e) => {
@@ -124,12 +136,23 @@ pub fn decompress_with_options(data: &[u8], options: &DecodeOptions) -> Result<V
         if items.is_empty() {
             return stop.map_or(Ok(out), Err);
         }
-        let decoded = workers.map(items, |(preset, frame, mut payload)| {
-            let mut raw = Vec::new();
-            decode_payload(&preset, &frame, &mut payload, &mut raw).map(|()| raw)
+        // Blocks decode straight into their place in the output (their
+        // lengths passed the block size and total limits).
+        let start = out.len();
+        let len: u64 = items.iter().map(|(_, f, _)| f.raw_len).sum();
+        out.resize(start + len as usize, 0);
+        let mut rest = &mut out[start..];
+        let mut jobs = Vec::with_capacity(items.len());
+        for (preset, frame, payload) in items {
+            let (slot, tail) = rest.split_at_mut(frame.raw_len as usize);
+            rest = tail;
+            jobs.push((preset, frame, payload, slot));
+        }
+        let results = workers.map(jobs, |(preset, frame, payload, slot)| {
+            decode_payload_into(&preset, &frame, &payload, slot).map(|()| payload)
         });
-        for raw in decoded {
-            out.extend_from_slice(&raw?);
+        for r in results {
+            spare.push(r?);
         }
         if let Some(e) = stop {
             return Err(e);
