@@ -4,6 +4,7 @@
 //!
 //! The containers are built by hand from the layout in `docs/FORMAT.md`
 //! (vints, CRC-32 fields), which also checks the document against the code.
+#![cfg(feature = "std")]
 
 use std::alloc::{GlobalAlloc, Layout, System};
 use std::io::Read;

@@ -1,6 +1,7 @@
 //! Damage: truncation at every offset and every single-bit flip of a sample
 //! container are reported as errors and never yield wrong bytes; CRC-32
 //! detects bursts; the inspector reports damage block by block.
+#![cfg(feature = "std")]
 
 use std::io::Read;
 

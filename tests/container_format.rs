@@ -2,6 +2,7 @@
 //! to 6), checked against what the crate writes: if the document and the
 //! code disagree, this fails. It shares no code with the crate; it is
 //! deliberately plain and slow.
+#![cfg(feature = "std")]
 
 use subrange::preset::Preset;
 use subrange::{compress, Options};

@@ -1,6 +1,7 @@
 //! Misbehaving readers and writers: short writes, zero-length writes,
 //! failures mid-stream, one-byte reads, `Interrupted`. Errors must surface
 //! and nothing may panic.
+#![cfg(feature = "std")]
 
 use std::io::{self, Read, Write};
 

@@ -1,6 +1,7 @@
 //! Round trips through the container: adapters with random write and read
 //! sizes, every preset, parallel and single-threaded coding, empty input,
 //! concatenation and trailing data.
+#![cfg(feature = "std")]
 
 use std::io::{BufRead, Read, Write};
 
