@@ -80,11 +80,24 @@ extern crate std;
 pub mod coder;
 pub mod corpus;
 mod error;
+#[cfg(feature = "std")]
+pub mod format;
 pub mod model;
 pub mod mq;
+#[cfg(feature = "std")]
+pub mod preset;
 pub mod prime;
+#[cfg(feature = "std")]
+pub mod stream;
+#[cfg(feature = "std")]
+mod vint;
 
 pub use error::{Error, ErrorKind, Result};
+#[cfg(feature = "std")]
+pub use stream::{
+    compress, compress_reader, decompress, decompress_with_limits, Compressor, Decompressor,
+    Options,
+};
 
 #[cfg(doctest)]
 #[doc = include_str!("../README.md")]
