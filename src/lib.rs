@@ -60,6 +60,33 @@
 //! # }
 //! ```
 //!
+//! # Example: compress a stream into a container
+//!
+//! ```
+//! # #[cfg(feature = "std")]
+//! # fn main() -> Result<(), subrange::Error> {
+//! use subrange::{compress, decompress, Options};
+//!
+//! let frames = subrange::corpus::gauge_binary(3, 20_000);
+//! let packed = compress(&frames, &Options::new())?;
+//! assert_eq!(decompress(&packed)?, frames);
+//! # Ok(())
+//! # }
+//! # #[cfg(not(feature = "std"))]
+//! # fn main() {}
+//! ```
+//!
+//! # Cautions
+//!
+//! - Compression is not encryption.
+//! - Compressing secrets together with attacker-chosen data in one stream
+//!   leaks information through the output size.
+//! - Verify a round trip before deleting originals.
+//! - A user model must compute bit-identical probabilities on both sides.
+//! - This release reads and writes container format version 1 (see
+//!   `docs/FORMAT.md`) and snapshot version 1; newer releases of the same
+//!   major version keep reading them.
+//!
 //! # Crate features
 //!
 //! - `std` (default): `std::io` sinks and sources, [`std::error::Error`]
@@ -80,11 +107,24 @@ extern crate std;
 pub mod coder;
 pub mod corpus;
 mod error;
+#[cfg(feature = "std")]
+pub mod format;
 pub mod model;
 pub mod mq;
+#[cfg(feature = "std")]
+pub mod preset;
 pub mod prime;
+#[cfg(feature = "std")]
+pub mod stream;
+#[cfg(feature = "std")]
+mod vint;
 
 pub use error::{Error, ErrorKind, Result};
+#[cfg(feature = "std")]
+pub use stream::{
+    compress, compress_reader, decompress, decompress_with_limits, Compressor, Decompressor,
+    Options,
+};
 
 #[cfg(doctest)]
 #[doc = include_str!("../README.md")]

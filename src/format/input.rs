@@ -1,0 +1,215 @@
+//! Exact, offset-counting reads from the underlying [`Read`].
+//!
+//! The container reader never reads past what the format tells it to: frame
+//! fields are read one byte at a time (a few bytes per block) and payloads
+//! with reads of the declared length, so when the end record has been read
+//! the inner reader is positioned just after it. `Interrupted` is retried;
+//! an end of input is reported as [`ErrorKind::Truncated`] with the exact
+//! offset. A payload buffer grows with the bytes that actually arrive
+//! (in steps of at most 1 MiB), so a truncated stream that declares a large
+//! block does not make the reader reserve the whole declared length first.
+
+use std::io::{self, Read};
+use std::vec::Vec;
+
+use crate::error::{ErrorKind, Result};
+use crate::vint::{read_vint, VintError};
+
+/// Largest step by which a payload buffer grows ahead of the data.
+const GROW_STEP: usize = 1 << 20;
+
+#[derive(Debug)]
+pub(crate) struct Input<R> {
+    inner: R,
+    offset: u64,
+    peeked: Option<u8>,
+    /// Bytes of the frame being read, for its check value.
+    captured: Vec<u8>,
+}
+
+impl<R: Read> Input<R> {
+    pub(crate) fn new(inner: R) -> Self {
+        Input {
+            inner,
+            offset: 0,
+            peeked: None,
+            captured: Vec::with_capacity(32),
+        }
+    }
+
+    /// Bytes consumed so far.
+    pub(crate) fn offset(&self) -> u64 {
+        self.offset
+    }
+
+    pub(crate) fn get_ref(&self) -> &R {
+        &self.inner
+    }
+
+    pub(crate) fn get_mut(&mut self) -> &mut R {
+        &mut self.inner
+    }
+
+    pub(crate) fn into_inner(self) -> R {
+        self.inner
+    }
+
+    /// Starts capturing frame bytes afresh.
+    pub(crate) fn start_capture(&mut self) {
+        self.captured.clear();
+    }
+
+    /// The bytes read since [`start_capture`](Input::start_capture).
+    pub(crate) fn captured(&self) -> &[u8] {
+        &self.captured
+    }
+
+    /// The next byte, or `None` at the end of input (not captured).
+    pub(crate) fn try_byte(&mut self) -> Result<Option<u8>> {
+        if let Some(b) = self.peeked.take() {
+            self.offset += 1;
+            return Ok(Some(b));
+        }
+        let mut b = [0u8; 1];
+        loop {
+            match self.inner.read(&mut b) {
+                Ok(0) => return Ok(None),
+                Ok(_) => {
+                    self.offset += 1;
+                    return Ok(Some(b[0]));
+                }
+                Err(e) if e.kind() == io::ErrorKind::Interrupted => continue,
+                Err(e) => return Err(e.into()),
+            }
+        }
+    }
+
+    /// Whether input remains; reads at most one byte ahead and keeps it.
+    pub(crate) fn at_end(&mut self) -> Result<bool> {
+        if self.peeked.is_some() {
+            return Ok(false);
+        }
+        match self.try_byte()? {
+            Some(b) => {
+                self.offset -= 1;
+                self.peeked = Some(b);
+                Ok(false)
+            }
+            None => Ok(true),
+        }
+    }
+
+    fn truncated(&self) -> crate::Error {
+        ErrorKind::Truncated {
+            offset: self.offset,
+        }
+        .into()
+    }
+
+    /// The next byte, captured; the end of input is an error.
+    pub(crate) fn byte(&mut self) -> Result<u8> {
+        let b = self.try_byte()?.ok_or_else(|| self.truncated())?;
+        self.captured.push(b);
+        Ok(b)
+    }
+
+    /// A little-endian `u32`, captured.
+    pub(crate) fn u32_le(&mut self) -> Result<u32> {
+        let mut v = [0u8; 4];
+        for b in &mut v {
+            *b = self.byte()?;
+        }
+        Ok(u32::from_le_bytes(v))
+    }
+
+    /// A vint, captured. `what` names the field for a malformed one.
+    pub(crate) fn vint(&mut self, what: &'static str) -> Result<u64> {
+        let start = self.offset;
+        let mut failure = None;
+        let v = read_vint(|| match self.byte() {
+            Ok(b) => Some(b),
+            Err(e) => {
+                failure = Some(e);
+                None
+            }
+        });
+        match v {
+            Ok(v) => Ok(v),
+            Err(_) if failure.is_some() => Err(failure.unwrap_or_else(|| self.truncated())),
+            Err(VintError::Truncated) => Err(self.truncated()),
+            Err(VintError::Malformed) => Err(ErrorKind::CorruptStream {
+                offset: start,
+                reason: what,
+            }
+            .into()),
+        }
+    }
+
+    /// Replaces `buf` with the next `len` bytes (not captured).
+    pub(crate) fn fill(&mut self, buf: &mut Vec<u8>, len: usize) -> Result<()> {
+        buf.clear();
+        if let Some(b) = self.peeked.take() {
+            if len == 0 {
+                self.peeked = Some(b);
+                return Ok(());
+            }
+            buf.push(b);
+            self.offset += 1;
+        }
+        while buf.len() < len {
+            let have = buf.len();
+            let want = (len - have).min(GROW_STEP);
+            buf.resize(have + want, 0);
+            let mut got = 0;
+            while got < want {
+                match self.inner.read(&mut buf[have + got..have + want]) {
+                    Ok(0) => {
+                        buf.truncate(have + got);
+                        return Err(self.truncated());
+                    }
+                    Ok(n) => {
+                        got += n;
+                        self.offset += n as u64;
+                    }
+                    Err(e) if e.kind() == io::ErrorKind::Interrupted => continue,
+                    Err(e) => {
+                        buf.truncate(have + got);
+                        return Err(e.into());
+                    }
+                }
+            }
+        }
+        Ok(())
+    }
+
+    /// Counts the bytes left, reading at most `max` of them.
+    pub(crate) fn count_rest(&mut self, max: u64) -> Result<u64> {
+        let mut n = 0;
+        while n < max && self.try_byte()?.is_some() {
+            n += 1;
+        }
+        Ok(n)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn exact_reads_and_offsets() {
+        let data = [1u8, 0xAC, 0x02, 9, 8, 7, 6, 5];
+        let mut input = Input::new(&data[..]);
+        input.start_capture();
+        assert_eq!(input.byte().unwrap(), 1);
+        assert_eq!(input.vint("x").unwrap(), 300);
+        assert_eq!(input.captured(), &[1, 0xAC, 0x02]);
+        assert!(!input.at_end().unwrap());
+        let mut buf = Vec::new();
+        input.fill(&mut buf, 4).unwrap();
+        assert_eq!(buf, [9, 8, 7, 6]);
+        assert_eq!(input.offset(), 7);
+        let err = input.fill(&mut buf, 2).unwrap_err();
+        assert!(matches!(err.kind(), ErrorKind::Truncated { offset: 8 }));
+    }
+}

@@ -1,0 +1,585 @@
+//! Presets: the named model combinations a container records and rebuilds.
+//!
+//! A container header names one preset by its numeric id and lists its
+//! parameters as small integers; every block is then coded and decoded by
+//! that preset alone, so a reader needs nothing but the header to rebuild the
+//! models. Presets here:
+//!
+//! - `static` (id 1): per block, a [`TableModel`](crate::model::TableModel)
+//!   quantised from the block's byte histogram; the table is stored in the
+//!   block and the bytes are coded over interleaved lanes
+//!   ([`encode_interleaved`](crate::coder::encode_interleaved)). Fast in both
+//!   directions; wins on memoryless, skewed data.
+//! - `adaptive` (id 2): an [`AdaptiveModel`](crate::model::AdaptiveModel)
+//!   over 256 symbols, restarted at every block, one coder lane; no table to
+//!   store, follows drifting statistics.
+//!
+//! Invariant: [`Preset::decode_block`] with the parameters read back from a
+//! header inverts [`Preset::encode_block`] exactly, on every platform (no
+//! floating point, no platform-sized integers in the payload), and a preset's
+//! id, name, parameter list and payload layout never change once released:
+//! a new behaviour gets a new id.
+//!
+//! # Adding a preset
+//!
+//! A preset is a [`PresetKind`] variant plus one match arm in each of
+//! [`PresetKind::id`], [`PresetKind::name`], [`PresetKind::summary`],
+//! [`PresetKind::param_specs`], `check_params`, [`Preset::encode_block`],
+//! `Preset::decode_into` (which [`Preset::decode_block`] calls) and
+//! [`Preset::memory_needed`], and an entry in
+//! [`PresetKind::ALL`] and in `NAME_LIST`. Parameters are up to
+//! [`MAX_PARAMS`] integers described by [`ParamSpec`]s (name, default,
+//! range); a block codec with functions such as
+//! `encode(data, &params) -> Result<Vec<u8>>`,
+//! `decode(coded, raw_len, &params) -> Result<Vec<u8>>` and
+//! `memory_needed(&params) -> u64` plugs straight into those arms, reading
+//! its parameters with [`Preset::params`] (a `decode` that returns a `Vec`
+//! is copied into `decode_into`'s slice after checking its length). Its payload layout goes into
+//! `docs/FORMAT.md`. The tests iterate [`Preset::all`], so a new preset is
+//! covered by the container round-trip and damage tests automatically.
+
+mod adaptive_codec;
+mod static_codec;
+
+use alloc::vec::Vec;
+use core::fmt;
+
+use crate::error::{ErrorKind, Result};
+
+/// Most parameters a preset may have.
+pub const MAX_PARAMS: usize = 8;
+
+/// Valid preset names, for messages (a unit test keeps it in step with
+/// [`PresetKind::ALL`]).
+const NAME_LIST: &str = "unknown preset name: expected one of static, adaptive";
+
+/// One integer parameter of a preset: its name, default and valid range.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct ParamSpec {
+    /// Name, as used by [`Preset::set_param`] (e.g. `increment`).
+    pub name: &'static str,
+    /// The value a new preset starts with.
+    pub default: u32,
+    /// Smallest valid value.
+    pub min: u32,
+    /// Largest valid value.
+    pub max: u32,
+    /// What the parameter does, one line.
+    pub help: &'static str,
+}
+
+/// Which preset: the part of a [`Preset`] that is not a parameter.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+#[non_exhaustive]
+pub enum PresetKind {
+    /// A table model per block, stored in the block, coded over lanes.
+    Static,
+    /// An adaptive order-0 model restarted at each block.
+    Adaptive,
+}
+
+const STATIC_PARAMS: &[ParamSpec] = &[
+    ParamSpec {
+        name: "lanes",
+        default: 4,
+        min: 1,
+        max: crate::coder::MAX_LANES as u32,
+        help: "interleaved coder lanes per block (blocks under 1 KiB per lane use fewer)",
+    },
+    ParamSpec {
+        name: "log2_total",
+        default: 12,
+        min: 8,
+        max: 16,
+        help: "largest table total, as a power of two (small blocks use smaller totals)",
+    },
+];
+
+const ADAPTIVE_PARAMS: &[ParamSpec] = &[
+    ParamSpec {
+        name: "increment",
+        default: 24,
+        min: 1,
+        max: 8192,
+        help: "added to a byte's count each time it is coded",
+    },
+    ParamSpec {
+        name: "limit",
+        default: 65_536,
+        min: 261,
+        max: 65_536,
+        help: "counts are halved when the total would pass this (at least 257 + 4 x increment)",
+    },
+];
+
+impl PresetKind {
+    /// Every preset kind this release knows, in id order.
+    pub const ALL: &'static [PresetKind] = &[PresetKind::Static, PresetKind::Adaptive];
+
+    /// The id recorded in a container header.
+    pub fn id(self) -> u32 {
+        match self {
+            PresetKind::Static => 1,
+            PresetKind::Adaptive => 2,
+        }
+    }
+
+    /// The preset's name (`static`, `adaptive`).
+    pub fn name(self) -> &'static str {
+        match self {
+            PresetKind::Static => "static",
+            PresetKind::Adaptive => "adaptive",
+        }
+    }
+
+    /// One line on what the preset does, for help texts.
+    pub fn summary(self) -> &'static str {
+        match self {
+            PresetKind::Static => {
+                "table model per block from its byte histogram, interleaved lanes; fastest"
+            }
+            PresetKind::Adaptive => "adaptive order-0 model per block; no stored table",
+        }
+    }
+
+    /// The preset's parameters, in the order a header records them.
+    pub fn param_specs(self) -> &'static [ParamSpec] {
+        match self {
+            PresetKind::Static => STATIC_PARAMS,
+            PresetKind::Adaptive => ADAPTIVE_PARAMS,
+        }
+    }
+
+    /// The kind with this header id.
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::UnknownPreset`] for an id this release does not know.
+    pub fn from_id(id: u32) -> Result<Self> {
+        Self::ALL
+            .iter()
+            .copied()
+            .find(|k| k.id() == id)
+            .ok_or_else(|| ErrorKind::UnknownPreset { id }.into())
+    }
+
+    /// The kind with this name (exact, lower case).
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::InvalidParameter`] naming the valid presets.
+    pub fn from_name(name: &str) -> Result<Self> {
+        Self::ALL
+            .iter()
+            .copied()
+            .find(|k| k.name() == name)
+            .ok_or_else(|| {
+                ErrorKind::InvalidParameter {
+                    name: "preset",
+                    reason: NAME_LIST,
+                }
+                .into()
+            })
+    }
+}
+
+/// A preset with its parameters: everything needed to code and decode the
+/// blocks of a container.
+///
+/// # Example
+///
+/// ```
+/// use subrange::preset::Preset;
+///
+/// # fn main() -> Result<(), subrange::Error> {
+/// let mut preset = Preset::from_name("adaptive")?;
+/// preset.set_param("increment", 32)?;
+/// let reading = b"G107,1440,212,1123,94\nG107,1450,213,1134,94\n";
+/// let payload = preset.encode_block(reading)?;
+/// let mut back = Vec::new();
+/// preset.decode_block(&payload, reading.len(), &mut back)?;
+/// assert_eq!(back, reading);
+/// assert_eq!(preset.to_string(), "adaptive(increment=32, limit=65536)");
+/// # Ok(())
+/// # }
+/// ```
+#[derive(Clone, Copy, PartialEq, Eq, Hash)]
+pub struct Preset {
+    kind: PresetKind,
+    values: [u32; MAX_PARAMS],
+}
+
+impl Default for Preset {
+    /// The `static` preset with default parameters.
+    fn default() -> Self {
+        Preset::new(PresetKind::Static)
+    }
+}
+
+impl Preset {
+    /// The preset `kind` with default parameters.
+    pub fn new(kind: PresetKind) -> Self {
+        let mut values = [0u32; MAX_PARAMS];
+        for (v, spec) in values.iter_mut().zip(kind.param_specs()) {
+            *v = spec.default;
+        }
+        Preset { kind, values }
+    }
+
+    /// The preset called `name`, with default parameters.
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::InvalidParameter`] for an unknown name; its message lists
+    /// the valid ones.
+    ///
+    /// # Example
+    ///
+    /// ```
+    /// use subrange::preset::Preset;
+    ///
+    /// assert_eq!(Preset::from_name("static").unwrap().id(), 1);
+    /// let err = Preset::from_name("fastest").unwrap_err();
+    /// assert!(err.to_string().contains("static, adaptive"));
+    /// ```
+    pub fn from_name(name: &str) -> Result<Self> {
+        PresetKind::from_name(name).map(Preset::new)
+    }
+
+    /// Rebuilds a preset from a header's id and parameter list.
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::UnknownPreset`] for an unknown id;
+    /// [`ErrorKind::LimitExceeded`] for a parameter above its maximum;
+    /// [`ErrorKind::InvalidParameter`] for a wrong number of parameters, a
+    /// value below its minimum, or values that do not fit together.
+    pub fn from_id(id: u32, params: &[u32]) -> Result<Self> {
+        let kind = PresetKind::from_id(id)?;
+        let specs = kind.param_specs();
+        if params.len() != specs.len() {
+            return Err(ErrorKind::InvalidParameter {
+                name: "preset parameters",
+                reason: "wrong number of parameters for this preset",
+            }
+            .into());
+        }
+        let mut values = [0u32; MAX_PARAMS];
+        for ((v, &p), spec) in values.iter_mut().zip(params).zip(specs) {
+            if p > spec.max {
+                return Err(ErrorKind::LimitExceeded {
+                    what: spec.name,
+                    declared: p.into(),
+                    limit: spec.max.into(),
+                }
+                .into());
+            }
+            if p < spec.min {
+                return Err(out_of_range(spec.name));
+            }
+            *v = p;
+        }
+        let preset = Preset { kind, values };
+        preset.check_params()?;
+        Ok(preset)
+    }
+
+    /// Every preset this release knows, with default parameters.
+    ///
+    /// # Example
+    ///
+    /// ```
+    /// let names: Vec<&str> = subrange::preset::Preset::all().map(|p| p.name()).collect();
+    /// assert!(names.contains(&"adaptive"));
+    /// ```
+    pub fn all() -> impl Iterator<Item = Preset> {
+        PresetKind::ALL.iter().map(|&k| Preset::new(k))
+    }
+
+    /// The names of every preset, for command-line help.
+    pub fn names() -> impl Iterator<Item = &'static str> {
+        PresetKind::ALL.iter().map(|k| k.name())
+    }
+
+    /// Which preset this is.
+    pub fn kind(&self) -> PresetKind {
+        self.kind
+    }
+
+    /// The id recorded in a container header.
+    pub fn id(&self) -> u32 {
+        self.kind.id()
+    }
+
+    /// The preset's name.
+    pub fn name(&self) -> &'static str {
+        self.kind.name()
+    }
+
+    /// The parameter values, in the order of
+    /// [`param_specs`](Preset::param_specs).
+    pub fn params(&self) -> &[u32] {
+        &self.values[..self.kind.param_specs().len()]
+    }
+
+    /// The parameter descriptions.
+    pub fn param_specs(&self) -> &'static [ParamSpec] {
+        self.kind.param_specs()
+    }
+
+    /// The value of the parameter called `name`.
+    pub fn param(&self, name: &str) -> Option<u32> {
+        let i = self.param_specs().iter().position(|s| s.name == name)?;
+        Some(self.values[i])
+    }
+
+    /// Sets the parameter called `name`.
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::InvalidParameter`] for an unknown name, a value outside
+    /// the parameter's range, or one that does not fit with the others (the
+    /// preset is then unchanged).
+    ///
+    /// # Example
+    ///
+    /// ```
+    /// use subrange::preset::Preset;
+    ///
+    /// let mut p = Preset::from_name("static").unwrap();
+    /// p.set_param("lanes", 8).unwrap();
+    /// assert_eq!(p.param("lanes"), Some(8));
+    /// assert!(p.set_param("lanes", 99).is_err());
+    /// ```
+    pub fn set_param(&mut self, name: &str, value: u32) -> Result<&mut Self> {
+        let specs = self.param_specs();
+        let i = specs
+            .iter()
+            .position(|s| s.name == name)
+            .ok_or(ErrorKind::InvalidParameter {
+                name: "preset parameter",
+                reason: "this preset has no parameter of that name",
+            })?;
+        if value < specs[i].min || value > specs[i].max {
+            return Err(out_of_range(specs[i].name));
+        }
+        let mut next = *self;
+        next.values[i] = value;
+        next.check_params()?;
+        *self = next;
+        Ok(self)
+    }
+
+    /// Rules between parameters that [`ParamSpec`] ranges cannot express.
+    fn check_params(&self) -> Result<()> {
+        match self.kind {
+            PresetKind::Static => Ok(()),
+            PresetKind::Adaptive => adaptive_codec::check(self.params()),
+        }
+    }
+
+    /// Codes one block of raw bytes into the preset's payload.
+    ///
+    /// An empty block gives an empty payload.
+    ///
+    /// # Errors
+    ///
+    /// Only for internal failures of a model (none are expected for valid
+    /// parameters).
+    pub fn encode_block(&self, raw: &[u8]) -> Result<Vec<u8>> {
+        if raw.is_empty() {
+            return Ok(Vec::new());
+        }
+        match self.kind {
+            PresetKind::Static => static_codec::encode(raw, self.params()),
+            PresetKind::Adaptive => adaptive_codec::encode(raw, self.params()),
+        }
+    }
+
+    /// Decodes a payload made by [`encode_block`](Preset::encode_block) into
+    /// `out`, replacing its contents with the `raw_len` decoded bytes.
+    ///
+    /// `raw_len` is taken as given: check it against your limits first (the
+    /// container reader does); an allocation that fails is reported, not
+    /// aborted on.
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::CorruptStream`] (offset within the payload),
+    /// [`ErrorKind::CorruptTable`], [`ErrorKind::Truncated`] or
+    /// [`ErrorKind::TrailingBytes`] when the payload is not one this preset
+    /// produced for `raw_len` bytes; [`ErrorKind::LimitExceeded`] when it
+    /// declares a table over the format's limit or `raw_len` bytes cannot be
+    /// allocated.
+    pub fn decode_block(&self, payload: &[u8], raw_len: usize, out: &mut Vec<u8>) -> Result<()> {
+        out.clear();
+        if raw_len == 0 {
+            if !payload.is_empty() {
+                return Err(corrupt(0, "payload of an empty block is not empty"));
+            }
+            return Ok(());
+        }
+        out.try_reserve_exact(raw_len)
+            .map_err(|_| ErrorKind::LimitExceeded {
+                what: "decoded block length (allocation failed)",
+                declared: raw_len as u64,
+                limit: 0,
+            })?;
+        out.resize(raw_len, 0);
+        let r = self.decode_into(payload, out);
+        if r.is_err() {
+            out.clear();
+        }
+        r
+    }
+
+    /// Decodes a payload into `out`, whose length is the block's raw length
+    /// (the one-shot decoder writes blocks straight into its output).
+    pub(crate) fn decode_into(&self, payload: &[u8], out: &mut [u8]) -> Result<()> {
+        if out.is_empty() {
+            if !payload.is_empty() {
+                return Err(corrupt(0, "payload of an empty block is not empty"));
+            }
+            return Ok(());
+        }
+        match self.kind {
+            PresetKind::Static => static_codec::decode(payload, self.params(), out),
+            PresetKind::Adaptive => adaptive_codec::decode(payload, self.params(), out),
+        }
+    }
+
+    /// Bytes of memory needed to decode one block of `block_size` raw bytes:
+    /// output and payload buffers plus model state. A reader compares it with
+    /// its memory limit before allocating anything.
+    ///
+    /// # Example
+    ///
+    /// ```
+    /// use subrange::preset::Preset;
+    ///
+    /// let p = Preset::from_name("static").unwrap();
+    /// assert!(p.memory_needed(1 << 20) >= 2 << 20);
+    /// ```
+    pub fn memory_needed(&self, block_size: u64) -> u64 {
+        let buffers = block_size.saturating_mul(2);
+        let model = match self.kind {
+            PresetKind::Static => static_codec::model_memory(self.params()),
+            PresetKind::Adaptive => adaptive_codec::model_memory(),
+        };
+        buffers.saturating_add(model)
+    }
+}
+
+impl fmt::Debug for Preset {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        fmt::Display::fmt(self, f)
+    }
+}
+
+/// `name(param=value, ...)`.
+impl fmt::Display for Preset {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{}(", self.name())?;
+        for (i, (spec, v)) in self.param_specs().iter().zip(self.params()).enumerate() {
+            if i > 0 {
+                f.write_str(", ")?;
+            }
+            write!(f, "{}={}", spec.name, v)?;
+        }
+        f.write_str(")")
+    }
+}
+
+fn out_of_range(name: &'static str) -> crate::Error {
+    ErrorKind::InvalidParameter {
+        name,
+        reason: "outside the parameter's range (see Preset::param_specs)",
+    }
+    .into()
+}
+
+/// A payload-level damage report: `offset` is within the payload.
+pub(crate) fn corrupt(offset: usize, reason: &'static str) -> crate::Error {
+    ErrorKind::CorruptStream {
+        offset: offset as u64,
+        reason,
+    }
+    .into()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use alloc::string::ToString;
+    use alloc::vec;
+
+    #[test]
+    fn name_list_names_every_preset() {
+        let listed = NAME_LIST.rsplit("one of ").next().unwrap();
+        let names: Vec<&str> = listed.split(", ").collect();
+        assert_eq!(names, Preset::names().collect::<Vec<_>>());
+    }
+
+    #[test]
+    fn ids_and_names_are_unique_and_params_fit() {
+        for (i, a) in PresetKind::ALL.iter().enumerate() {
+            assert!(a.param_specs().len() <= MAX_PARAMS);
+            for spec in a.param_specs() {
+                assert!(spec.min <= spec.default && spec.default <= spec.max);
+            }
+            assert!(Preset::new(*a).check_params().is_ok());
+            for b in &PresetKind::ALL[i + 1..] {
+                assert_ne!(a.id(), b.id());
+                assert_ne!(a.name(), b.name());
+            }
+        }
+    }
+
+    #[test]
+    fn from_id_checks_everything() {
+        assert!(matches!(
+            Preset::from_id(77, &[]).unwrap_err().kind(),
+            ErrorKind::UnknownPreset { id: 77 }
+        ));
+        assert!(Preset::from_id(1, &[4]).is_err());
+        assert!(matches!(
+            Preset::from_id(1, &[17, 12]).unwrap_err().kind(),
+            ErrorKind::LimitExceeded { .. }
+        ));
+        assert!(Preset::from_id(1, &[0, 12]).is_err());
+        // increment 8192 needs a limit of at least 257 + 4 * 8192.
+        assert!(Preset::from_id(2, &[8192, 20_000]).is_err());
+        assert_eq!(
+            Preset::from_id(2, &[24, 65_536]).unwrap(),
+            Preset::new(PresetKind::Adaptive)
+        );
+    }
+
+    #[test]
+    fn every_preset_round_trips_small_blocks() {
+        let data: Vec<u8> = (0..3000u32).map(|i| (i * i % 251) as u8).collect();
+        for p in Preset::all() {
+            for len in [0usize, 1, 2, 5, 100, 1023, 1024, 3000] {
+                let payload = p.encode_block(&data[..len]).unwrap();
+                let mut out = vec![9u8; 3];
+                p.decode_block(&payload, len, &mut out).unwrap();
+                assert_eq!(out, &data[..len], "{p} {len}");
+            }
+        }
+    }
+
+    #[test]
+    fn empty_and_missing_payloads_are_errors() {
+        let data = b"level 212 flow 1123 temp 94".to_vec();
+        for p in Preset::all() {
+            let payload = p.encode_block(&data).unwrap();
+            let mut out = Vec::new();
+            assert!(p.decode_block(&payload, 0, &mut out).is_err());
+            assert!(p.decode_block(&[], 5, &mut out).is_err(), "{p}");
+        }
+        assert_eq!(
+            Preset::default().to_string(),
+            "static(lanes=4, log2_total=12)"
+        );
+    }
+}

@@ -1,0 +1,159 @@
+//! The `static` preset's block codec: a table model per block over
+//! interleaved lanes.
+//!
+//! Encoding counts the block's bytes, quantises the counts to a table with a
+//! total of `2^k` (`k` grows with the block length up to the `log2_total`
+//! parameter: small blocks get small totals, whose tables cost fewer bytes),
+//! and codes the bytes with that table over `n` lanes, `n` being the `lanes`
+//! parameter, reduced so that every lane has at least 1 KiB (each lane costs
+//! up to four flush bytes and a length field).
+//!
+//! Payload: `lanes: u8`, `table_len: vint`, the table (as
+//! [`TableModel::to_bytes`] writes it), `lanes - 1` lane lengths as vints,
+//! then the lane streams back to back (the last lane takes the rest).
+//!
+//! Invariant: the decoder accepts exactly the payloads the encoder can make
+//! for some block, up to the range coder's own slack: the table must be in
+//! its canonical form and fill `table_len` exactly, the lane lengths must fit
+//! the payload, and every lane must be consumed exactly.
+
+use alloc::vec::Vec;
+
+use crate::coder::{decode_table_lanes, encode_table_lanes};
+use crate::error::{ErrorKind, Result};
+use crate::model::TableModel;
+use crate::preset::corrupt;
+use crate::vint::{put_vint, Cursor};
+
+/// Largest table a block may declare, in bytes. A 256-symbol table takes at
+/// most about 1.1 KiB (three header codes and two codes of at most 33 bits
+/// per symbol).
+pub(crate) const MAX_TABLE_BYTES: u64 = 4096;
+
+/// Least bytes per lane before another lane is used.
+const LANE_MIN_BYTES: usize = 1024;
+
+fn table_log2(len: usize, cap: u32) -> u32 {
+    let bits = usize::BITS - len.leading_zeros();
+    bits.saturating_sub(4).clamp(8, cap)
+}
+
+fn lanes_for(len: usize, max_lanes: u32) -> usize {
+    (len / LANE_MIN_BYTES).clamp(1, max_lanes as usize)
+}
+
+pub(crate) fn encode(raw: &[u8], params: &[u32]) -> Result<Vec<u8>> {
+    let (max_lanes, cap) = (params[0], params[1]);
+    let model = TableModel::from_bytes_histogram(raw, table_log2(raw.len(), cap))?;
+    let lanes = lanes_for(raw.len(), max_lanes);
+    let streams = encode_table_lanes(&model, raw, lanes)?;
+    let table = model.to_bytes();
+    let coded: usize = streams.iter().map(Vec::len).sum();
+    let mut out = Vec::with_capacity(coded + table.len() + 8 * lanes);
+    out.push(lanes as u8);
+    put_vint(&mut out, table.len() as u64);
+    out.extend_from_slice(&table);
+    for s in &streams[..lanes - 1] {
+        put_vint(&mut out, s.len() as u64);
+    }
+    for s in &streams {
+        out.extend_from_slice(s);
+    }
+    Ok(out)
+}
+
+pub(crate) fn decode(payload: &[u8], params: &[u32], out: &mut [u8]) -> Result<()> {
+    let (max_lanes, cap) = (params[0], params[1]);
+    let mut cur = Cursor::new(payload);
+    let lanes = cur.byte().ok_or_else(|| corrupt(0, "payload is empty"))?;
+    if lanes == 0 || u32::from(lanes) > max_lanes {
+        return Err(corrupt(0, "lane count outside 1 ..= the preset's lanes"));
+    }
+    let at = cur.position();
+    let table_len = cur
+        .vint()
+        .map_err(|_| corrupt(at, "malformed table length"))?;
+    if table_len > MAX_TABLE_BYTES {
+        return Err(ErrorKind::LimitExceeded {
+            what: "model table size",
+            declared: table_len,
+            limit: MAX_TABLE_BYTES,
+        }
+        .into());
+    }
+    let at = cur.position();
+    let table = cur
+        .take(table_len)
+        .ok_or_else(|| corrupt(at, "table runs past the payload"))?;
+    let (model, used) = TableModel::from_table_bytes(table, 256)?;
+    if used != table.len() || model.frequencies().len() != 256 || model.to_bytes() != table {
+        return Err(corrupt(at, "model table is not in canonical form"));
+    }
+    if model.log2_total() > cap {
+        return Err(corrupt(at, "table total above the preset's log2_total"));
+    }
+    let mut lens = [0u64; crate::coder::MAX_LANES];
+    for len in lens.iter_mut().take(usize::from(lanes) - 1) {
+        let at = cur.position();
+        *len = cur
+            .vint()
+            .map_err(|_| corrupt(at, "malformed lane length"))?;
+    }
+    let mut views: Vec<&[u8]> = Vec::with_capacity(usize::from(lanes));
+    for &len in &lens[..usize::from(lanes) - 1] {
+        let at = cur.position();
+        views.push(
+            cur.take(len)
+                .ok_or_else(|| corrupt(at, "lane runs past the payload"))?,
+        );
+    }
+    views.push(cur.rest());
+    decode_table_lanes(&model, &views, out)
+}
+
+/// Table model state: frequencies and cumulative counts (2 x 257 x 4 bytes),
+/// the model's slot table (2 bytes per unit of the total) and the fast
+/// decoder's packed slot table (8 bytes per unit), rounded up. The fast
+/// decoder's padded copy of the lanes is covered by the block buffers.
+pub(crate) fn model_memory(params: &[u32]) -> u64 {
+    4096 + (10u64 << params[1])
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use alloc::vec;
+
+    #[test]
+    fn totals_and_lanes_follow_the_block_length() {
+        assert_eq!(table_log2(1, 12), 8);
+        assert_eq!(table_log2(4096, 12), 9);
+        assert_eq!(table_log2(1 << 16, 12), 12);
+        assert_eq!(table_log2(1 << 20, 16), 16);
+        assert_eq!(lanes_for(10, 4), 1);
+        assert_eq!(lanes_for(2048, 4), 2);
+        assert_eq!(lanes_for(1 << 20, 4), 4);
+    }
+
+    #[test]
+    fn hostile_table_length_is_a_limit_error() {
+        let mut payload = vec![1u8];
+        put_vint(&mut payload, 1 << 40);
+        let mut out = [0u8; 10];
+        let err = decode(&payload, &[4, 12], &mut out).unwrap_err();
+        assert!(matches!(err.kind(), ErrorKind::LimitExceeded { .. }));
+    }
+
+    #[test]
+    fn non_canonical_table_is_rejected() {
+        let raw = b"river level 212 cm".to_vec();
+        let mut payload = encode(&raw, &[4, 12]).unwrap();
+        let mut out = vec![0u8; raw.len()];
+        decode(&payload, &[4, 12], &mut out).unwrap();
+        assert_eq!(out, raw);
+        // Set a padding bit in the table's last byte.
+        let table_len = payload[1] as usize;
+        payload[1 + table_len] |= 1;
+        assert!(decode(&payload, &[4, 12], &mut out).is_err());
+    }
+}

@@ -1,0 +1,257 @@
+//! One-shot and reader-to-writer helpers.
+//!
+//! [`compress`] and [`compress_reader`] run the same engine as the
+//! [`Compressor`] ([`compress`] codes all blocks in one parallel pass, as it
+//! holds input and output in memory anyway); [`decompress`] reads with the same container reader as
+//! the [`Decompressor`] but decodes batches of blocks on several threads.
+//! Output is byte-identical whatever the thread count.
+
+use std::io::{self, Read, Write};
+use std::vec::Vec;
+
+use crate::error::{Error, ErrorKind, Result};
+use crate::format::{decode_payload_into, BlockFrame, ContainerReader, DecodeLimits};
+use crate::preset::Preset;
+use crate::stream::engine::Engine;
+use crate::stream::workers::Workers;
+use crate::stream::{Compressor, DecodeOptions, Decompressor, Options};
+
+/// Turns an I/O error back into the crate error it carries, if it does.
+pub(crate) fn from_io(e: io::Error) -> Error {
+    if e.get_ref().is_some_and(|inner| inner.is::<Error>()) {
+        let inner = e.into_inner().expect("checked above");
+        return *inner.downcast::<Error>().expect("checked above");
+    }
+    Error::from(ErrorKind::Io(e))
+}
+
+/// Compresses `data` into a container in memory.
+///
+/// # Errors
+///
+/// None are expected for valid options (the error type is shared with the
+/// rest of the crate).
+///
+/// # Example
+///
+/// ```
+/// use subrange::{compress, decompress, Options};
+///
+/// # fn main() -> Result<(), subrange::Error> {
+/// let data = subrange::corpus::gauge_csv(1, 50_000);
+/// let packed = compress(&data, &Options::default())?;
+/// assert!(packed.len() < data.len() / 2);
+/// assert_eq!(decompress(&packed)?, data);
+/// # Ok(())
+/// # }
+/// ```
+pub fn compress(data: &[u8], options: &Options) -> Result<Vec<u8>> {
+    // Room for the worst case (every block stored), so the output never
+    // moves; pages not written are never touched.
+    let blocks = data.len() / options.get_block_size() + 1;
+    let bound = data.len() + 24 * blocks + 64;
+    let mut engine = Engine::new(Vec::with_capacity(bound), options);
+    engine.finish_with(data).map_err(from_io)?;
+    Ok(engine
+        .take_inner()
+        .expect("the inner writer is present until taken"))
+}
+
+/// Decompresses a whole container held in memory, with default options.
+///
+/// # Errors
+///
+/// Any damage ([`ErrorKind::CorruptBlock`], [`ErrorKind::ChecksumMismatch`],
+/// [`ErrorKind::Truncated`], [`ErrorKind::TrailingBytes`], ...), an
+/// unsupported container, or a limit exceeded; see
+/// [`decompress_with_options`].
+pub fn decompress(data: &[u8]) -> Result<Vec<u8>> {
+    decompress_with_options(data, &DecodeOptions::default())
+}
+
+/// Decompresses a container in memory, applying `limits`.
+///
+/// # Errors
+///
+/// As for [`decompress`]; [`ErrorKind::LimitExceeded`] when the container
+/// declares more than `limits` allow.
+///
+/// # Example
+///
+/// ```
+/// use subrange::format::DecodeLimits;
+/// use subrange::{compress, decompress_with_limits, ErrorKind, Options};
+///
+/// let packed = compress(&[0u8; 100_000], &Options::default()).unwrap();
+/// let mut limits = DecodeLimits::new();
+/// limits.max_total(10_000);
+/// let err = decompress_with_limits(&packed, &limits).unwrap_err();
+/// assert!(matches!(err.kind(), ErrorKind::LimitExceeded { .. }));
+/// ```
+pub fn decompress_with_limits(data: &[u8], limits: &DecodeLimits) -> Result<Vec<u8>> {
+    let mut opts = DecodeOptions::default();
+    opts.limits(*limits);
+    decompress_with_options(data, &opts)
+}
+
+/// Decompresses a container in memory with explicit options, decoding
+/// batches of blocks on `options.threads` threads (16 blocks per thread at
+/// a time, fewer when their memory would pass the memory limit).
+///
+/// # Errors
+///
+/// As for [`decompress_with_limits`].
+pub fn decompress_with_options(data: &[u8], options: &DecodeOptions) -> Result<Vec<u8>> {
+    let workers = Workers::new(options.get_threads());
+    let limits = *options.get_limits();
+    let mut reader = ContainerReader::new(data, limits, options.get_trailing());
+    let mut out = Vec::new();
+    // Payload buffers, reused from batch to batch.
+    let mut spare: Vec<Vec<u8>> = Vec::new();
+    loop {
+        let header = reader.header()?;
+        let need = header.preset.memory_needed(header.block_size).max(1);
+        let fit = usize::try_from(limits.memory_limit() / need).unwrap_or(usize::MAX);
+        // The output is in memory anyway: large batches keep all threads
+        // busy, within the memory limit.
+        let batch = (16 * workers.count()).min(fit).max(1);
+        let mut items: Vec<(Preset, BlockFrame, Vec<u8>)> = Vec::with_capacity(batch);
+        // A read error is reported after the blocks before it, so that the
+        // first damage in stream order is the one reported.
+        let mut stop = None;
+        while items.len() < batch {
+            let mut buf = spare.pop().unwrap_or_default();
+            match reader.next_block(&mut buf) {
+                Ok(Some(frame)) => {
+                    let preset = reader.header()?.preset;
+                    items.push((preset, frame, buf));
+                }
+                Ok(None) => break,
+                Err(e) => {
+                    stop = Some(e);
+                    break;
+                }
+            }
+        }
+        if items.is_empty() {
+            return stop.map_or(Ok(out), Err);
+        }
+        // Blocks decode straight into their place in the output (their
+        // lengths passed the block size and total limits).
+        let start = out.len();
+        let len: u64 = items.iter().map(|(_, f, _)| f.raw_len).sum();
+        out.resize(start + len as usize, 0);
+        let mut rest = &mut out[start..];
+        let mut jobs = Vec::with_capacity(items.len());
+        for (preset, frame, payload) in items {
+            let (slot, tail) = rest.split_at_mut(frame.raw_len as usize);
+            rest = tail;
+            jobs.push((preset, frame, payload, slot));
+        }
+        let results = workers.map(jobs, |(preset, frame, payload, slot)| {
+            decode_payload_into(&preset, &frame, &payload, slot).map(|()| payload)
+        });
+        for r in results {
+            spare.push(r?);
+        }
+        if let Some(e) = stop {
+            return Err(e);
+        }
+    }
+}
+
+/// Bytes read and written by a reader-to-writer helper.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+#[non_exhaustive]
+pub struct Totals {
+    /// Bytes read from the reader.
+    pub read: u64,
+    /// Bytes written to the writer.
+    pub written: u64,
+}
+
+/// Compresses everything `reader` gives into a container on `writer`.
+///
+/// With several threads, batches of twice as many blocks as threads are
+/// read and coded at once; memory stays bounded by that batch whatever the
+/// input length. The writer is flushed at the end.
+///
+/// # Errors
+///
+/// The reader's or writer's I/O error ([`ErrorKind::Io`]).
+///
+/// # Example
+///
+/// ```
+/// use subrange::{compress_reader, decompress, Options};
+///
+/// # fn main() -> Result<(), subrange::Error> {
+/// let data = subrange::corpus::gauge_binary(2, 30_000);
+/// let mut packed = Vec::new();
+/// let totals = compress_reader(&data[..], &mut packed, &Options::default())?;
+/// assert_eq!(totals.read, 30_000);
+/// assert_eq!(totals.written, packed.len() as u64);
+/// assert_eq!(decompress(&packed)?, data);
+/// # Ok(())
+/// # }
+/// ```
+pub fn compress_reader<R: Read, W: Write>(
+    mut reader: R,
+    writer: W,
+    options: &Options,
+) -> Result<Totals> {
+    let mut c = Compressor::new(writer, options);
+    let mut buf = std::vec![0u8; 256 << 10];
+    loop {
+        let n = match reader.read(&mut buf) {
+            Ok(0) => break,
+            Ok(n) => n,
+            Err(e) if e.kind() == io::ErrorKind::Interrupted => continue,
+            Err(e) => return Err(e.into()),
+        };
+        c.write_all(&buf[..n]).map_err(from_io)?;
+    }
+    c.try_finish().map_err(from_io)?;
+    Ok(Totals {
+        read: c.total_in(),
+        written: c.total_out(),
+    })
+}
+
+/// Decompresses a container from `reader` onto `writer`, one block at a
+/// time (memory about two block sizes). The writer is flushed at the end.
+///
+/// # Errors
+///
+/// As for [`decompress`], plus the reader's or writer's I/O error. Bytes of
+/// blocks before a damaged one have been written by then.
+///
+/// # Example
+///
+/// ```
+/// use subrange::stream::{decompress_reader, DecodeOptions};
+/// use subrange::{compress, Options};
+///
+/// # fn main() -> Result<(), subrange::Error> {
+/// let data = subrange::corpus::text_like(3, 30_000);
+/// let packed = compress(&data, &Options::default())?;
+/// let mut back = Vec::new();
+/// let totals = decompress_reader(&packed[..], &mut back, &DecodeOptions::default())?;
+/// assert_eq!(back, data);
+/// assert_eq!(totals.read, packed.len() as u64);
+/// # Ok(())
+/// # }
+/// ```
+pub fn decompress_reader<R: Read, W: Write>(
+    reader: R,
+    mut writer: W,
+    options: &DecodeOptions,
+) -> Result<Totals> {
+    let mut d = Decompressor::with_options(reader, options);
+    let written = io::copy(&mut d, &mut writer).map_err(from_io)?;
+    writer.flush()?;
+    Ok(Totals {
+        read: d.total_in(),
+        written,
+    })
+}

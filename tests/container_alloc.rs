@@ -1,0 +1,194 @@
+//! Hostile headers and frames fail fast with a limit (or damage) error and
+//! allocate nothing large: a counting global allocator records the peak of
+//! live heap bytes while each hostile container is decoded.
+//!
+//! The containers are built by hand from the layout in `docs/FORMAT.md`
+//! (vints, CRC-32 fields), which also checks the document against the code.
+#![cfg(feature = "std")]
+
+use std::alloc::{GlobalAlloc, Layout, System};
+use std::io::Read;
+use std::sync::atomic::{AtomicUsize, Ordering};
+use std::sync::Mutex;
+
+use subrange::format::DecodeLimits;
+use subrange::{decompress, decompress_with_limits, Decompressor, ErrorKind};
+
+struct Counting;
+
+static LIVE: AtomicUsize = AtomicUsize::new(0);
+static PEAK: AtomicUsize = AtomicUsize::new(0);
+
+unsafe impl GlobalAlloc for Counting {
+    unsafe fn alloc(&self, layout: Layout) -> *mut u8 {
+        // SAFETY: forwarded unchanged to the system allocator.
+        let p = unsafe { System.alloc(layout) };
+        if !p.is_null() {
+            let now = LIVE.fetch_add(layout.size(), Ordering::SeqCst) + layout.size();
+            PEAK.fetch_max(now, Ordering::SeqCst);
+        }
+        p
+    }
+    unsafe fn dealloc(&self, ptr: *mut u8, layout: Layout) {
+        // SAFETY: forwarded unchanged to the system allocator.
+        unsafe { System.dealloc(ptr, layout) };
+        LIVE.fetch_sub(layout.size(), Ordering::SeqCst);
+    }
+}
+
+#[global_allocator]
+static GLOBAL: Counting = Counting;
+
+/// Tests of this file run one at a time, so that peaks are their own.
+static SERIAL: Mutex<()> = Mutex::new(());
+
+/// Runs `f` and returns the peak of live heap bytes above the level at the
+/// start.
+fn peak_during(f: impl FnOnce()) -> usize {
+    let base = LIVE.load(Ordering::SeqCst);
+    PEAK.store(base, Ordering::SeqCst);
+    f();
+    PEAK.load(Ordering::SeqCst) - base
+}
+
+fn vint(out: &mut Vec<u8>, mut v: u64) {
+    while v >= 0x80 {
+        out.push(v as u8 | 0x80);
+        v >>= 7;
+    }
+    out.push(v as u8);
+}
+
+/// Header: magic, version 1, preset id, block size, params, CRC-32.
+fn header(preset: u64, block_size: u64, params: &[u64]) -> Vec<u8> {
+    let mut h = vec![0xB7, 0x73, 0x72, 0x67, 1];
+    vint(&mut h, preset);
+    vint(&mut h, block_size);
+    h.push(params.len() as u8);
+    for &p in params {
+        vint(&mut h, p);
+    }
+    let crc = crc32fast::hash(&h);
+    h.extend_from_slice(&crc.to_le_bytes());
+    h
+}
+
+/// A coded block frame (kind 2) for block `index`, then its payload.
+fn coded_block(index: u64, raw_len: u64, raw_crc: u32, payload: &[u8], declared: u64) -> Vec<u8> {
+    let mut f = vec![2u8];
+    vint(&mut f, raw_len);
+    vint(&mut f, declared);
+    f.extend_from_slice(&raw_crc.to_le_bytes());
+    f.extend_from_slice(&crc32fast::hash(payload).to_le_bytes());
+    let mut check = crc32fast::Hasher::new();
+    check.update(&index.to_le_bytes());
+    check.update(&f);
+    f.extend_from_slice(&check.finalize().to_le_bytes());
+    f.extend_from_slice(payload);
+    f
+}
+
+fn limit_error(bytes: &[u8]) -> ErrorKind {
+    let mut err = None;
+    let peak = peak_during(|| {
+        err = Some(decompress(bytes).unwrap_err().into_kind());
+    });
+    assert!(peak < 64 << 10, "one-shot peak {peak} bytes");
+    let peak = peak_during(|| {
+        let mut d = Decompressor::new(bytes);
+        let mut out = Vec::new();
+        assert!(d.read_to_end(&mut out).is_err());
+    });
+    assert!(peak < 64 << 10, "stream peak {peak} bytes");
+    err.unwrap()
+}
+
+#[test]
+fn hostile_declarations_fail_fast_without_large_allocations() {
+    let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    // A block size of 2^60 bytes.
+    let kind = limit_error(&header(1, 1 << 60, &[4, 12]));
+    assert!(
+        matches!(kind, ErrorKind::LimitExceeded { what: "block size", declared, .. } if declared == 1 << 60),
+        "{kind:?}"
+    );
+
+    // A static block declaring a model table of 2^40 bytes.
+    let mut payload = vec![1u8];
+    vint(&mut payload, 1 << 40);
+    let mut c = header(1, 4096, &[4, 12]);
+    c.extend(coded_block(0, 4000, 0, &payload, payload.len() as u64));
+    let kind = limit_error(&c);
+    assert!(
+        matches!(
+            kind,
+            ErrorKind::LimitExceeded {
+                what: "model table size",
+                ..
+            }
+        ),
+        "{kind:?}"
+    );
+
+    // A preset parameter of 2^31 lanes.
+    let kind = limit_error(&header(1, 4096, &[1 << 31, 12]));
+    assert!(
+        matches!(kind, ErrorKind::LimitExceeded { what: "lanes", .. }),
+        "{kind:?}"
+    );
+
+    // A block whose raw length is 2^60 (above the block size): damage.
+    let mut c = header(2, 4096, &[24, 65_536]);
+    c.extend(coded_block(0, 1 << 60, 0, &[1, 2, 3], 3));
+    let kind = limit_error(&c);
+    assert!(
+        matches!(kind, ErrorKind::CorruptBlock { index: 0, .. }),
+        "{kind:?}"
+    );
+
+    // An unknown preset id.
+    let kind = limit_error(&header(1 << 30, 4096, &[]));
+    assert!(
+        matches!(kind, ErrorKind::UnknownPreset { id } if id == 1 << 30),
+        "{kind:?}"
+    );
+
+    // More parameters than any preset has.
+    let kind = limit_error(&header(2, 4096, &[1; 200]));
+    assert!(matches!(kind, ErrorKind::CorruptStream { .. }), "{kind:?}");
+}
+
+#[test]
+fn memory_limit_is_checked_before_allocating() {
+    let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    let mut limits = DecodeLimits::new();
+    limits.max_memory(1 << 20);
+    let bytes = header(2, 16 << 20, &[24, 65_536]);
+    let mut err = None;
+    let peak = peak_during(|| err = Some(decompress_with_limits(&bytes, &limits).unwrap_err()));
+    assert!(peak < 64 << 10, "peak {peak}");
+    assert!(matches!(
+        err.unwrap().kind(),
+        ErrorKind::LimitExceeded {
+            what: "memory needed per block",
+            ..
+        }
+    ));
+}
+
+#[test]
+fn truncated_large_block_does_not_reserve_its_declared_size() {
+    let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    // A 64 MiB block whose 60 MiB payload is cut off after 10 bytes.
+    let mut c = header(2, 64 << 20, &[24, 65_536]);
+    let mut f = coded_block(0, 64 << 20, 0, &[0; 10], 60 << 20);
+    // The payload CRC in the frame is of the 10 bytes; the read stops first.
+    c.append(&mut f);
+    let peak = peak_during(|| {
+        let mut d = Decompressor::new(&c[..]);
+        let e = d.read_to_end(&mut Vec::new()).unwrap_err();
+        assert_eq!(e.kind(), std::io::ErrorKind::UnexpectedEof);
+    });
+    // Payload buffers grow by at most 1 MiB ahead of the data.
+    assert!(peak < 2 << 20, "peak {peak}");
+}

@@ -1,0 +1,392 @@
+//! An independent decoder written from `docs/FORMAT.md` alone (sections 1
+//! to 6), checked against what the crate writes: if the document and the
+//! code disagree, this fails. It shares no code with the crate; it is
+//! deliberately plain and slow.
+#![cfg(feature = "std")]
+
+use subrange::preset::Preset;
+use subrange::{compress, Options};
+
+type R<T> = Result<T, String>;
+
+struct Bytes<'a> {
+    b: &'a [u8],
+    pos: usize,
+}
+
+impl<'a> Bytes<'a> {
+    fn u8(&mut self) -> R<u8> {
+        let v = *self.b.get(self.pos).ok_or("truncated")?;
+        self.pos += 1;
+        Ok(v)
+    }
+    fn u32(&mut self) -> R<u32> {
+        let mut v = 0u32;
+        for i in 0..4 {
+            v |= u32::from(self.u8()?) << (8 * i);
+        }
+        Ok(v)
+    }
+    /// Section 1: 7-bit groups, least significant first, at most 10 bytes,
+    /// minimal.
+    fn vint(&mut self) -> R<u64> {
+        let mut v = 0u64;
+        for i in 0..10 {
+            let b = self.u8()?;
+            if i == 9 && b > 1 {
+                return Err("vint beyond 64 bits".into());
+            }
+            v |= u64::from(b & 0x7F) << (7 * i);
+            if b & 0x80 == 0 {
+                if i > 0 && b == 0 {
+                    return Err("non-minimal vint".into());
+                }
+                return Ok(v);
+            }
+        }
+        Err("vint longer than 10 bytes".into())
+    }
+    fn take(&mut self, n: u64) -> R<&'a [u8]> {
+        let n = usize::try_from(n).map_err(|_| "length")?;
+        let s = self.b.get(self.pos..self.pos + n).ok_or("truncated")?;
+        self.pos += n;
+        Ok(s)
+    }
+}
+
+/// Bitwise CRC-32 (section 1): reflected polynomial 0xEDB88320, initial
+/// value and final XOR 0xFFFFFFFF.
+fn crc32(data: &[u8]) -> u32 {
+    let mut c = 0xFFFF_FFFFu32;
+    for &b in data {
+        c ^= u32::from(b);
+        for _ in 0..8 {
+            c = if c & 1 == 1 {
+                (c >> 1) ^ 0xEDB8_8320
+            } else {
+                c >> 1
+            };
+        }
+    }
+    !c
+}
+
+fn frame_check(index: u64, frame: &[u8]) -> u32 {
+    let mut v = index.to_le_bytes().to_vec();
+    v.extend_from_slice(frame);
+    crc32(&v)
+}
+
+/// Section 6: the range decoder.
+struct RangeDecoder<'a> {
+    s: &'a [u8],
+    pos: usize,
+    zeros: u32,
+    range: u32,
+    code: u32,
+}
+
+impl<'a> RangeDecoder<'a> {
+    fn new(s: &'a [u8]) -> R<Self> {
+        let mut d = RangeDecoder {
+            s,
+            pos: 0,
+            zeros: 0,
+            range: 0xFFFF_FFFF,
+            code: 0,
+        };
+        for _ in 0..4 {
+            d.code = (d.code << 8) | u32::from(d.next()?);
+        }
+        if d.code >= d.range {
+            return Err("bad start".into());
+        }
+        Ok(d)
+    }
+    fn next(&mut self) -> R<u8> {
+        if let Some(&b) = self.s.get(self.pos) {
+            self.pos += 1;
+            return Ok(b);
+        }
+        self.zeros += 1;
+        if self.zeros > 4 {
+            return Err("lane truncated".into());
+        }
+        Ok(0)
+    }
+    /// Decodes one symbol with frequencies `freq` (cumulative by index).
+    fn symbol(&mut self, freq: &[u32]) -> R<usize> {
+        let t: u32 = freq.iter().sum();
+        let r = self.range / t;
+        let target = (self.code / r).min(t - 1);
+        let mut cum = 0;
+        let mut s = 0;
+        while !(cum <= target && target < cum + freq[s]) {
+            cum += freq[s];
+            s += 1;
+        }
+        self.code -= r * cum;
+        if cum + freq[s] < t {
+            self.range = r * freq[s];
+        } else {
+            self.range -= r * cum;
+        }
+        while self.range < 1 << 24 {
+            self.range <<= 8;
+            self.code = (self.code << 8) | u32::from(self.next()?);
+        }
+        if self.code >= self.range {
+            return Err("code outside range".into());
+        }
+        Ok(s)
+    }
+    fn end(&self) -> R<()> {
+        if self.zeros == 0 && self.pos < self.s.len() {
+            return Err("lane not used up".into());
+        }
+        Ok(())
+    }
+}
+
+/// Section 5.1.1: Elias gamma codes, most significant bit first.
+struct Bits<'a> {
+    b: &'a [u8],
+    pos: usize,
+}
+
+impl Bits<'_> {
+    fn bit(&mut self) -> R<u32> {
+        let byte = *self.b.get(self.pos / 8).ok_or("table truncated")?;
+        let v = (byte >> (7 - self.pos % 8)) & 1;
+        self.pos += 1;
+        Ok(u32::from(v))
+    }
+    fn gamma(&mut self, bound: u32) -> R<u32> {
+        let bound_bits = 32 - bound.leading_zeros();
+        let mut zeros = 0;
+        while self.bit()? == 0 {
+            zeros += 1;
+            if zeros > bound_bits.saturating_sub(1) {
+                return Err("gamma code too long".into());
+            }
+        }
+        let mut v = 1u32;
+        for _ in 0..zeros {
+            v = (v << 1) | self.bit()?;
+        }
+        if v > bound {
+            return Err("gamma value above bound".into());
+        }
+        Ok(v)
+    }
+}
+
+fn static_table(table: &[u8], log2_cap: u64) -> R<Vec<u32>> {
+    let mut b = Bits { b: table, pos: 0 };
+    let k = b.gamma(17)? - 1;
+    if u64::from(k) > log2_cap {
+        return Err("table total too large".into());
+    }
+    let total = 1u32 << k;
+    let a = b.gamma(65_536)?;
+    if a != 256 {
+        return Err("alphabet must be 256".into());
+    }
+    let p = b.gamma(a.min(total))?;
+    let mut freq = vec![0u32; a as usize];
+    let (mut next, mut acc) = (0u32, 0u32);
+    for i in 0..p {
+        let s = next + b.gamma(a - next)? - 1;
+        if s >= a || a - s - 1 < p - i - 1 {
+            return Err("symbol out of range".into());
+        }
+        let f = if i < p - 1 {
+            b.gamma(total - acc - (p - i - 1))?
+        } else {
+            total - acc
+        };
+        if f == 0 {
+            return Err("zero frequency".into());
+        }
+        freq[s as usize] = f;
+        acc += f;
+        next = s + 1;
+    }
+    if b.pos.div_ceil(8) != table.len() {
+        return Err("table length differs".into());
+    }
+    while b.pos % 8 != 0 {
+        if b.bit()? != 0 {
+            return Err("padding bit set".into());
+        }
+    }
+    Ok(freq)
+}
+
+fn decode_static(payload: &[u8], raw_len: usize, params: &[u64]) -> R<Vec<u8>> {
+    let mut p = Bytes { b: payload, pos: 0 };
+    let n = p.u8()? as usize;
+    if n == 0 || n as u64 > params[0] {
+        return Err("lane count".into());
+    }
+    let t = p.vint()?;
+    let freq = static_table(p.take(t)?, params[1])?;
+    let mut lens = Vec::new();
+    for _ in 0..n - 1 {
+        lens.push(p.vint()?);
+    }
+    let mut lanes = Vec::new();
+    for &l in &lens {
+        lanes.push(RangeDecoder::new(p.take(l)?)?);
+    }
+    lanes.push(RangeDecoder::new(&payload[p.pos..])?);
+    let mut out = Vec::with_capacity(raw_len);
+    for j in 0..raw_len {
+        out.push(lanes[j % n].symbol(&freq)? as u8);
+    }
+    for l in &lanes {
+        l.end()?;
+    }
+    Ok(out)
+}
+
+fn decode_adaptive(payload: &[u8], raw_len: usize, params: &[u64]) -> R<Vec<u8>> {
+    let (inc, limit) = (params[0] as u32, params[1] as u32);
+    let mut freq = vec![1u32; 256];
+    let mut d = RangeDecoder::new(payload)?;
+    let mut out = Vec::with_capacity(raw_len);
+    for _ in 0..raw_len {
+        let s = d.symbol(&freq)?;
+        out.push(s as u8);
+        if freq.iter().sum::<u32>() + 2 * inc > limit {
+            for f in &mut freq {
+                *f = f.div_ceil(2);
+            }
+        }
+        freq[s] += inc;
+    }
+    d.end()?;
+    Ok(out)
+}
+
+/// Sections 2 to 4.
+fn decode_container(c: &[u8]) -> R<Vec<u8>> {
+    let mut b = Bytes { b: c, pos: 0 };
+    if b.take(4)? != [0xB7, 0x73, 0x72, 0x67] {
+        return Err("magic".into());
+    }
+    if b.u8()? != 1 {
+        return Err("version".into());
+    }
+    let id = b.vint()?;
+    let block_size = b.vint()?;
+    let count = b.u8()?;
+    let mut params = Vec::new();
+    for _ in 0..count {
+        params.push(b.vint()?);
+    }
+    let check = crc32(&c[..b.pos]);
+    if b.u32()? != check {
+        return Err("header check".into());
+    }
+    let mut out = Vec::new();
+    let mut index = 0u64;
+    loop {
+        let start = b.pos;
+        let kind = b.u8()?;
+        let raw_len = if kind != 0 { Some(b.vint()?) } else { None };
+        match kind {
+            0 => {
+                let blocks = b.vint()?;
+                let total = b.vint()?;
+                let check = frame_check(index, &c[start..b.pos]);
+                if b.u32()? != check || blocks != index || total != out.len() as u64 {
+                    return Err("end record".into());
+                }
+                if b.pos != c.len() {
+                    return Err("trailing bytes".into());
+                }
+                return Ok(out);
+            }
+            1 | 2 => {
+                let raw_len = raw_len.unwrap();
+                let payload_len = if kind == 2 { b.vint()? } else { raw_len };
+                let raw_crc = b.u32()?;
+                let payload_crc = if kind == 2 { Some(b.u32()?) } else { None };
+                let check = frame_check(index, &c[start..b.pos]);
+                if b.u32()? != check {
+                    return Err("frame check".into());
+                }
+                if raw_len == 0 || raw_len > block_size {
+                    return Err("raw length".into());
+                }
+                let payload = b.take(payload_len)?;
+                let raw = match payload_crc {
+                    None => payload.to_vec(),
+                    Some(crc) => {
+                        if payload_len >= raw_len || crc32(payload) != crc {
+                            return Err("payload".into());
+                        }
+                        match id {
+                            1 => decode_static(payload, raw_len as usize, &params)?,
+                            2 => decode_adaptive(payload, raw_len as usize, &params)?,
+                            _ => return Err("unknown preset".into()),
+                        }
+                    }
+                };
+                if crc32(&raw) != raw_crc {
+                    return Err("raw checksum".into());
+                }
+                out.extend_from_slice(&raw);
+                index += 1;
+            }
+            _ => return Err("kind".into()),
+        }
+    }
+}
+
+#[test]
+fn bitwise_crc_matches_the_check_value() {
+    // CRC catalogue check value of CRC-32: "123456789" -> 0xCBF43926
+    // (from memory).
+    assert_eq!(crc32(b"123456789"), 0xCBF4_3926);
+}
+
+#[test]
+fn the_document_decodes_what_the_crate_writes() {
+    let mut data = subrange::corpus::gauge_csv(41, 20_000);
+    data.extend(subrange::corpus::random(42, 3000));
+    data.extend(subrange::corpus::skewed(43, 9000));
+    data.extend(subrange::corpus::text_like(44, 12_000));
+    for preset in Preset::all() {
+        for block_size in [16usize, 700, 5000, 1 << 20] {
+            let mut o = Options::new();
+            o.preset(preset).threads(1);
+            o.block_size(block_size).unwrap();
+            for len in [0, 1, 100, data.len()] {
+                let packed = compress(&data[..len], &o).unwrap();
+                let back = decode_container(&packed)
+                    .unwrap_or_else(|e| panic!("{preset} block {block_size} len {len}: {e}"));
+                assert_eq!(back, &data[..len]);
+            }
+        }
+    }
+}
+
+#[test]
+fn the_document_and_the_crate_reject_the_same_flips() {
+    let data = subrange::corpus::gauge_csv(45, 1500);
+    for preset in Preset::all() {
+        let mut o = Options::new();
+        o.preset(preset).threads(1);
+        o.block_size(600).unwrap();
+        let packed = compress(&data, &o).unwrap();
+        let mut bytes = packed.clone();
+        for bit in (0..packed.len() * 8).step_by(7) {
+            bytes[bit / 8] ^= 1 << (bit % 8);
+            assert!(decode_container(&bytes).is_err(), "bit {bit}");
+            assert!(subrange::decompress(&bytes).is_err(), "bit {bit}");
+            bytes[bit / 8] ^= 1 << (bit % 8);
+        }
+    }
+}
