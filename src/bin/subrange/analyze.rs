@@ -12,7 +12,7 @@
 use std::fmt::Write as _;
 
 use crate::cli::AnalyzeArgs;
-use crate::codec;
+use crate::codec::{Codec, PresetCodec};
 use crate::entropy::{self, OrderEntropy};
 use crate::exit::CliResult;
 use crate::files::Input;
@@ -202,7 +202,7 @@ fn presets_section(out: &mut String, data: &[u8], full: u64) -> CliResult {
     ]];
     let mut best: Option<(String, f64)> = None;
     for preset in PresetName::all() {
-        let c = codec::preset_codec(&preset);
+        let c = PresetCodec::new(preset.preset(), None, 0)?;
         let packed = c.compress(data)?.len() as f64;
         let size = packed * scale;
         rows.push(vec![

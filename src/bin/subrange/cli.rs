@@ -80,7 +80,8 @@ pub struct CompressArgs {
     #[arg(short, long, value_name = "SIZE", value_parser = parse_size)]
     pub block_size: Option<u64>,
 
-    /// Blocks coded at once (default: all cores).
+    /// Blocks coded at once (default: all cores). The output is the same
+    /// whatever the count.
     #[arg(short, long, value_name = "N", value_parser = parse_threads)]
     pub threads: Option<usize>,
 
@@ -104,10 +105,6 @@ pub struct DecompressArgs {
     /// standard output when reading standard input.
     #[arg(short, long, value_name = "OUTPUT")]
     pub output: Option<PathBuf>,
-
-    /// Blocks decoded at once (default: all cores).
-    #[arg(short, long, value_name = "N", value_parser = parse_threads)]
-    pub threads: Option<usize>,
 
     /// Overwrite OUTPUT if it exists.
     #[arg(short, long)]
@@ -244,11 +241,6 @@ fn parse_threads(text: &str) -> Result<usize, String> {
         Ok(n) if (1..=1024).contains(&n) => Ok(n),
         _ => Err(format!("'{text}' is not a thread count from 1 to 1024")),
     }
-}
-
-/// All cores, or 1 when the number is unknown.
-pub fn default_threads() -> usize {
-    std::thread::available_parallelism().map_or(1, |n| n.get())
 }
 
 #[cfg(test)]

@@ -80,7 +80,7 @@ impl Input {
                         quote(path)
                     )));
                 }
-                let size = meta.is_file().then(|| meta.len());
+                let size = meta.is_file().then_some(meta.len());
                 Ok((Box::new(file), size))
             }
         }

@@ -10,9 +10,11 @@ mod analyze;
 mod bench;
 mod cli;
 mod codec;
+mod compress;
 mod entropy;
 mod exit;
 mod files;
+mod inspect;
 mod json;
 mod plot;
 mod presets;
@@ -30,9 +32,9 @@ fn main() {
     install_panic_hook();
     let cli = Cli::parse();
     let result = match &cli.command {
-        Command::Compress(_) | Command::Decompress(_) | Command::Inspect(_) => Err(
-            CliError::failure("this command needs the block container, which this build lacks"),
-        ),
+        Command::Compress(args) => compress::compress(args),
+        Command::Decompress(args) => compress::decompress(args),
+        Command::Inspect(args) => inspect::run(args),
         Command::Bench(args) => bench::run(args),
         Command::Analyze(args) => analyze::run(args),
     };

@@ -1,47 +1,45 @@
 //! Preset names on the command line.
 //!
-//! A preset is a named combination of models. The command line accepts the
-//! names the library knows; anything else is a usage error that lists them.
+//! A preset is a named combination of models that the container records in
+//! its header ([`subrange::preset::Preset`]). The command line accepts the
+//! names the library knows — every preset of [`Preset::all`], so presets
+//! added to the library appear here without change — and anything else is a
+//! usage error that lists them.
 
 use std::fmt;
 
-/// The presets this build measures and codes with, in order of strength.
-const NAMES: &[(&str, &str)] = &[
-    (
-        "static",
-        "one order-0 frequency table per block, stored in the block; fastest",
-    ),
-    (
-        "adaptive",
-        "order-0 counts that learn as they code; no table to store",
-    ),
-];
+use subrange::preset::Preset;
 
-/// A valid preset name.
+/// A valid preset, as named on the command line.
 #[derive(Debug, Clone, PartialEq, Eq)]
-pub struct PresetName(&'static str);
+pub struct PresetName(Preset);
 
 impl PresetName {
     /// The canonical name.
     pub fn as_str(&self) -> &'static str {
+        self.0.name()
+    }
+
+    /// The preset, with default parameters.
+    pub fn preset(&self) -> Preset {
         self.0
     }
 
-    /// Every preset, in order.
+    /// Every preset, in the library's order.
     pub fn all() -> Vec<PresetName> {
-        NAMES.iter().map(|(n, _)| PresetName(n)).collect()
+        Preset::all().map(PresetName).collect()
     }
 }
 
 impl fmt::Display for PresetName {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        f.write_str(self.0)
+        f.write_str(self.as_str())
     }
 }
 
 /// The valid names, comma separated.
 pub fn valid_names() -> String {
-    NAMES.iter().map(|(n, _)| *n).collect::<Vec<_>>().join(", ")
+    Preset::names().collect::<Vec<_>>().join(", ")
 }
 
 /// Parses a preset name (clap value parser).
@@ -50,18 +48,21 @@ pub fn valid_names() -> String {
 ///
 /// A message listing the valid names.
 pub fn parse_name(text: &str) -> Result<PresetName, String> {
-    NAMES
-        .iter()
-        .find(|(n, _)| n.eq_ignore_ascii_case(text.trim()))
-        .map(|(n, _)| PresetName(n))
+    let wanted = text.trim();
+    Preset::all()
+        .find(|p| p.name().eq_ignore_ascii_case(wanted))
+        .map(PresetName)
         .ok_or_else(|| format!("unknown preset '{text}'; valid presets: {}", valid_names()))
 }
 
 /// `--preset` long help: every name with a line about it.
 pub fn preset_help() -> String {
-    let mut s = String::from("Model preset. Valid presets:");
-    for (name, about) in NAMES {
-        s.push_str(&format!("\n  {name:<10} {about}"));
+    let mut s = format!(
+        "Model preset (default: {}). Valid presets:",
+        Preset::default().name()
+    );
+    for p in Preset::all() {
+        s.push_str(&format!("\n  {:<10} {}", p.name(), p.kind().summary()));
     }
     s
 }
@@ -77,6 +78,10 @@ mod tests {
         let err = parse_name("fastest").unwrap_err();
         for name in PresetName::all() {
             assert!(err.contains(name.as_str()), "{err}");
+        }
+        let help = preset_help();
+        for name in PresetName::all() {
+            assert!(help.contains(name.as_str()), "{help}");
         }
     }
 }

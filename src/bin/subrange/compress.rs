@@ -1,0 +1,126 @@
+//! `subrange compress` and `subrange decompress`.
+//!
+//! Both stream: memory stays about a few block sizes per thread whatever the
+//! input length. Output goes through [`crate::files`], so a file target only
+//! appears, complete, after the last byte was written; on any error it does
+//! not appear at all. Standard output gets whole verified blocks as they are
+//! decoded; an error stops it after the last good block.
+
+use std::io::{self, Read, Write};
+use std::path::Path;
+
+use subrange::stream::DecodeOptions;
+use subrange::{Compressor, Decompressor, Options};
+
+use crate::cli::{CompressArgs, DecompressArgs};
+use crate::exit::{CliError, CliResult};
+use crate::files::{self, Input, Output, OutputFile};
+use crate::progress::Progress;
+
+/// Where the output goes, from `-o` and the input.
+enum Dest {
+    Stdout,
+    File(std::path::PathBuf),
+}
+
+fn dest(
+    output: Option<&Path>,
+    input: &Input,
+    derive: impl Fn(&Path) -> CliResult<std::path::PathBuf>,
+) -> CliResult<Dest> {
+    Ok(match (output, input) {
+        (Some(p), _) if p.as_os_str() == "-" => Dest::Stdout,
+        (Some(p), _) => Dest::File(p.to_path_buf()),
+        (None, Input::Stdin) => Dest::Stdout,
+        (None, Input::File(p)) => Dest::File(derive(p)?),
+    })
+}
+
+fn open_output(d: &Dest, force: bool, input: &Input) -> CliResult<Output> {
+    Ok(match d {
+        Dest::Stdout => Output::stdout(),
+        Dest::File(p) => Output::File(OutputFile::create(p, force, input.path())?),
+    })
+}
+
+/// The compression settings from the arguments.
+fn options(args: &CompressArgs) -> CliResult<Options> {
+    let mut opts = Options::new();
+    if let Some(p) = &args.preset {
+        opts.preset(p.preset());
+    }
+    if let Some(size) = args.block_size {
+        let size = usize::try_from(size).unwrap_or(usize::MAX);
+        opts.block_size(size).map_err(|e| {
+            CliError::usage(format!(
+                "--block-size {}: {e}",
+                args.block_size.unwrap_or(0)
+            ))
+        })?;
+    }
+    // 0: all cores.
+    opts.threads(args.threads.unwrap_or(0));
+    Ok(opts)
+}
+
+/// Runs `subrange compress`.
+pub fn compress(args: &CompressArgs) -> CliResult {
+    let input = Input::from_arg(args.input.as_deref());
+    let opts = options(args)?;
+    let d = dest(args.output.as_deref(), &input, |p| {
+        Ok(files::compressed_name(p))
+    })?;
+    if matches!(d, Dest::Stdout) {
+        files::refuse_terminal_stdout()?;
+    }
+    let (reader, size) = input.open()?;
+    let mut out = open_output(&d, args.force, &input)?;
+    let target = out.describe();
+    let progress = Progress::bytes(size, args.quiet, "compressing");
+    let mut reader = progress.reader(reader);
+    let mut c = Compressor::new(&mut out, &opts);
+    let mut buf = vec![0u8; 256 << 10];
+    loop {
+        let n = match reader.read(&mut buf) {
+            Ok(0) => break,
+            Ok(n) => n,
+            Err(e) if e.kind() == io::ErrorKind::Interrupted => continue,
+            Err(e) => return Err(CliError::io(format!("cannot read {}", input.describe()), e)),
+        };
+        c.write_all(&buf[..n])
+            .map_err(|e| CliError::io(format!("cannot write {target}"), e))?;
+    }
+    c.finish()
+        .map_err(|e| CliError::io(format!("cannot write {target}"), e))?;
+    drop(reader);
+    out.finish()
+}
+
+/// Runs `subrange decompress`.
+pub fn decompress(args: &DecompressArgs) -> CliResult {
+    let input = Input::from_arg(args.input.as_deref());
+    let d = dest(args.output.as_deref(), &input, files::decompressed_name)?;
+    let (reader, size) = input.open()?;
+    let mut out = open_output(&d, args.force, &input)?;
+    let target = out.describe();
+    let progress = Progress::bytes(size, args.quiet, "decompressing");
+    let mut dec = Decompressor::with_options(progress.reader(reader), &DecodeOptions::new());
+    let mut buf = vec![0u8; 256 << 10];
+    loop {
+        let n = match dec.read(&mut buf) {
+            Ok(0) => break,
+            Ok(n) => n,
+            Err(e) if e.kind() == io::ErrorKind::Interrupted => continue,
+            Err(e) => {
+                return Err(CliError::io(
+                    format!("cannot decompress {}", input.describe()),
+                    e,
+                ))
+            }
+        };
+        out.write_all(&buf[..n])
+            .map_err(|e| CliError::io(format!("cannot write {target}"), e))?;
+    }
+    drop(dec);
+    out.finish()
+}
