@@ -1,9 +1,9 @@
 //! `subrange bench`: every preset and flate2 on files or the demo corpus.
 //!
-//! For each input and codec: one untimed pass measures the ideal cost (for
-//! presets), then compression and decompression are each timed over up to
+//! For each input and codec, compression and decompression are each timed over up to
 //! `--runs` runs (stopping early once a measurement has taken a second) and
-//! the best run is kept — the least disturbed by the rest of the machine.
+//! the best run is kept — the least disturbed by the rest of the machine; one
+//! untimed pass then measures the ideal cost (for presets).
 //! Presets write real containers on one thread (as flate2 runs on one), with
 //! the default block size unless `--block-size` says otherwise, so their
 //! sizes are those `subrange compress` writes.
@@ -225,8 +225,8 @@ fn measure(c: &dyn Codec, name: &str, data: &[u8], runs: u32) -> CliResult<Measu
             format!("bench: {} on {name}: {}", c.name(), e.message()),
         )
     };
-    let ideal_bits = c.ideal_bits(data).map_err(context)?;
     let (packed, encode_secs) = best_time(runs, || c.compress(data)).map_err(context)?;
+    let ideal_bits = c.ideal_bits(data, &packed).map_err(context)?;
     let (unpacked, decode_secs) =
         best_time(runs, || c.decompress(&packed, data.len())).map_err(context)?;
     if unpacked != data {

@@ -208,9 +208,10 @@ pub fn bench(report: &BenchReport) -> String {
     }
     let _ = writeln!(
         out,
-        "\nratio = original / compressed; ideal = sum of -log2 p over the symbols the \
-models coded; overhead = size above ideal (tables, headers, coder flushes);\nMB/s = 10^6 \
-bytes of uncompressed data per second, best of {} run(s), one thread.",
+        "\nratio = original / compressed; bits/B = compressed bits per original byte\n\
+ideal = sum of -log2 p over the symbols the models coded (stored blocks: 8 bits a byte)\n\
+overhead = size above ideal: tables, headers, block frames, coder flushes\n\
+MB/s = 10^6 bytes of uncompressed data per second, best of {} run(s), one thread",
         report.runs
     );
     out
