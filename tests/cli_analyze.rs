@@ -1,5 +1,7 @@
 //! `subrange analyze` on files with known entropy.
 
+#![cfg(feature = "cli")]
+
 mod cli_support;
 
 use cli_support::*;

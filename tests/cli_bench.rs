@@ -1,5 +1,7 @@
 //! `subrange bench` on small files: JSON validity, plot output, errors.
 
+#![cfg(feature = "cli")]
+
 mod cli_support;
 
 use cli_support::*;

@@ -1,5 +1,7 @@
 //! `subrange inspect` on good and damaged containers.
 
+#![cfg(feature = "cli")]
+
 mod cli_support;
 
 use cli_support::*;

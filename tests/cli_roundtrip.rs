@@ -1,6 +1,8 @@
 //! `subrange compress` / `decompress` as a user runs them: files, pipes,
 //! refusals and damaged input.
 
+#![cfg(feature = "cli")]
+
 mod cli_support;
 
 use std::fs;

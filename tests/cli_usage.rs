@@ -1,5 +1,7 @@
 //! Usage errors, help texts and exit codes.
 
+#![cfg(feature = "cli")]
+
 mod cli_support;
 
 use cli_support::*;

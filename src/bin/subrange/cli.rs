@@ -73,11 +73,8 @@ pub struct CompressArgs {
     )]
     pub preset: Option<PresetName>,
 
-    /// Bytes per independently decodable block, with an optional suffix:
-    /// K (2^10), M (2^20) or G (2^30), e.g. 256K or 4M. Larger blocks let
-    /// adaptive models learn longer; smaller ones limit what one damaged
-    /// byte can take with it.
-    #[arg(short, long, value_name = "SIZE", value_parser = parse_size)]
+    /// Bytes per independently decodable block (suffixes K, M, G).
+    #[arg(short, long, value_name = "SIZE", value_parser = parse_size, long_help = block_size_help())]
     pub block_size: Option<u64>,
 
     /// Blocks coded at once (default: all cores). The output is the same
@@ -204,6 +201,19 @@ pub struct AnalyzeArgs {
     /// preset sizes are then scaled to the whole file.
     #[arg(long, value_name = "SIZE", default_value = "8M", value_parser = parse_size)]
     pub sample: u64,
+}
+
+/// `--block-size` long help, with the library's default and limits.
+fn block_size_help() -> String {
+    format!(
+        "Bytes per independently decodable block, with an optional suffix: K (2^10), \
+M (2^20) or G (2^30), e.g. 256K or 4M; from {} bytes to {} MiB, default {} KiB. Larger \
+blocks let adaptive models learn longer; smaller ones limit what one damaged byte can \
+take with it.",
+        subrange::stream::MIN_BLOCK_SIZE,
+        subrange::format::MAX_BLOCK_SIZE >> 20,
+        subrange::stream::DEFAULT_BLOCK_SIZE >> 10,
+    )
 }
 
 /// Parses a byte count with an optional binary suffix: `4096`, `256K`, `4M`,
