@@ -15,13 +15,32 @@
 //!   for symbols not seen yet when it is very large).
 
 mod adaptive;
+mod apm;
+mod bit;
+mod bytewise;
+pub mod cm;
+mod column;
+mod counter;
 mod fenwick;
+mod hashed;
+mod kt;
+mod logistic;
+mod matcher;
+mod mix;
 mod quantize;
 mod serial;
 mod table;
+mod word;
 
 pub use adaptive::{AdaptiveModel, AdaptiveParams};
+pub use apm::Apm;
+pub use bit::{decode_with, encode_with, BitPredictor, ShiftPredictor};
+pub use bytewise::BitTree;
+pub use counter::{CountingPredictor, MAX_COUNT_LIMIT};
 pub use fenwick::FenwickTree;
+pub use kt::KtPredictor;
+pub use logistic::{squash, stretch, STRETCH_MAX};
+pub use mix::{MixedPredictor, Mixer, MAX_MIXER_INPUTS, MAX_MIXER_SETS};
 pub use quantize::quantize_counts;
 pub use table::TableModel;
 

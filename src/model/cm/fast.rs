@@ -1,0 +1,202 @@
+//! The fast engine: order-2 contexts, optionally mixed with order 1.
+//!
+//! Each byte is coded bit by bit through the nibble trees of its contexts.
+//! For the order-2 context (the two previous bytes, 65,536 of them) and the
+//! order-1 context (the previous byte) a direct table holds 17 groups of 16
+//! packed [counters](crate::model::CountingPredictor) per context: group 0 for
+//! the high nibble's 15 tree nodes, group `1 + h` for the low nibble after
+//! high nibble `h`. A group is one 64-byte cache line, so a byte touches two
+//! lines per context. With `order1` set, the two stretched predictions and a
+//! bias go through a small [`Mixer`] whose weight set is chosen by the
+//! order-2 counter's confidence (a bucket of its update count) and the
+//! partial byte; the mixer learns when a young order-2 context should defer
+//! to order 1.
+//!
+//! Tables are stored as `counter ^ COUNTER_INIT`, so they start as zeroed
+//! memory: the allocator can hand out untouched pages lazily and a short
+//! input does not pay for initialising 70 MB.
+//!
+//! Invariants: table indices stay inside the context's 272 entries (node
+//! indices are `1 ..= 15`); encoder and decoder run the same `predict` /
+//! `update` sequence, so they agree on every probability.
+
+use alloc::vec;
+use alloc::vec::Vec;
+
+use crate::coder::{Decoder, Encoder};
+use crate::error::Result;
+use crate::model::cm::params::{Order2Params, NODES_PER_CONTEXT};
+use crate::model::counter::{counter_n, counter_p16, counter_update, COUNTER_INIT};
+use crate::model::cm::io::BitIo;
+
+/// Confidence bucket of an update count: 0, 1, 2, 3–4, 5–8, 9–16, 17–32, more.
+#[inline]
+fn confidence(n: u32) -> usize {
+    if n < 3 {
+        n as usize
+    } else {
+        (32 - (n - 1).leading_zeros() as usize + 1).min(7)
+    }
+}
+
+/// Updates a counter stored as `counter ^ COUNTER_INIT` (so that zeroed
+/// memory, which the allocator hands out lazily, reads as fresh counters).
+#[inline]
+pub(crate) fn update_stored(stored: &mut u32, bit: bool, limit: u32) {
+    let mut c = *stored ^ COUNTER_INIT;
+    counter_update(&mut c, bit, limit);
+    *stored = c ^ COUNTER_INIT;
+}
+
+struct FastModel {
+    t2: Vec<u32>,
+    t1: Vec<u32>,
+    order1: bool,
+    limit: u32,
+    c1: usize,
+    c2: usize,
+}
+
+impl FastModel {
+    fn new(params: &Order2Params) -> Result<Self> {
+        params.validate()?;
+        Ok(FastModel {
+            t2: vec![0; 65536 * NODES_PER_CONTEXT],
+            t1: if params.order1 {
+                vec![0; 256 * NODES_PER_CONTEXT]
+            } else {
+                Vec::new()
+            },
+            order1: params.order1,
+            limit: u32::from(params.limit),
+            c1: 0,
+            c2: 0,
+        })
+    }
+
+    /// Codes one nibble's four bits through the groups at `g2` / `g1`.
+    #[inline(always)]
+    fn nibble<I: BitIo>(&mut self, io: &mut I, g2: usize, g1: usize, value: u32) -> Result<u32> {
+        let mut node = 1usize;
+        for k in (0..4).rev() {
+            let bit = (value >> k) & 1 == 1;
+            let i2 = g2 + node;
+            let mut c = self.t2[i2] ^ COUNTER_INIT;
+            if self.order1 && counter_n(c) == 0 {
+                // A new order-2 context starts from what order 1 knows about
+                // new contexts, counted as one observation.
+                let i1 = g1 + node;
+                let c1 = self.t1[i1] ^ COUNTER_INIT;
+                let bit = io.code(bit, counter_p16(c1).clamp(1, 65535))?;
+                c = (c1 & !1023) | 1;
+                counter_update(&mut c, bit, self.limit);
+                self.t2[i2] = c ^ COUNTER_INIT;
+                update_stored(&mut self.t1[i1], bit, self.limit);
+                node = 2 * node + usize::from(bit);
+                continue;
+            }
+            let bit = io.code(bit, counter_p16(c).clamp(1, 65535))?;
+            counter_update(&mut c, bit, self.limit);
+            self.t2[i2] = c ^ COUNTER_INIT;
+            node = 2 * node + usize::from(bit);
+        }
+        Ok(node as u32 - 16)
+    }
+
+    #[inline(always)]
+    fn byte<I: BitIo>(&mut self, io: &mut I, byte: u8) -> Result<u8> {
+        let b2 = ((self.c2 << 8) | self.c1) * NODES_PER_CONTEXT;
+        let b1 = self.c1 * NODES_PER_CONTEXT;
+        let high = self.nibble(io, b2, b1, u32::from(byte >> 4))?;
+        let group = 16 * (1 + high as usize);
+        let low = self.nibble(io, b2 + group, b1 + group, u32::from(byte & 15))?;
+        let byte = ((high << 4) | low) as u8;
+        self.c2 = self.c1;
+        self.c1 = usize::from(byte);
+        Ok(byte)
+    }
+}
+
+/// Compresses `data` with the fast order-2 engine.
+///
+/// The output is a bare range-coded stream; the decoder needs the length of
+/// `data` and the same parameters. It needs
+/// [`Order2Params::memory_needed`] bytes of tables.
+///
+/// # Errors
+///
+/// [`ErrorKind::InvalidParameter`](crate::ErrorKind::InvalidParameter) when
+/// `params` is out of range.
+///
+/// # Example
+///
+/// ```
+/// use subrange::model::cm::{decode_order2, encode_order2, Order2Params};
+///
+/// # fn main() -> Result<(), subrange::Error> {
+/// let data = b"gauge 4, level 2.31 m; gauge 4, level 2.30 m; gauge 4, level 2.30 m".repeat(20);
+/// let params = Order2Params::default();
+/// let coded = encode_order2(&data, &params)?;
+/// assert!(coded.len() < data.len() / 4);
+/// assert_eq!(decode_order2(&coded, data.len(), &params)?, data);
+/// # Ok(())
+/// # }
+/// ```
+pub fn encode_order2(data: &[u8], params: &Order2Params) -> Result<Vec<u8>> {
+    let mut model = FastModel::new(params)?;
+    let mut enc = Encoder::with_sink(Vec::with_capacity(data.len() / 2 + 16));
+    for &byte in data {
+        model.byte(&mut enc, byte)?;
+    }
+    enc.finish()
+}
+
+/// Decompresses `raw_len` bytes coded by [`encode_order2`] with the same
+/// parameters.
+///
+/// Allocates `raw_len` bytes for the output and
+/// [`Order2Params::memory_needed`] bytes of tables, nothing that depends on
+/// `coded`; the caller bounds both. Damaged input gives an error or wrong
+/// bytes (a container's checksum catches those), never a panic.
+///
+/// # Errors
+///
+/// [`ErrorKind::InvalidParameter`](crate::ErrorKind::InvalidParameter) for
+/// bad parameters; [`ErrorKind::Truncated`](crate::ErrorKind::Truncated),
+/// [`ErrorKind::CorruptStream`](crate::ErrorKind::CorruptStream) or
+/// [`ErrorKind::TrailingBytes`](crate::ErrorKind::TrailingBytes) when
+/// `coded` is not exactly a stream of `raw_len` bytes.
+pub fn decode_order2(coded: &[u8], raw_len: usize, params: &Order2Params) -> Result<Vec<u8>> {
+    let mut model = FastModel::new(params)?;
+    let mut dec = Decoder::new(coded)?;
+    let mut out = Vec::with_capacity(raw_len);
+    for _ in 0..raw_len {
+        out.push(model.byte(&mut dec, 0)?);
+    }
+    dec.finish()?;
+    Ok(out)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn confidence_buckets() {
+        let b: Vec<usize> = [0, 1, 2, 3, 4, 5, 8, 9, 16, 17, 32, 33, 1023]
+            .iter()
+            .map(|&n| confidence(n))
+            .collect();
+        assert_eq!(b, [0, 1, 2, 3, 3, 4, 4, 5, 5, 6, 6, 7, 7]);
+    }
+
+    #[test]
+    fn round_trip_without_order1() {
+        let mut p = Order2Params::default();
+        p.order1 = false;
+        let data: Vec<u8> = (0..3000u32).map(|i| (i * i % 17) as u8 + b'a').collect();
+        let coded = encode_order2(&data, &p).unwrap();
+        assert!(coded.len() < data.len() / 2);
+        assert_eq!(decode_order2(&coded, data.len(), &p).unwrap(), data);
+    }
+}

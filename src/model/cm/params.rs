@@ -1,0 +1,312 @@
+//! Parameters of the two context-mixing engines.
+//!
+//! Each engine's parameters are a handful of small integers, so a container
+//! can record them in a few bytes ([`Order2Params::to_bytes`],
+//! [`MixParams::to_bytes`]) and rebuild them with validation
+//! (`from_bytes`). Each parameter set also states exactly how much memory its
+//! engine allocates ([`Order2Params::memory_needed`],
+//! [`MixParams::memory_needed`]), so a decoder can refuse a stream before
+//! allocating anything.
+//!
+//! Invariant: a value that passed `validate` builds an engine whose
+//! allocations are exactly `memory_needed` bytes of tables (plus the output).
+
+use crate::error::{ErrorKind, Result};
+use crate::model::apm::Apm;
+use crate::model::hashed::SlotTable;
+use crate::model::matcher::MatchModel;
+use crate::model::mix::Mixer;
+
+/// Entries of a direct nibble-tree table per context: 17 groups of 16.
+pub(crate) const NODES_PER_CONTEXT: usize = 17 * 16;
+
+fn invalid(name: &'static str, reason: &'static str) -> crate::Error {
+    ErrorKind::InvalidParameter { name, reason }.into()
+}
+
+/// Parameters of the fast order-2 engine
+/// ([`encode_order2`](super::encode_order2)).
+///
+/// # Example
+///
+/// ```
+/// use subrange::model::cm::Order2Params;
+///
+/// # fn main() -> Result<(), subrange::Error> {
+/// let p = Order2Params::default();
+/// assert_eq!(Order2Params::from_bytes(p.to_bytes())?, p);
+/// assert!(p.memory_needed() < 80 << 20);
+/// # Ok(())
+/// # }
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+#[non_exhaustive]
+pub struct Order2Params {
+    /// Mix an order-1 prediction with the order-2 one (default `true`):
+    /// better on small or varied inputs, about a third slower.
+    pub order1: bool,
+    /// Count limit of the adaptive counters, `1 ..= 1023` (default 255):
+    /// higher suits stationary data, lower adapts faster.
+    pub limit: u16,
+    /// Mixer learning rate, `1 ..= 64` (default 6).
+    pub rate: u8,
+}
+
+impl Default for Order2Params {
+    fn default() -> Self {
+        Order2Params {
+            order1: true,
+            limit: 255,
+            rate: 6,
+        }
+    }
+}
+
+impl Order2Params {
+    /// Mixer weight sets of the order-2 engine.
+    pub(crate) const SETS: usize = 8 * 256;
+
+    /// Checks every field against its documented range.
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::InvalidParameter`] naming the first field out of range.
+    pub fn validate(&self) -> Result<()> {
+        if self.limit == 0 || self.limit > 1023 {
+            return Err(invalid("limit", "must be in 1 ..= 1023"));
+        }
+        if self.rate == 0 || self.rate > 64 {
+            return Err(invalid("rate", "must be in 1 ..= 64"));
+        }
+        Ok(())
+    }
+
+    /// Bytes of tables the engine allocates with these parameters.
+    pub fn memory_needed(&self) -> u64 {
+        let per_context = 4 * NODES_PER_CONTEXT as u64;
+        let mut total = 65536 * per_context;
+        if self.order1 {
+            total += 256 * per_context + Mixer::memory_needed(3, Self::SETS);
+        }
+        total
+    }
+
+    /// The parameters as four bytes: flags (bit 0: `order1`), `rate`, and
+    /// `limit` (little-endian).
+    pub fn to_bytes(&self) -> [u8; 4] {
+        let [l0, l1] = self.limit.to_le_bytes();
+        [u8::from(self.order1), self.rate, l0, l1]
+    }
+
+    /// Rebuilds parameters written by [`to_bytes`](Order2Params::to_bytes).
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::InvalidParameter`] for unknown flag bits or a field out of range.
+    pub fn from_bytes(bytes: [u8; 4]) -> Result<Self> {
+        if bytes[0] & !1 != 0 {
+            return Err(invalid("flags", "unknown flag bits"));
+        }
+        let p = Order2Params {
+            order1: bytes[0] & 1 == 1,
+            rate: bytes[1],
+            limit: u16::from_le_bytes([bytes[2], bytes[3]]),
+        };
+        p.validate()?;
+        Ok(p)
+    }
+}
+
+/// Parameters of the strong mixing engine ([`encode_mix`](super::encode_mix)).
+///
+/// # Example
+///
+/// ```
+/// use subrange::model::cm::MixParams;
+///
+/// # fn main() -> Result<(), subrange::Error> {
+/// let mut p = MixParams::default();
+/// p.mem_log2 = 4; // 16 MiB of context tables
+/// p.orders = 0b11_1111; // orders 1 to 6
+/// p.validate()?;
+/// assert_eq!(MixParams::from_bytes(p.to_bytes())?, p);
+/// assert!(p.memory_needed() > 16 << 20);
+/// # Ok(())
+/// # }
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+#[non_exhaustive]
+pub struct MixParams {
+    /// Hashed context tables take `2^mem_log2` MiB, `0 ..= 10` (default 6,
+    /// 64 MiB); the match model's table takes a quarter of that more.
+    pub mem_log2: u8,
+    /// Context orders in use: bit `k` enables order `k + 1`, orders 1 to 6
+    /// (default `0b11_1111`, all of them).
+    pub orders: u8,
+    /// Word contexts: the current word, and it with the previous word (default on).
+    pub word: bool,
+    /// Column contexts for line-structured records: the byte above in the
+    /// previous line, with the column and with the last byte (default on).
+    pub column: bool,
+    /// The match model (default on).
+    pub matcher: bool,
+    /// Mixer learning rate, `1 ..= 64` (default 6).
+    pub rate: u8,
+}
+
+impl Default for MixParams {
+    fn default() -> Self {
+        MixParams {
+            mem_log2: 6,
+            orders: 0b11_1111,
+            word: true,
+            column: true,
+            matcher: true,
+            rate: 6,
+        }
+    }
+}
+
+impl MixParams {
+    /// Largest `mem_log2`: 1 GiB of context tables.
+    pub const MAX_MEM_LOG2: u8 = 10;
+
+    /// Weight sets of the mixer: match state (4) × partial byte (256).
+    pub(crate) const SETS: usize = 4 * 256;
+
+    /// APM contexts of the second refinement stage (order 1 and partial byte).
+    pub(crate) const APM2_CONTEXTS: usize = 1 << 16;
+
+    /// Checks every field against its documented range.
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::InvalidParameter`] naming the first field out of range.
+    pub fn validate(&self) -> Result<()> {
+        if self.mem_log2 > Self::MAX_MEM_LOG2 {
+            return Err(invalid("mem_log2", "must be in 0 ..= 10"));
+        }
+        if self.orders & !0b11_1111 != 0 {
+            return Err(invalid("orders", "only bits 0 to 5 (orders 1 to 6) exist"));
+        }
+        if self.rate == 0 || self.rate > 64 {
+            return Err(invalid("rate", "must be in 1 ..= 64"));
+        }
+        if self.inputs() == 1 {
+            return Err(invalid("orders", "at least one context or the match model is needed"));
+        }
+        Ok(())
+    }
+
+    /// Number of hashed contexts (orders 2 to 6, two word, two column).
+    pub(crate) fn hashed_contexts(&self) -> usize {
+        (self.orders >> 1).count_ones() as usize
+            + 2 * usize::from(self.word)
+            + 2 * usize::from(self.column)
+    }
+
+    /// Mixer inputs: one per context, the match model, and a bias.
+    pub(crate) fn inputs(&self) -> usize {
+        self.hashed_contexts() + usize::from(self.orders & 1 == 1) + usize::from(self.matcher) + 1
+    }
+
+    /// Bytes of the hashed context tables.
+    pub(crate) fn table_bytes(&self) -> u64 {
+        1u64 << (20 + u32::from(self.mem_log2))
+    }
+
+    /// Log2 of the match model's position entries (a quarter of the table memory).
+    pub(crate) fn match_bits(&self) -> u32 {
+        18 + u32::from(self.mem_log2)
+    }
+
+    /// Bytes of tables the engine allocates with these parameters.
+    pub fn memory_needed(&self) -> u64 {
+        let mut total = SlotTable::memory_needed(self.table_bytes())
+            + Mixer::memory_needed(self.inputs(), Self::SETS)
+            + Apm::memory_needed(256)
+            + Apm::memory_needed(Self::APM2_CONTEXTS);
+        if self.orders & 1 == 1 {
+            total += 256 * 4 * NODES_PER_CONTEXT as u64;
+        }
+        if self.matcher {
+            total += MatchModel::memory_needed(self.match_bits());
+        }
+        total
+    }
+
+    /// The parameters as four bytes: `mem_log2`, `orders`, flags (bit 0
+    /// `word`, bit 1 `column`, bit 2 `matcher`), `rate`.
+    pub fn to_bytes(&self) -> [u8; 4] {
+        let flags =
+            u8::from(self.word) | (u8::from(self.column) << 1) | (u8::from(self.matcher) << 2);
+        [self.mem_log2, self.orders, flags, self.rate]
+    }
+
+    /// Rebuilds parameters written by [`to_bytes`](MixParams::to_bytes).
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::InvalidParameter`] for unknown flag bits or a field out of range.
+    pub fn from_bytes(bytes: [u8; 4]) -> Result<Self> {
+        if bytes[2] & !0b111 != 0 {
+            return Err(invalid("flags", "unknown flag bits"));
+        }
+        let p = MixParams {
+            mem_log2: bytes[0],
+            orders: bytes[1],
+            word: bytes[2] & 1 != 0,
+            column: bytes[2] & 2 != 0,
+            matcher: bytes[2] & 4 != 0,
+            rate: bytes[3],
+        };
+        p.validate()?;
+        Ok(p)
+    }
+}
+
+/// Checks a memory need against a limit: the test a decoder makes before
+/// building an engine for a stream.
+///
+/// # Errors
+///
+/// [`ErrorKind::LimitExceeded`] when `needed > limit`.
+///
+/// # Example
+///
+/// ```
+/// use subrange::model::cm::{check_memory, MixParams};
+///
+/// let p = MixParams::default();
+/// assert!(check_memory(p.memory_needed(), 1 << 30).is_ok());
+/// assert!(check_memory(p.memory_needed(), 1 << 20).is_err());
+/// ```
+pub fn check_memory(needed: u64, limit: u64) -> Result<()> {
+    if needed > limit {
+        return Err(ErrorKind::LimitExceeded {
+            what: "model memory",
+            declared: needed,
+            limit,
+        }
+        .into());
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn bad_fields_are_refused() {
+        assert!(Order2Params::from_bytes([2, 6, 255, 0]).is_err());
+        assert!(Order2Params::from_bytes([1, 0, 255, 0]).is_err());
+        assert!(Order2Params::from_bytes([1, 6, 0, 4]).is_err());
+        assert!(MixParams::from_bytes([11, 63, 7, 6]).is_err());
+        assert!(MixParams::from_bytes([6, 64, 7, 6]).is_err());
+        assert!(MixParams::from_bytes([6, 63, 8, 6]).is_err());
+        assert!(MixParams::from_bytes([6, 63, 7, 65]).is_err());
+        assert!(MixParams::from_bytes([6, 0, 0, 6]).is_err());
+        assert!(MixParams::from_bytes([6, 1, 0, 6]).is_ok());
+    }
+}

@@ -1,0 +1,293 @@
+//! The mix engine: many contexts, logistic mixing, two APM stages.
+//!
+//! Per bit, every enabled context contributes one prediction:
+//!
+//! - order 1 from a direct table (17 nibble groups of 16 counters per byte
+//!   value, as in the order-2 engine);
+//! - orders 2 to 6, the current word, the word pair and the two column
+//!   contexts from one shared [`SlotTable`]: each context's hash, combined
+//!   with the high nibble when the low nibble is coded, selects a verified
+//!   slot of 15 node counters;
+//! - the match model's guess of the next bit, weighed by its learned
+//!   reliability for the current match length.
+//!
+//! The stretched predictions and a bias enter a [`Mixer`] whose weight set is
+//! chosen by the match state and the partial byte. Its output is refined by
+//! two [`Apm`]s, one keyed by the partial byte, one by the partial byte and
+//! the previous byte, and the final probability averages the mixer and both
+//! refinements (the APMs fix systematic over- or under-confidence, the
+//! average keeps their noise down).
+//!
+//! Invariants: encoder and decoder call `predict`, `update` and `byte_done`
+//! in the same order with the same bits and the same history, so every table
+//! evolves identically; all indices are derived from masked hashes or
+//! bounded node numbers, so no input can index out of range.
+
+use alloc::vec;
+use alloc::vec::Vec;
+
+use crate::coder::{Decoder, Encoder};
+use crate::error::Result;
+use crate::model::apm::Apm;
+use crate::model::cm::fast::update_stored;
+use crate::model::cm::params::{MixParams, NODES_PER_CONTEXT};
+use crate::model::column::ColumnContext;
+use crate::model::counter::{counter_p16, counter_update, COUNTER_INIT};
+use crate::model::hashed::{hash2, SlotTable};
+use crate::model::logistic::stretch;
+use crate::model::matcher::MatchModel;
+use crate::model::mix::Mixer;
+use crate::model::word::WordContext;
+
+/// Most hashed contexts: orders 2 to 6, two word and two column contexts.
+const MAX_HASHED: usize = 9;
+
+/// Count limit of the hashed context counters.
+const HASHED_LIMIT: u32 = 255;
+
+/// Count limit of the order-1 counters.
+const ORDER1_LIMIT: u32 = 1023;
+
+/// Context-kind tags mixed into the hashes so different kinds never share slots.
+const TAG_WORD: u64 = 0x100;
+const TAG_PAIR: u64 = 0x101;
+const TAG_COLUMN: u64 = 0x102;
+const TAG_ABOVE: u64 = 0x103;
+
+struct MixModel {
+    slots: SlotTable,
+    order1: Vec<u32>,
+    use_order1: bool,
+    orders: Vec<u8>,
+    word: Option<WordContext>,
+    column: Option<ColumnContext>,
+    matcher: Option<MatchModel>,
+    hashed: usize,
+    hashes: [u64; MAX_HASHED],
+    bases: [usize; MAX_HASHED],
+    mixer: Mixer,
+    apm1: Apm,
+    apm2: Apm,
+    c0: u32,
+    nib: usize,
+    bits: u32,
+    c8: u64,
+    base1: usize,
+    p: u32,
+}
+
+impl MixModel {
+    fn new(params: &MixParams) -> Result<Self> {
+        params.validate()?;
+        let orders = (2..=6u8)
+            .filter(|&o| params.orders & (1 << (o - 1)) != 0)
+            .collect();
+        let use_order1 = params.orders & 1 != 0;
+        let mut m = MixModel {
+            slots: SlotTable::new(params.table_bytes()),
+            order1: if use_order1 {
+                vec![0; 256 * NODES_PER_CONTEXT]
+            } else {
+                Vec::new()
+            },
+            use_order1,
+            orders,
+            word: params.word.then(WordContext::default),
+            column: params.column.then(ColumnContext::default),
+            matcher: params
+                .matcher
+                .then(|| MatchModel::new(params.match_bits())),
+            hashed: params.hashed_contexts(),
+            hashes: [0; MAX_HASHED],
+            bases: [0; MAX_HASHED],
+            mixer: Mixer::new(params.inputs(), MixParams::SETS, u32::from(params.rate))?,
+            apm1: Apm::new(256, 7)?,
+            apm2: Apm::new(MixParams::APM2_CONTEXTS, 7)?,
+            c0: 1,
+            nib: 1,
+            bits: 0,
+            c8: 0,
+            base1: 0,
+            p: 32768,
+        };
+        m.set_contexts();
+        m.predict();
+        Ok(m)
+    }
+
+    /// Computes the byte-level context hashes and the first nibble's slots.
+    fn set_contexts(&mut self) {
+        let c1 = self.c8 & 0xFF;
+        let mut k = 0;
+        for &o in &self.orders {
+            let mask = (1u64 << (8 * u32::from(o))) - 1;
+            self.hashes[k] = hash2(self.c8 & mask, u64::from(o));
+            k += 1;
+        }
+        if let Some(w) = &self.word {
+            let word = if w.word() == 0 { c1 } else { w.word() };
+            self.hashes[k] = hash2(word, TAG_WORD);
+            self.hashes[k + 1] = hash2(hash2(w.word(), w.previous()), TAG_PAIR);
+            k += 2;
+        }
+        if let Some(c) = &self.column {
+            let above = u64::from(c.above());
+            let column = c.column().min(255) as u64;
+            self.hashes[k] = hash2(above | (column << 8), TAG_COLUMN);
+            self.hashes[k + 1] = hash2(above | (c1 << 8), TAG_ABOVE);
+            k += 2;
+        }
+        debug_assert_eq!(k, self.hashed);
+        for k in 0..self.hashed {
+            self.bases[k] = self.slots.find(self.hashes[k]);
+        }
+        self.base1 = c1 as usize * NODES_PER_CONTEXT;
+    }
+
+    #[inline]
+    fn predict(&mut self) {
+        let words = self.slots.words();
+        for &base in &self.bases[..self.hashed] {
+            self.mixer.add(stretch(counter_p16(words[base + self.nib])));
+        }
+        if self.use_order1 {
+            let c = self.order1[self.base1 + self.nib] ^ COUNTER_INIT;
+            self.mixer.add(stretch(counter_p16(c)));
+        }
+        let mut state = 0;
+        if let Some(m) = &mut self.matcher {
+            self.mixer.add(m.input());
+            state = m.state();
+        }
+        self.mixer.add(256);
+        self.mixer.select(state * 256 + self.c0 as usize);
+        let p = self.mixer.mix();
+        let c1 = (self.c8 & 0xFF) as usize;
+        let a1 = self.apm1.refine(p, self.c0 as usize);
+        let a2 = self.apm2.refine(p, self.c0 as usize | (c1 << 8));
+        self.p = ((2 * p + a1 + a2 + 2) >> 2).clamp(1, 65535);
+    }
+
+    #[inline]
+    fn update(&mut self, bit: bool) {
+        self.mixer.update(bit);
+        self.apm1.update(bit);
+        self.apm2.update(bit);
+        let words = self.slots.words_mut();
+        for &base in &self.bases[..self.hashed] {
+            counter_update(&mut words[base + self.nib], bit, HASHED_LIMIT);
+        }
+        if self.use_order1 {
+            update_stored(&mut self.order1[self.base1 + self.nib], bit, ORDER1_LIMIT);
+        }
+        if let Some(m) = &mut self.matcher {
+            m.update_bit(bit);
+        }
+        self.c0 = (self.c0 << 1) | u32::from(bit);
+        self.nib = (self.nib << 1) | usize::from(bit);
+        self.bits += 1;
+        if self.bits == 4 {
+            let high = u64::from(self.c0 & 15);
+            for k in 0..self.hashed {
+                self.bases[k] = self.slots.find(hash2(self.hashes[k], 16 + high));
+            }
+            self.base1 += 16 * (1 + high as usize);
+            self.nib = 1;
+        }
+        if self.bits < 8 {
+            self.predict();
+        }
+    }
+
+    /// Finishes a byte: `history` ends with it.
+    fn byte_done(&mut self, history: &[u8]) {
+        let byte = (self.c0 & 0xFF) as u8;
+        self.c8 = (self.c8 << 8) | u64::from(byte);
+        self.c0 = 1;
+        self.nib = 1;
+        self.bits = 0;
+        if let Some(w) = &mut self.word {
+            w.push(byte);
+        }
+        if let Some(c) = &mut self.column {
+            c.byte_done(history);
+        }
+        if let Some(m) = &mut self.matcher {
+            m.byte_done(history);
+        }
+        self.set_contexts();
+        self.predict();
+    }
+}
+
+/// Compresses `data` with the mix engine.
+///
+/// The output is a bare range-coded stream; the decoder needs the length of
+/// `data` and the same parameters. The engine allocates
+/// [`MixParams::memory_needed`] bytes of tables.
+///
+/// # Errors
+///
+/// [`ErrorKind::InvalidParameter`](crate::ErrorKind::InvalidParameter) when
+/// `params` is out of range.
+///
+/// # Example
+///
+/// ```
+/// use subrange::model::cm::{decode_mix, encode_mix, MixParams};
+///
+/// # fn main() -> Result<(), subrange::Error> {
+/// let text = b"The gauge on the upper river reads high; the gauge on the lower river reads low. ";
+/// let data = text.repeat(30);
+/// let mut params = MixParams::default();
+/// params.mem_log2 = 1;
+/// let coded = encode_mix(&data, &params)?;
+/// assert!(coded.len() < 200);
+/// assert_eq!(decode_mix(&coded, data.len(), &params)?, data);
+/// # Ok(())
+/// # }
+/// ```
+pub fn encode_mix(data: &[u8], params: &MixParams) -> Result<Vec<u8>> {
+    let mut model = MixModel::new(params)?;
+    let mut enc = Encoder::with_sink(Vec::with_capacity(data.len() / 3 + 16));
+    for (i, &byte) in data.iter().enumerate() {
+        for k in (0..8).rev() {
+            let bit = (byte >> k) & 1 == 1;
+            enc.encode_bit(bit, model.p)?;
+            model.update(bit);
+        }
+        model.byte_done(&data[..=i]);
+    }
+    enc.finish()
+}
+
+/// Decompresses `raw_len` bytes coded by [`encode_mix`] with the same
+/// parameters.
+///
+/// Allocates `raw_len` bytes for the output and [`MixParams::memory_needed`]
+/// bytes of tables, nothing that depends on `coded`; the caller bounds both.
+/// Damaged input gives an error or wrong bytes (a container's checksum
+/// catches those), never a panic.
+///
+/// # Errors
+///
+/// [`ErrorKind::InvalidParameter`](crate::ErrorKind::InvalidParameter) for
+/// bad parameters; [`ErrorKind::Truncated`](crate::ErrorKind::Truncated),
+/// [`ErrorKind::CorruptStream`](crate::ErrorKind::CorruptStream) or
+/// [`ErrorKind::TrailingBytes`](crate::ErrorKind::TrailingBytes) when
+/// `coded` is not exactly a stream of `raw_len` bytes.
+pub fn decode_mix(coded: &[u8], raw_len: usize, params: &MixParams) -> Result<Vec<u8>> {
+    let mut model = MixModel::new(params)?;
+    let mut dec = Decoder::new(coded)?;
+    let mut out = Vec::with_capacity(raw_len);
+    for _ in 0..raw_len {
+        for _ in 0..8 {
+            let bit = dec.decode_bit(model.p)?;
+            model.update(bit);
+        }
+        out.push((model.c0 & 0xFF) as u8);
+        model.byte_done(&out);
+    }
+    dec.finish()?;
+    Ok(out)
+}
