@@ -4,8 +4,8 @@
 //! context: for each context it keeps a curve of 33 output probabilities at
 //! evenly spaced points of the stretched input (`-2048, -1920, …, 2048`, i.e.
 //! log-odds from −8 to 8 in steps of ½). A prediction interpolates linearly
-//! between the two points around `stretch(p)`; after the bit is coded the
-//! nearer point moves `2^-rate` of the way towards it. The curves start as
+//! between the two points around `stretch(p)`; after the bit is coded both
+//! points move towards it, each by `2^-rate` times its interpolation weight. The curves start as
 //! the identity, so an untrained APM passes probabilities through, and they
 //! learn what the input's confidence really means in each context — for
 //! instance that a model which claims 99 % is right only 95 % of the time.
@@ -45,6 +45,7 @@ pub struct Apm {
     table: Vec<u16>,
     contexts: usize,
     index: usize,
+    weight: u32,
     rate: u8,
 }
 
@@ -83,6 +84,7 @@ impl Apm {
             table,
             contexts,
             index: 0,
+            weight: 0,
             rate,
         })
     }
@@ -103,18 +105,20 @@ impl Apm {
         let base = context.min(self.contexts - 1) * POINTS + lo;
         let a = u32::from(self.table[base]);
         let b = u32::from(self.table[base + 1]);
-        self.index = base + (w >> 6) as usize;
+        self.index = base;
+        self.weight = w;
         ((a * (128 - w) + b * w) >> 7).clamp(1, 65535)
     }
 
-    /// Learns the coded bit at the point the last `refine` used.
+    /// Learns the coded bit at the two points the last `refine` used.
     #[inline]
     pub fn update(&mut self, bit: bool) {
-        let t = &mut self.table[self.index];
-        if bit {
-            *t += (65535 - *t) >> self.rate;
-        } else {
-            *t -= *t >> self.rate;
+        let target = if bit { 65535 } else { 0 };
+        let shift = u32::from(self.rate) + 7;
+        let w = self.weight as i32;
+        for (i, share) in [(self.index, 128 - w), (self.index + 1, w)] {
+            let t = i32::from(self.table[i]);
+            self.table[i] = (t + (((target - t) * share) >> shift)).clamp(0, 65535) as u16;
         }
     }
 }

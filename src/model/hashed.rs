@@ -71,13 +71,28 @@ impl SlotTable {
     /// The index of the first word of the slot for `hash`, claiming one if the
     /// context is not present. Entries `index + 1 ..= index + 15` are its
     /// counters.
-    #[inline]
+    #[cfg(test)]
     pub(crate) fn find(&mut self, hash: u64) -> usize {
-        let slot = (hash >> self.shift) as usize;
-        let check = (hash as u32) | 1;
-        let a = slot * SLOT_WORDS;
-        let b = (slot ^ 1) * SLOT_WORDS;
-        if self.words[a] == check {
+        let (a, check) = self.locate(hash);
+        let seen = self.words[a];
+        self.resolve(a, check, seen)
+    }
+
+    /// First half of [`find`](SlotTable::find): the slot pair's first word
+    /// index and the check value. Callers looking up several contexts locate
+    /// them all, load `words()[index]` for each (independent loads the
+    /// processor overlaps), then [`resolve`](SlotTable::resolve) each.
+    #[inline]
+    pub(crate) fn locate(&self, hash: u64) -> (usize, u32) {
+        let slot = ((hash >> self.shift) as usize) & !1;
+        (slot * SLOT_WORDS, (hash as u32) | 1)
+    }
+
+    /// Second half of [`find`](SlotTable::find): `seen` is the word at `a`.
+    #[inline]
+    pub(crate) fn resolve(&mut self, a: usize, check: u32, seen: u32) -> usize {
+        let b = a + SLOT_WORDS;
+        if seen == check {
             return a;
         }
         if self.words[b] == check {

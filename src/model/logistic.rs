@@ -183,7 +183,10 @@ mod tests {
             let p = (cell * 16 + 8) as f64 / 65536.0;
             let want = (256.0 * (p / (1.0 - p)).ln()).clamp(-2047.0, 2047.0);
             let got = stretch(cell * 16 + 8) as f64;
-            assert!((got - want).abs() <= 1.5, "cell={cell} got={got} want={want}");
+            // The table inverts a 16-bit squash: near the ends one step of p16
+            // spans several stretched values.
+            let step = 256.0 / (65536.0 * p * (1.0 - p));
+            assert!((got - want).abs() <= 1.5 + step, "cell={cell} got={got} want={want}");
         }
     }
 

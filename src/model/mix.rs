@@ -13,9 +13,11 @@
 //! Fixed point: inputs and the output sum have 8 fractional bits (see
 //! [`stretch`]); weights have 16 (65536 is 1.0); the error is taken at 12
 //! bits, and a rate `r` makes each step `Δw = x·err·r / 1024`. Weights are
-//! kept within ±32.0, which bounds every intermediate value; the sum is
-//! accumulated in 64 bits. All of it is integer arithmetic, so encoder and
-//! decoder compute the same weights on every platform.
+//! kept within ±16.0 and inputs within ±2047, so every product `x·w` fits an
+//! `i32`; each is shifted right by 8 before summing, so 256 of them still
+//! fit. The input vector is padded with zeros to a multiple of 8 so the loops
+//! vectorise. All of it is integer arithmetic, so encoder and decoder compute
+//! the same weights on every platform.
 //!
 //! [`Mixer`] is the low-level piece the strong engines use;
 //! [`MixedPredictor`] wraps it around any set of [`BitPredictor`]s, which is
@@ -28,8 +30,11 @@ use crate::error::{ErrorKind, Result};
 use crate::model::bit::BitPredictor;
 use crate::model::logistic::{squash, stretch, STRETCH_MAX};
 
-/// Largest weight magnitude: 32.0 in 16.16 fixed point.
-const WEIGHT_LIMIT: i32 = 32 << 16;
+/// Largest weight magnitude: 16.0 in 16.16 fixed point.
+const WEIGHT_LIMIT: i32 = 16 << 16;
+
+/// Input vectors are padded to a multiple of this.
+const LANES: usize = 8;
 
 /// Largest number of inputs of one mixer.
 pub const MAX_MIXER_INPUTS: usize = 256;
@@ -71,6 +76,7 @@ pub struct Mixer {
     inputs: Vec<i32>,
     weights: Vec<i32>,
     n: usize,
+    stride: usize,
     count: usize,
     sets: usize,
     set: usize,
@@ -98,10 +104,16 @@ impl Mixer {
             return Err(invalid("rate", "must be in 1 ..= 255"));
         }
         let w0 = (65536 / inputs) as i32;
+        let stride = inputs.div_ceil(LANES) * LANES;
+        let mut weights = vec![0; stride * sets];
+        for set in weights.chunks_exact_mut(stride) {
+            set[..inputs].fill(w0);
+        }
         Ok(Mixer {
-            inputs: vec![0; inputs],
-            weights: vec![w0; inputs * sets],
+            inputs: vec![0; stride],
+            weights,
             n: inputs,
+            stride,
             count: 0,
             sets,
             set: 0,
@@ -112,14 +124,18 @@ impl Mixer {
 
     /// Bytes of memory the weights and inputs of such a mixer take.
     pub fn memory_needed(inputs: usize, sets: usize) -> u64 {
-        4 * (inputs as u64 * sets as u64 + inputs as u64)
+        let stride = inputs.div_ceil(LANES) as u64 * LANES as u64;
+        4 * stride * (sets as u64 + 1)
     }
 
     /// Sets every weight of every set to `weight` (16.16 fixed point, clamped
-    /// to ±32.0).
+    /// to ±16.0).
     pub fn fill_weights(&mut self, weight: i32) {
         let w = weight.clamp(-WEIGHT_LIMIT, WEIGHT_LIMIT);
-        self.weights.iter_mut().for_each(|x| *x = w);
+        let n = self.n;
+        for set in self.weights.chunks_exact_mut(self.stride) {
+            set[..n].fill(w);
+        }
     }
 
     /// Number of inputs per step.
@@ -141,22 +157,21 @@ impl Mixer {
     /// the last one).
     #[inline]
     pub fn select(&mut self, context: usize) {
-        self.set = context.min(self.sets - 1) * self.n;
+        self.set = context.min(self.sets - 1) * self.stride;
     }
 
     /// The mixed probability of a 1, scaled to 2^16 (`1 ..= 65535`).
     #[inline]
     pub fn mix(&mut self) -> u32 {
         self.inputs[self.count..].iter_mut().for_each(|x| *x = 0);
-        let w = &self.weights[self.set..self.set + self.n];
-        let dot: i64 = self
+        let w = &self.weights[self.set..self.set + self.stride];
+        let dot: i32 = self
             .inputs
             .iter()
             .zip(w)
-            .map(|(&x, &w)| i64::from(x) * i64::from(w))
+            .map(|(&x, &w)| (x * w) >> 8)
             .sum();
-        let st = (dot >> 16).clamp(-i64::from(STRETCH_MAX), i64::from(STRETCH_MAX)) as i32;
-        self.p = squash(st);
+        self.p = squash(dot >> 8);
         self.p
     }
 
@@ -174,7 +189,7 @@ impl Mixer {
         let err = (target - self.p as i32) >> 4;
         let scale = err * self.rate;
         if scale != 0 {
-            let w = &mut self.weights[self.set..self.set + self.n];
+            let w = &mut self.weights[self.set..self.set + self.stride];
             for (w, &x) in w.iter_mut().zip(&self.inputs) {
                 let step = (x * scale + 512) >> 10;
                 *w = (*w + step).clamp(-WEIGHT_LIMIT, WEIGHT_LIMIT);

@@ -1,16 +1,20 @@
-//! The fast engine: order-2 contexts, optionally mixed with order 1.
+//! The fast engine: order-2 contexts that inherit from order 1.
 //!
-//! Each byte is coded bit by bit through the nibble trees of its contexts.
-//! For the order-2 context (the two previous bytes, 65,536 of them) and the
-//! order-1 context (the previous byte) a direct table holds 17 groups of 16
-//! packed [counters](crate::model::CountingPredictor) per context: group 0 for
-//! the high nibble's 15 tree nodes, group `1 + h` for the low nibble after
-//! high nibble `h`. A group is one 64-byte cache line, so a byte touches two
-//! lines per context. With `order1` set, the two stretched predictions and a
-//! bias go through a small [`Mixer`] whose weight set is chosen by the
-//! order-2 counter's confidence (a bucket of its update count) and the
-//! partial byte; the mixer learns when a young order-2 context should defer
-//! to order 1.
+//! Each byte is coded bit by bit through the nibble trees of its order-2
+//! context (the two previous bytes, 65,536 of them). A direct table holds 17
+//! groups of 16 packed [counters](crate::model::CountingPredictor) per
+//! context: group 0 for the high nibble's 15 tree nodes, group `1 + h` for the
+//! low nibble after high nibble `h`. A group is one 64-byte cache line, so a
+//! byte touches two lines, and every bit costs one counter read and one
+//! update: no mixing, which keeps the engine fast.
+//!
+//! The weakness of a plain order-2 model is the cost of learning each of its
+//! many contexts from scratch. With `order1` set, a tree node seen for the
+//! first time in its order-2 context is coded with the probability of the
+//! same node in the order-1 context instead, and then starts from that
+//! probability (the prior inheritance of PPM-style models). The order-1 table
+//! is updated only on such first visits, so it learns exactly what it is used
+//! for: what follows a byte in a context not seen before.
 //!
 //! Tables are stored as `counter ^ COUNTER_INIT`, so they start as zeroed
 //! memory: the allocator can hand out untouched pages lazily and a short
@@ -28,16 +32,6 @@ use crate::error::Result;
 use crate::model::cm::params::{Order2Params, NODES_PER_CONTEXT};
 use crate::model::counter::{counter_n, counter_p16, counter_update, COUNTER_INIT};
 use crate::model::cm::io::BitIo;
-
-/// Confidence bucket of an update count: 0, 1, 2, 3–4, 5–8, 9–16, 17–32, more.
-#[inline]
-fn confidence(n: u32) -> usize {
-    if n < 3 {
-        n as usize
-    } else {
-        (32 - (n - 1).leading_zeros() as usize + 1).min(7)
-    }
-}
 
 /// Updates a counter stored as `counter ^ COUNTER_INIT` (so that zeroed
 /// memory, which the allocator hands out lazily, reads as fresh counters).
@@ -83,12 +77,12 @@ impl FastModel {
             let i2 = g2 + node;
             let mut c = self.t2[i2] ^ COUNTER_INIT;
             if self.order1 && counter_n(c) == 0 {
-                // A new order-2 context starts from what order 1 knows about
-                // new contexts, counted as one observation.
+                // A new order-2 node starts from what order 1 knows about
+                // new contexts, with a count of zero (the prior is not counted).
                 let i1 = g1 + node;
                 let c1 = self.t1[i1] ^ COUNTER_INIT;
                 let bit = io.code(bit, counter_p16(c1).clamp(1, 65535))?;
-                c = (c1 & !1023) | 1;
+                c = (c1 & !1023) | 2;
                 counter_update(&mut c, bit, self.limit);
                 self.t2[i2] = c ^ COUNTER_INIT;
                 update_stored(&mut self.t1[i1], bit, self.limit);
@@ -180,15 +174,6 @@ pub fn decode_order2(coded: &[u8], raw_len: usize, params: &Order2Params) -> Res
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    #[test]
-    fn confidence_buckets() {
-        let b: Vec<usize> = [0, 1, 2, 3, 4, 5, 8, 9, 16, 17, 32, 33, 1023]
-            .iter()
-            .map(|&n| confidence(n))
-            .collect();
-        assert_eq!(b, [0, 1, 2, 3, 3, 4, 4, 5, 5, 6, 6, 7, 7]);
-    }
 
     #[test]
     fn round_trip_without_order1() {

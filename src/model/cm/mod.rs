@@ -4,8 +4,8 @@
 //! the bytes before it:
 //!
 //! - the **order-2** engine ([`encode_order2`] / [`decode_order2`]): direct
-//!   order-2 context tables, optionally mixed with order 1; fast, and close to
-//!   the data's order-2 conditional entropy;
+//!   order-2 context tables whose new contexts inherit order-1 predictions;
+//!   fast, and close to the data's order-2 conditional entropy;
 //! - the **mix** engine ([`encode_mix`] / [`decode_mix`]): hashed contexts of
 //!   orders 1 to 6, word and column contexts and a match model, combined by
 //!   logistic mixing and refined by two adaptive probability maps; the

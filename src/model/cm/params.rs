@@ -33,7 +33,8 @@ fn invalid(name: &'static str, reason: &'static str) -> crate::Error {
 /// use subrange::model::cm::Order2Params;
 ///
 /// # fn main() -> Result<(), subrange::Error> {
-/// let p = Order2Params::default();
+/// let mut p = Order2Params::default();
+/// p.limit = 255; // for long, stationary inputs
 /// assert_eq!(Order2Params::from_bytes(p.to_bytes())?, p);
 /// assert!(p.memory_needed() < 80 << 20);
 /// # Ok(())
@@ -42,30 +43,24 @@ fn invalid(name: &'static str, reason: &'static str) -> crate::Error {
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 #[non_exhaustive]
 pub struct Order2Params {
-    /// Mix an order-1 prediction with the order-2 one (default `true`):
-    /// better on small or varied inputs, about a third slower.
+    /// New order-2 contexts inherit order-1 predictions (default `true`):
+    /// much better on short or varied inputs, at little cost in speed.
     pub order1: bool,
-    /// Count limit of the adaptive counters, `1 ..= 1023` (default 255):
-    /// higher suits stationary data, lower adapts faster.
+    /// Count limit of the adaptive counters, `1 ..= 1023` (default 60):
+    /// higher suits long stationary data, lower adapts faster.
     pub limit: u16,
-    /// Mixer learning rate, `1 ..= 64` (default 6).
-    pub rate: u8,
 }
 
 impl Default for Order2Params {
     fn default() -> Self {
         Order2Params {
             order1: true,
-            limit: 255,
-            rate: 6,
+            limit: 60,
         }
     }
 }
 
 impl Order2Params {
-    /// Mixer weight sets of the order-2 engine.
-    pub(crate) const SETS: usize = 8 * 256;
-
     /// Checks every field against its documented range.
     ///
     /// # Errors
@@ -75,9 +70,6 @@ impl Order2Params {
         if self.limit == 0 || self.limit > 1023 {
             return Err(invalid("limit", "must be in 1 ..= 1023"));
         }
-        if self.rate == 0 || self.rate > 64 {
-            return Err(invalid("rate", "must be in 1 ..= 64"));
-        }
         Ok(())
     }
 
@@ -86,16 +78,16 @@ impl Order2Params {
         let per_context = 4 * NODES_PER_CONTEXT as u64;
         let mut total = 65536 * per_context;
         if self.order1 {
-            total += 256 * per_context + Mixer::memory_needed(3, Self::SETS);
+            total += 256 * per_context;
         }
         total
     }
 
-    /// The parameters as four bytes: flags (bit 0: `order1`), `rate`, and
-    /// `limit` (little-endian).
-    pub fn to_bytes(&self) -> [u8; 4] {
+    /// The parameters as three bytes: flags (bit 0: `order1`) and `limit`
+    /// (little-endian).
+    pub fn to_bytes(&self) -> [u8; 3] {
         let [l0, l1] = self.limit.to_le_bytes();
-        [u8::from(self.order1), self.rate, l0, l1]
+        [u8::from(self.order1), l0, l1]
     }
 
     /// Rebuilds parameters written by [`to_bytes`](Order2Params::to_bytes).
@@ -103,14 +95,13 @@ impl Order2Params {
     /// # Errors
     ///
     /// [`ErrorKind::InvalidParameter`] for unknown flag bits or a field out of range.
-    pub fn from_bytes(bytes: [u8; 4]) -> Result<Self> {
+    pub fn from_bytes(bytes: [u8; 3]) -> Result<Self> {
         if bytes[0] & !1 != 0 {
             return Err(invalid("flags", "unknown flag bits"));
         }
         let p = Order2Params {
             order1: bytes[0] & 1 == 1,
-            rate: bytes[1],
-            limit: u16::from_le_bytes([bytes[2], bytes[3]]),
+            limit: u16::from_le_bytes([bytes[1], bytes[2]]),
         };
         p.validate()?;
         Ok(p)
@@ -137,11 +128,13 @@ impl Order2Params {
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 #[non_exhaustive]
 pub struct MixParams {
-    /// Hashed context tables take `2^mem_log2` MiB, `0 ..= 10` (default 6,
-    /// 64 MiB); the match model's table takes a quarter of that more.
+    /// Hashed context tables take `2^mem_log2` MiB, `0 ..= 10` (default 5,
+    /// 32 MiB); the match model's table takes 2^(18 + mem_log2) bytes more,
+    /// at most 4 MiB.
     pub mem_log2: u8,
     /// Context orders in use: bit `k` enables order `k + 1`, orders 1 to 6
-    /// (default `0b11_1111`, all of them).
+    /// (default `0b10_1011`: orders 1, 2, 4 and 6 — on text and records
+    /// they compress as well as all six at two thirds of the work).
     pub orders: u8,
     /// Word contexts: the current word, and it with the previous word (default on).
     pub word: bool,
@@ -157,8 +150,8 @@ pub struct MixParams {
 impl Default for MixParams {
     fn default() -> Self {
         MixParams {
-            mem_log2: 6,
-            orders: 0b11_1111,
+            mem_log2: 5,
+            orders: 0b10_1011,
             word: true,
             column: true,
             matcher: true,
@@ -215,9 +208,10 @@ impl MixParams {
         1u64 << (20 + u32::from(self.mem_log2))
     }
 
-    /// Log2 of the match model's position entries (a quarter of the table memory).
+    /// Log2 of the match model's position entries: 2^(16 + mem_log2), at
+    /// most 2^20 (4 MiB), plenty for blocks of a few MiB.
     pub(crate) fn match_bits(&self) -> u32 {
-        18 + u32::from(self.mem_log2)
+        (16 + u32::from(self.mem_log2)).min(20)
     }
 
     /// Bytes of tables the engine allocates with these parameters.
@@ -299,9 +293,10 @@ mod tests {
 
     #[test]
     fn bad_fields_are_refused() {
-        assert!(Order2Params::from_bytes([2, 6, 255, 0]).is_err());
-        assert!(Order2Params::from_bytes([1, 0, 255, 0]).is_err());
-        assert!(Order2Params::from_bytes([1, 6, 0, 4]).is_err());
+        assert!(Order2Params::from_bytes([2, 60, 0]).is_err());
+        assert!(Order2Params::from_bytes([1, 0, 0]).is_err());
+        assert!(Order2Params::from_bytes([1, 0, 4]).is_err());
+        assert!(Order2Params::from_bytes([0, 255, 3]).is_ok());
         assert!(MixParams::from_bytes([11, 63, 7, 6]).is_err());
         assert!(MixParams::from_bytes([6, 64, 7, 6]).is_err());
         assert!(MixParams::from_bytes([6, 63, 8, 6]).is_err());

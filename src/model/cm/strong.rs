@@ -30,11 +30,12 @@ use crate::coder::{Decoder, Encoder};
 use crate::error::Result;
 use crate::model::apm::Apm;
 use crate::model::cm::fast::update_stored;
+use crate::model::cm::io::BitIo;
 use crate::model::cm::params::{MixParams, NODES_PER_CONTEXT};
 use crate::model::column::ColumnContext;
 use crate::model::counter::{counter_p16, counter_update, COUNTER_INIT};
 use crate::model::hashed::{hash2, SlotTable};
-use crate::model::logistic::stretch;
+use crate::model::logistic::{squash, stretch};
 use crate::model::matcher::MatchModel;
 use crate::model::mix::Mixer;
 use crate::model::word::WordContext;
@@ -68,12 +69,14 @@ struct MixModel {
     mixer: Mixer,
     apm1: Apm,
     apm2: Apm,
-    c0: u32,
-    nib: usize,
-    bits: u32,
-    c8: u64,
-    base1: usize,
+    /// Final gain on the stretched probability (16.16 fixed point), learned
+    /// slowly: it shrinks towards 0 when the predictions carry no information
+    /// (random data), and stays near 1 otherwise.
+    gain: i32,
+    /// The stretched input of the gain stage and its output, for the update.
+    gain_st: i32,
     p: u32,
+    c8: u64,
 }
 
 impl MixModel {
@@ -103,19 +106,16 @@ impl MixModel {
             mixer: Mixer::new(params.inputs(), MixParams::SETS, u32::from(params.rate))?,
             apm1: Apm::new(256, 7)?,
             apm2: Apm::new(MixParams::APM2_CONTEXTS, 7)?,
-            c0: 1,
-            nib: 1,
-            bits: 0,
-            c8: 0,
-            base1: 0,
+            gain: 1 << 16,
+            gain_st: 0,
             p: 32768,
+            c8: 0,
         };
         m.set_contexts();
-        m.predict();
         Ok(m)
     }
 
-    /// Computes the byte-level context hashes and the first nibble's slots.
+    /// Computes the byte-level context hashes and the high nibble's slots.
     fn set_contexts(&mut self) {
         let c1 = self.c8 & 0xFF;
         let mut k = 0;
@@ -138,20 +138,37 @@ impl MixModel {
             k += 2;
         }
         debug_assert_eq!(k, self.hashed);
-        for k in 0..self.hashed {
-            self.bases[k] = self.slots.find(self.hashes[k]);
-        }
-        self.base1 = c1 as usize * NODES_PER_CONTEXT;
+        self.find_slots(0);
     }
 
+    /// Looks up the slots of every hashed context for nibble context `nibble`
+    /// (0 for the high nibble, `16 + high` for the low one).
     #[inline]
-    fn predict(&mut self) {
+    fn find_slots(&mut self, nibble: u64) {
+        let mut pending = [(0usize, 0u32, 0u32); MAX_HASHED];
+        let words = self.slots.words();
+        for k in 0..self.hashed {
+            let h = (self.hashes[k] ^ nibble).wrapping_mul(0x9E37_79B9_7F4A_7C15);
+            let h = h ^ (h >> 31);
+            let (a, check) = self.slots.locate(h);
+            pending[k] = (a, check, words[a]);
+        }
+        for k in 0..self.hashed {
+            let (a, check, seen) = pending[k];
+            self.bases[k] = self.slots.resolve(a, check, seen);
+        }
+    }
+
+    /// The probability of a 1 for the bit at `node` of the current nibble;
+    /// `c0` is the partial byte with a leading 1, `g1` the order-1 group.
+    #[inline(always)]
+    fn predict(&mut self, node: usize, c0: usize, g1: usize) -> u32 {
         let words = self.slots.words();
         for &base in &self.bases[..self.hashed] {
-            self.mixer.add(stretch(counter_p16(words[base + self.nib])));
+            self.mixer.add(stretch(counter_p16(words[base + node])));
         }
         if self.use_order1 {
-            let c = self.order1[self.base1 + self.nib] ^ COUNTER_INIT;
+            let c = self.order1[g1 + node] ^ COUNTER_INIT;
             self.mixer.add(stretch(counter_p16(c)));
         }
         let mut state = 0;
@@ -160,52 +177,65 @@ impl MixModel {
             state = m.state();
         }
         self.mixer.add(256);
-        self.mixer.select(state * 256 + self.c0 as usize);
+        self.mixer.select(state * 256 + c0);
         let p = self.mixer.mix();
         let c1 = (self.c8 & 0xFF) as usize;
-        let a1 = self.apm1.refine(p, self.c0 as usize);
-        let a2 = self.apm2.refine(p, self.c0 as usize | (c1 << 8));
-        self.p = ((2 * p + a1 + a2 + 2) >> 2).clamp(1, 65535);
+        let a1 = self.apm1.refine(p, c0);
+        let a2 = self.apm2.refine(p, c0 | (c1 << 8));
+        let p = ((2 * p + a1 + a2 + 2) >> 2).clamp(1, 65535);
+        self.gain_st = stretch(p);
+        self.p = squash(((i64::from(self.gain) * i64::from(self.gain_st)) >> 16) as i32);
+        self.p
     }
 
-    #[inline]
-    fn update(&mut self, bit: bool) {
+    #[inline(always)]
+    fn update(&mut self, bit: bool, node: usize, g1: usize) {
         self.mixer.update(bit);
         self.apm1.update(bit);
         self.apm2.update(bit);
+        // Gain: w += x·err / 2^13 (a slow rate keeps its noise low).
+        let err = (if bit { 65536 } else { 0 }) - self.p as i32;
+        self.gain = (self.gain + ((self.gain_st * (err >> 4)) >> 13)).clamp(0, 4 << 16);
         let words = self.slots.words_mut();
         for &base in &self.bases[..self.hashed] {
-            counter_update(&mut words[base + self.nib], bit, HASHED_LIMIT);
+            counter_update(&mut words[base + node], bit, HASHED_LIMIT);
         }
         if self.use_order1 {
-            update_stored(&mut self.order1[self.base1 + self.nib], bit, ORDER1_LIMIT);
+            update_stored(&mut self.order1[g1 + node], bit, ORDER1_LIMIT);
         }
         if let Some(m) = &mut self.matcher {
             m.update_bit(bit);
         }
-        self.c0 = (self.c0 << 1) | u32::from(bit);
-        self.nib = (self.nib << 1) | usize::from(bit);
-        self.bits += 1;
-        if self.bits == 4 {
-            let high = u64::from(self.c0 & 15);
-            for k in 0..self.hashed {
-                self.bases[k] = self.slots.find(hash2(self.hashes[k], 16 + high));
+    }
+
+    /// Codes one byte (the encoder passes it; the decoder passes anything).
+    #[inline]
+    fn code_byte<I: BitIo>(&mut self, io: &mut I, byte: u8) -> Result<u8> {
+        let mut c0 = 1usize;
+        let mut g1 = (self.c8 & 0xFF) as usize * NODES_PER_CONTEXT;
+        for half in 0..2 {
+            let mut node = 1usize;
+            for k in (0..4).rev() {
+                let bit = (byte >> (4 * (1 - half) + k)) & 1 == 1;
+                let p = self.predict(node, c0, g1);
+                let bit = io.code(bit, p)?;
+                self.update(bit, node, g1);
+                node = 2 * node + usize::from(bit);
+                c0 = 2 * c0 + usize::from(bit);
             }
-            self.base1 += 16 * (1 + high as usize);
-            self.nib = 1;
+            if half == 0 {
+                let high = (c0 & 15) as u64;
+                self.find_slots(16 + high);
+                g1 += 16 * (1 + high as usize);
+            }
         }
-        if self.bits < 8 {
-            self.predict();
-        }
+        Ok(c0 as u8)
     }
 
     /// Finishes a byte: `history` ends with it.
     fn byte_done(&mut self, history: &[u8]) {
-        let byte = (self.c0 & 0xFF) as u8;
+        let byte = history.last().copied().unwrap_or(0);
         self.c8 = (self.c8 << 8) | u64::from(byte);
-        self.c0 = 1;
-        self.nib = 1;
-        self.bits = 0;
         if let Some(w) = &mut self.word {
             w.push(byte);
         }
@@ -216,7 +246,6 @@ impl MixModel {
             m.byte_done(history);
         }
         self.set_contexts();
-        self.predict();
     }
 }
 
@@ -251,11 +280,7 @@ pub fn encode_mix(data: &[u8], params: &MixParams) -> Result<Vec<u8>> {
     let mut model = MixModel::new(params)?;
     let mut enc = Encoder::with_sink(Vec::with_capacity(data.len() / 3 + 16));
     for (i, &byte) in data.iter().enumerate() {
-        for k in (0..8).rev() {
-            let bit = (byte >> k) & 1 == 1;
-            enc.encode_bit(bit, model.p)?;
-            model.update(bit);
-        }
+        model.code_byte(&mut enc, byte)?;
         model.byte_done(&data[..=i]);
     }
     enc.finish()
@@ -281,11 +306,8 @@ pub fn decode_mix(coded: &[u8], raw_len: usize, params: &MixParams) -> Result<Ve
     let mut dec = Decoder::new(coded)?;
     let mut out = Vec::with_capacity(raw_len);
     for _ in 0..raw_len {
-        for _ in 0..8 {
-            let bit = dec.decode_bit(model.p)?;
-            model.update(bit);
-        }
-        out.push((model.c0 & 0xFF) as u8);
+        let byte = model.code_byte(&mut dec, 0)?;
+        out.push(byte);
         model.byte_done(&out);
     }
     dec.finish()?;
