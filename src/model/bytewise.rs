@@ -59,7 +59,10 @@ impl<P: BitPredictor + Clone> BitTree<P> {
 impl<P: BitPredictor> BitTree<P> {
     /// The predictor at `node` (`1 ..= 255`; other values give node 1).
     pub fn node(&self, node: usize) -> &P {
-        self.nodes.get(node).filter(|_| node != 0).unwrap_or(&self.nodes[1])
+        self.nodes
+            .get(node)
+            .filter(|_| node != 0)
+            .unwrap_or(&self.nodes[1])
     }
 
     /// Codes `byte`, most significant bit first, updating the nodes on its path.

@@ -186,7 +186,10 @@ mod tests {
             // The table inverts a 16-bit squash: near the ends one step of p16
             // spans several stretched values.
             let step = 256.0 / (65536.0 * p * (1.0 - p));
-            assert!((got - want).abs() <= 1.5 + step, "cell={cell} got={got} want={want}");
+            assert!(
+                (got - want).abs() <= 1.5 + step,
+                "cell={cell} got={got} want={want}"
+            );
         }
     }
 

@@ -165,12 +165,7 @@ impl Mixer {
     pub fn mix(&mut self) -> u32 {
         self.inputs[self.count..].iter_mut().for_each(|x| *x = 0);
         let w = &self.weights[self.set..self.set + self.stride];
-        let dot: i32 = self
-            .inputs
-            .iter()
-            .zip(w)
-            .map(|(&x, &w)| (x * w) >> 8)
-            .sum();
+        let dot: i32 = self.inputs.iter().zip(w).map(|(&x, &w)| (x * w) >> 8).sum();
         self.p = squash(dot >> 8);
         self.p
     }

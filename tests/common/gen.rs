@@ -41,11 +41,42 @@ const ONSETS: &[&str] = &[
     "fl", "br", "ch", "sh", "th", "wh", "",
 ];
 const VOWELS: &[&str] = &["a", "e", "i", "o", "u", "ea", "ou", "ai", "ee", "oo"];
-const CODAS: &[&str] = &["", "", "n", "r", "s", "t", "l", "nd", "st", "ng", "ck", "rd", "m"];
+const CODAS: &[&str] = &[
+    "", "", "n", "r", "s", "t", "l", "nd", "st", "ng", "ck", "rd", "m",
+];
 const DOMAIN: &[&str] = &[
-    "river", "gauge", "station", "level", "flow", "water", "temperature", "reading", "upstream",
-    "downstream", "bank", "flood", "weir", "channel", "rain", "rose", "fell", "steady", "metres",
-    "cubic", "per", "second", "the", "of", "and", "at", "was", "is", "in", "to", "a", "on",
+    "river",
+    "gauge",
+    "station",
+    "level",
+    "flow",
+    "water",
+    "temperature",
+    "reading",
+    "upstream",
+    "downstream",
+    "bank",
+    "flood",
+    "weir",
+    "channel",
+    "rain",
+    "rose",
+    "fell",
+    "steady",
+    "metres",
+    "cubic",
+    "per",
+    "second",
+    "the",
+    "of",
+    "and",
+    "at",
+    "was",
+    "is",
+    "in",
+    "to",
+    "a",
+    "on",
 ];
 
 /// English-like text: a Zipf-distributed vocabulary of pseudo-words and
@@ -111,8 +142,12 @@ pub fn text(len: usize, seed: u64) -> Vec<u8> {
 pub fn telemetry(len: usize, seed: u64) -> Vec<u8> {
     let mut rng = Rng::new(seed);
     let stations = 12usize;
-    let mut level: Vec<i64> = (0..stations).map(|_| 500 + rng.below(2000) as i64).collect();
-    let mut flow: Vec<i64> = (0..stations).map(|_| 100 + rng.below(5000) as i64).collect();
+    let mut level: Vec<i64> = (0..stations)
+        .map(|_| 500 + rng.below(2000) as i64)
+        .collect();
+    let mut flow: Vec<i64> = (0..stations)
+        .map(|_| 100 + rng.below(5000) as i64)
+        .collect();
     let mut temp: Vec<i64> = (0..stations).map(|_| 40 + rng.below(120) as i64).collect();
     let mut out = Vec::with_capacity(len + 100);
     out.extend_from_slice(b"time,station,level_mm,flow_l_s,temp_dc,status\n");
@@ -161,8 +196,16 @@ pub fn order2_entropy_bits(data: &[u8]) -> f64 {
     let mut ctx: HashMap<u32, u64> = HashMap::new();
     let mut full: HashMap<u32, u64> = HashMap::new();
     for i in 0..data.len() {
-        let a = if i >= 2 { u32::from(data[i - 2]) | 0x100 } else { 0 };
-        let b = if i >= 1 { u32::from(data[i - 1]) | 0x100 } else { 0 };
+        let a = if i >= 2 {
+            u32::from(data[i - 2]) | 0x100
+        } else {
+            0
+        };
+        let b = if i >= 1 {
+            u32::from(data[i - 1]) | 0x100
+        } else {
+            0
+        };
         let c = (a << 9) | b;
         *ctx.entry(c).or_default() += 1;
         *full.entry((c << 8) | u32::from(data[i])).or_default() += 1;

@@ -29,9 +29,9 @@ use alloc::vec::Vec;
 
 use crate::coder::{Decoder, Encoder};
 use crate::error::Result;
+use crate::model::cm::io::BitIo;
 use crate::model::cm::params::{Order2Params, NODES_PER_CONTEXT};
 use crate::model::counter::{counter_n, counter_p16, counter_update, COUNTER_INIT};
-use crate::model::cm::io::BitIo;
 
 /// Updates a counter stored as `counter ^ COUNTER_INIT` (so that zeroed
 /// memory, which the allocator hands out lazily, reads as fresh counters).
@@ -177,8 +177,10 @@ mod tests {
 
     #[test]
     fn round_trip_without_order1() {
-        let mut p = Order2Params::default();
-        p.order1 = false;
+        let p = Order2Params {
+            order1: false,
+            ..Default::default()
+        };
         let data: Vec<u8> = (0..3000u32).map(|i| (i * i % 17) as u8 + b'a').collect();
         let coded = encode_order2(&data, &p).unwrap();
         assert!(coded.len() < data.len() / 2);

@@ -186,7 +186,10 @@ impl MixParams {
             return Err(invalid("rate", "must be in 1 ..= 64"));
         }
         if self.inputs() == 1 {
-            return Err(invalid("orders", "at least one context or the match model is needed"));
+            return Err(invalid(
+                "orders",
+                "at least one context or the match model is needed",
+            ));
         }
         Ok(())
     }

@@ -97,9 +97,7 @@ impl MixModel {
             orders,
             word: params.word.then(WordContext::default),
             column: params.column.then(ColumnContext::default),
-            matcher: params
-                .matcher
-                .then(|| MatchModel::new(params.match_bits())),
+            matcher: params.matcher.then(|| MatchModel::new(params.match_bits())),
             hashed: params.hashed_contexts(),
             hashes: [0; MAX_HASHED],
             bases: [0; MAX_HASHED],
@@ -146,16 +144,15 @@ impl MixModel {
     #[inline]
     fn find_slots(&mut self, nibble: u64) {
         let mut pending = [(0usize, 0u32, 0u32); MAX_HASHED];
+        let n = self.hashed;
         let words = self.slots.words();
-        for k in 0..self.hashed {
-            let h = (self.hashes[k] ^ nibble).wrapping_mul(0x9E37_79B9_7F4A_7C15);
-            let h = h ^ (h >> 31);
-            let (a, check) = self.slots.locate(h);
-            pending[k] = (a, check, words[a]);
+        for (slot, &hash) in pending[..n].iter_mut().zip(&self.hashes[..n]) {
+            let h = (hash ^ nibble).wrapping_mul(0x9E37_79B9_7F4A_7C15);
+            let (a, check) = self.slots.locate(h ^ (h >> 31));
+            *slot = (a, check, words[a]);
         }
-        for k in 0..self.hashed {
-            let (a, check, seen) = pending[k];
-            self.bases[k] = self.slots.resolve(a, check, seen);
+        for (base, &(a, check, seen)) in self.bases[..n].iter_mut().zip(&pending[..n]) {
+            *base = self.slots.resolve(a, check, seen);
         }
     }
 
