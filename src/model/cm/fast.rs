@@ -82,7 +82,7 @@ impl FastModel {
                 let i1 = g1 + node;
                 let c1 = self.t1[i1] ^ COUNTER_INIT;
                 let bit = io.code(bit, counter_p16(c1).clamp(1, 65535))?;
-                c = (c1 & !1023) | 2;
+                c = c1 & !1023;
                 counter_update(&mut c, bit, self.limit);
                 self.t2[i2] = c ^ COUNTER_INIT;
                 update_stored(&mut self.t1[i1], bit, self.limit);

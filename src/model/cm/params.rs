@@ -136,10 +136,11 @@ pub struct MixParams {
     /// (default `0b10_1011`: orders 1, 2, 4 and 6 — on text and records
     /// they compress as well as all six at two thirds of the work).
     pub orders: u8,
-    /// Word contexts: the current word, and it with the previous word (default on).
+    /// The word context for text: the current word with the previous word
+    /// (default on).
     pub word: bool,
-    /// Column contexts for line-structured records: the byte above in the
-    /// previous line, with the column and with the last byte (default on).
+    /// The column context for line-structured records: the byte above in the
+    /// previous line, with the column (default on).
     pub column: bool,
     /// The match model (default on).
     pub matcher: bool,
@@ -194,11 +195,11 @@ impl MixParams {
         Ok(())
     }
 
-    /// Number of hashed contexts (orders 2 to 6, two word, two column).
+    /// Number of hashed contexts (orders 2 to 6, word, column).
     pub(crate) fn hashed_contexts(&self) -> usize {
         (self.orders >> 1).count_ones() as usize
-            + 2 * usize::from(self.word)
-            + 2 * usize::from(self.column)
+            + usize::from(self.word)
+            + usize::from(self.column)
     }
 
     /// Mixer inputs: one per context, the match model, and a bias.

@@ -4,8 +4,9 @@
 //!
 //! - order 1 from a direct table (17 nibble groups of 16 counters per byte
 //!   value, as in the order-2 engine);
-//! - orders 2 to 6, the current word, the word pair and the two column
-//!   contexts from one shared [`SlotTable`]: each context's hash, combined
+//! - orders 2 to 6, the word context (the current word with the previous
+//!   one) and the column context (the byte above in the previous line, with
+//!   the column) from one shared [`SlotTable`]: each context's hash, combined
 //!   with the high nibble when the low nibble is coded, selects a verified
 //!   slot of 15 node counters;
 //! - the match model's guess of the next bit, weighed by its learned
@@ -40,8 +41,8 @@ use crate::model::matcher::MatchModel;
 use crate::model::mix::Mixer;
 use crate::model::word::WordContext;
 
-/// Most hashed contexts: orders 2 to 6, two word and two column contexts.
-const MAX_HASHED: usize = 9;
+/// Most hashed contexts: orders 2 to 6, the word and the column context.
+const MAX_HASHED: usize = 7;
 
 /// Count limit of the hashed context counters.
 const HASHED_LIMIT: u32 = 255;
@@ -51,9 +52,7 @@ const ORDER1_LIMIT: u32 = 1023;
 
 /// Context-kind tags mixed into the hashes so different kinds never share slots.
 const TAG_WORD: u64 = 0x100;
-const TAG_PAIR: u64 = 0x101;
-const TAG_COLUMN: u64 = 0x102;
-const TAG_ABOVE: u64 = 0x103;
+const TAG_COLUMN: u64 = 0x101;
 
 struct MixModel {
     slots: SlotTable,
@@ -123,17 +122,17 @@ impl MixModel {
             k += 1;
         }
         if let Some(w) = &self.word {
-            let word = if w.word() == 0 { c1 } else { w.word() };
-            self.hashes[k] = hash2(word, TAG_WORD);
-            self.hashes[k + 1] = hash2(hash2(w.word(), w.previous()), TAG_PAIR);
-            k += 2;
+            // The word so far with the previous word; between words, the
+            // previous word with the separator byte.
+            let current = if w.word() == 0 { c1 } else { w.word() };
+            self.hashes[k] = hash2(hash2(current, w.previous()), TAG_WORD);
+            k += 1;
         }
         if let Some(c) = &self.column {
             let above = u64::from(c.above());
             let column = c.column().min(255) as u64;
             self.hashes[k] = hash2(above | (column << 8), TAG_COLUMN);
-            self.hashes[k + 1] = hash2(above | (c1 << 8), TAG_ABOVE);
-            k += 2;
+            k += 1;
         }
         debug_assert_eq!(k, self.hashed);
         self.find_slots(0);
