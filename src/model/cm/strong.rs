@@ -45,7 +45,7 @@ use crate::model::word::WordContext;
 const MAX_HASHED: usize = 7;
 
 /// Count limit of the hashed context counters.
-const HASHED_LIMIT: u32 = 255;
+const HASHED_LIMIT: u32 = 60;
 
 /// Count limit of the order-1 counters.
 const ORDER1_LIMIT: u32 = 1023;
