@@ -197,9 +197,7 @@ impl MixParams {
 
     /// Number of hashed contexts (orders 2 to 6, word, column).
     pub(crate) fn hashed_contexts(&self) -> usize {
-        (self.orders >> 1).count_ones() as usize
-            + usize::from(self.word)
-            + usize::from(self.column)
+        (self.orders >> 1).count_ones() as usize + usize::from(self.word) + usize::from(self.column)
     }
 
     /// Mixer inputs: one per context, the match model, and a bias.
