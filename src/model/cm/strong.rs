@@ -238,10 +238,12 @@ impl MixModel {
         if let Some(c) = &mut self.column {
             c.byte_done(history);
         }
+        // Slot lookups first: their cache misses then overlap with the match
+        // model's table look-up.
+        self.set_contexts();
         if let Some(m) = &mut self.matcher {
             m.byte_done(history);
         }
-        self.set_contexts();
     }
 }
 
