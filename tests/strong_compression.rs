@@ -68,7 +68,7 @@ fn order2_is_close_to_the_order2_conditional_entropy() {
 }
 
 #[test]
-fn order2_entropy_helper_matches_a_hand_count() {
+fn order2_entropy_matches_a_hand_count() {
     // "abab…": after the first two bytes every context predicts one byte, so
     // only the first two bytes cost anything: byte 0 has the empty context
     // (one occurrence, 0 bits), byte 1 the context "a" (one occurrence, 0 bits).

@@ -163,9 +163,19 @@ impl Mixer {
     /// The mixed probability of a 1, scaled to 2^16 (`1 ..= 65535`).
     #[inline]
     pub fn mix(&mut self) -> u32 {
-        self.inputs[self.count..].iter_mut().for_each(|x| *x = 0);
+        // Inputs not added this step count as 0 (the padding past `n` is
+        // never written, so it stays 0).
+        for x in &mut self.inputs[self.count..self.n] {
+            *x = 0;
+        }
         let w = &self.weights[self.set..self.set + self.stride];
-        let dot: i32 = self.inputs.iter().zip(w).map(|(&x, &w)| (x * w) >> 8).sum();
+        let mut acc = [0i32; LANES];
+        for (xs, ws) in self.inputs.chunks_exact(LANES).zip(w.chunks_exact(LANES)) {
+            for ((a, &x), &w) in acc.iter_mut().zip(xs).zip(ws) {
+                *a += (x * w) >> 8;
+            }
+        }
+        let dot: i32 = acc.iter().sum();
         self.p = squash(dot >> 8);
         self.p
     }
@@ -185,9 +195,11 @@ impl Mixer {
         let scale = err * self.rate;
         if scale != 0 {
             let w = &mut self.weights[self.set..self.set + self.stride];
-            for (w, &x) in w.iter_mut().zip(&self.inputs) {
-                let step = (x * scale + 512) >> 10;
-                *w = (*w + step).clamp(-WEIGHT_LIMIT, WEIGHT_LIMIT);
+            for (ws, xs) in w.chunks_exact_mut(LANES).zip(self.inputs.chunks_exact(LANES)) {
+                for (w, &x) in ws.iter_mut().zip(xs) {
+                    let step = (x * scale + 512) >> 10;
+                    *w = (*w + step).clamp(-WEIGHT_LIMIT, WEIGHT_LIMIT);
+                }
             }
         }
         self.count = 0;

@@ -1,3 +1,3 @@
-//! Helpers shared by the integration tests and benches.
+//! Code shared by the integration tests and benches.
 
 pub mod gen;
