@@ -8,11 +8,17 @@
 //! the nibble's binary tree (node `1`, then `2·node + bit`). Coding a byte
 //! touches two slots per context, one per nibble.
 //!
-//! A hash picks a pair of neighbouring slots (`i` and `i ^ 1`). If either
-//! holds the same check value it is the context's slot (verified: a false
-//! match needs both the index bits and 32 check bits to collide). Otherwise
-//! the slot whose root counter has seen fewer updates is taken over and
-//! reset, so contexts seen often survive contexts seen once.
+//! A hash picks a pair of neighbouring slots (`i` and `i ^ 1`, 128 bytes). If
+//! either holds the same check value it is the context's slot (verified: a
+//! false match needs both the index bits and 32 check bits to collide).
+//! Otherwise the slot whose root counter has seen fewer updates is taken over
+//! and reset, so contexts seen often survive contexts seen once.
+//!
+//! A low-nibble lookup has a third candidate, the *companion*: the other slot
+//! of the pair holding the same context's high nibble. It is checked first
+//! and preferred for a new claim, so a context whose next byte usually starts
+//! the same way keeps both nibbles in one 128-byte pair — which the caller
+//! loaded whole at the byte boundary, saving a cache miss per nibble.
 //!
 //! Invariants: the slot count is a power of two, at least 2; a slot's check
 //! value is never 0 (the check is forced odd), so zeroed memory reads as a
@@ -74,13 +80,13 @@ impl SlotTable {
     #[cfg(test)]
     pub(crate) fn find(&mut self, hash: u64) -> usize {
         let (a, check) = self.locate(hash);
-        let seen = self.words[a];
+        let seen = [self.words[a], self.words[a + SLOT_WORDS]];
         self.resolve(a, check, seen)
     }
 
     /// First half of [`find`](SlotTable::find): the slot pair's first word
     /// index and the check value. Callers looking up several contexts locate
-    /// them all, load `words()[index]` for each (independent loads the
+    /// them all, load the pair's check words for each (independent loads the
     /// processor overlaps), then [`resolve`](SlotTable::resolve) each.
     #[inline]
     pub(crate) fn locate(&self, hash: u64) -> (usize, u32) {
@@ -88,14 +94,15 @@ impl SlotTable {
         (slot * SLOT_WORDS, (hash as u32) | 1)
     }
 
-    /// Second half of [`find`](SlotTable::find): `seen` is the word at `a`.
+    /// Second half of [`find`](SlotTable::find): `seen` holds the check words
+    /// of the pair at `a`, as loaded by the caller.
     #[inline]
-    pub(crate) fn resolve(&mut self, a: usize, check: u32, seen: u32) -> usize {
+    pub(crate) fn resolve(&mut self, a: usize, check: u32, seen: [u32; 2]) -> usize {
         let b = a + SLOT_WORDS;
-        if seen == check {
+        if seen[0] == check {
             return a;
         }
-        if self.words[b] == check {
+        if seen[1] == check {
             return b;
         }
         let victim = if counter_n(self.words[b + 1]) < counter_n(self.words[a + 1]) {
@@ -103,10 +110,46 @@ impl SlotTable {
         } else {
             a
         };
-        let s = &mut self.words[victim..victim + SLOT_WORDS];
+        self.claim(victim, check)
+    }
+
+    /// Like [`resolve`](SlotTable::resolve), with a third candidate: the
+    /// `companion` slot (the other slot of the pair holding the same
+    /// context's high nibble), which is checked first and preferred for a new
+    /// claim when its root count is not higher. The caller has loaded the
+    /// companion's pair already, so a context whose low nibble settles there
+    /// costs no further cache miss.
+    #[inline]
+    pub(crate) fn resolve_near(&mut self, companion: usize, a: usize, check: u32) -> usize {
+        if self.words[companion] == check {
+            return companion;
+        }
+        let b = a + SLOT_WORDS;
+        if self.words[a] == check {
+            return a;
+        }
+        if self.words[b] == check {
+            return b;
+        }
+        let na = counter_n(self.words[a + 1]);
+        let nb = counter_n(self.words[b + 1]);
+        let nc = counter_n(self.words[companion + 1]);
+        let victim = if nc <= na.min(nb) {
+            companion
+        } else if nb < na {
+            b
+        } else {
+            a
+        };
+        self.claim(victim, check)
+    }
+
+    #[inline]
+    fn claim(&mut self, slot: usize, check: u32) -> usize {
+        let s = &mut self.words[slot..slot + SLOT_WORDS];
         s[0] = check;
         s[1..].fill(COUNTER_INIT);
-        victim
+        slot
     }
 
     /// All words (slots back to back).
@@ -146,6 +189,26 @@ mod tests {
         assert_eq!(s3, s2, "the slot with fewer updates is replaced");
         assert_eq!(t.find(h1), s1);
         assert_eq!(t.words()[s3 + 1], COUNTER_INIT);
+    }
+
+    #[test]
+    fn low_nibbles_settle_in_the_companion() {
+        let mut t = SlotTable::new(64 * 64);
+        let high = t.find(hash2(7, 0));
+        let companion = high ^ SLOT_WORDS;
+        let (a, check) = t.locate(hash2(7, 16 + 3));
+        let low = t.resolve_near(companion, a, check);
+        assert_eq!(low, companion, "a free companion is claimed");
+        assert_eq!(t.resolve_near(companion, a, check), companion);
+        // A different low nibble finds its own pair while the companion is busier.
+        for _ in 0..3 {
+            counter_update(&mut t.words_mut()[companion + 1], true, 255);
+        }
+        let (a2, check2) = t.locate(hash2(7, 16 + 9));
+        let other = t.resolve_near(companion, a2, check2);
+        assert_ne!(other, companion);
+        assert_eq!(t.resolve_near(companion, a2, check2), other);
+        assert_eq!(t.words()[companion], check);
     }
 
     #[test]

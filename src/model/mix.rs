@@ -195,7 +195,10 @@ impl Mixer {
         let scale = err * self.rate;
         if scale != 0 {
             let w = &mut self.weights[self.set..self.set + self.stride];
-            for (ws, xs) in w.chunks_exact_mut(LANES).zip(self.inputs.chunks_exact(LANES)) {
+            for (ws, xs) in w
+                .chunks_exact_mut(LANES)
+                .zip(self.inputs.chunks_exact(LANES))
+            {
                 for (w, &x) in ws.iter_mut().zip(xs) {
                     let step = (x * scale + 512) >> 10;
                     *w = (*w + step).clamp(-WEIGHT_LIMIT, WEIGHT_LIMIT);

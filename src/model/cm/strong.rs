@@ -35,7 +35,7 @@ use crate::model::cm::io::BitIo;
 use crate::model::cm::params::{MixParams, NODES_PER_CONTEXT};
 use crate::model::column::ColumnContext;
 use crate::model::counter::{counter_p16, counter_update, COUNTER_INIT};
-use crate::model::hashed::{hash2, SlotTable};
+use crate::model::hashed::{hash2, SlotTable, SLOT_WORDS};
 use crate::model::logistic::{squash, stretch};
 use crate::model::matcher::MatchModel;
 use crate::model::mix::Mixer;
@@ -135,23 +135,38 @@ impl MixModel {
             k += 1;
         }
         debug_assert_eq!(k, self.hashed);
-        self.find_slots(0);
+        self.find_high_slots();
     }
 
-    /// Looks up the slots of every hashed context for nibble context `nibble`
-    /// (0 for the high nibble, `16 + high` for the low one).
+    /// Looks up the high-nibble slots of every hashed context. Both slots of
+    /// each pair are loaded (independent loads the processor overlaps), so the
+    /// companion slot, where a context's low nibble usually settles, is in
+    /// cache when the low nibble needs it.
     #[inline]
-    fn find_slots(&mut self, nibble: u64) {
-        let mut pending = [(0usize, 0u32, 0u32); MAX_HASHED];
+    fn find_high_slots(&mut self) {
+        let mut pending = [(0usize, 0u32, [0u32; 2]); MAX_HASHED];
         let n = self.hashed;
         let words = self.slots.words();
         for (slot, &hash) in pending[..n].iter_mut().zip(&self.hashes[..n]) {
-            let h = (hash ^ nibble).wrapping_mul(0x9E37_79B9_7F4A_7C15);
+            let h = hash.wrapping_mul(0x9E37_79B9_7F4A_7C15);
             let (a, check) = self.slots.locate(h ^ (h >> 31));
-            *slot = (a, check, words[a]);
+            *slot = (a, check, [words[a], words[a + SLOT_WORDS]]);
         }
         for (base, &(a, check, seen)) in self.bases[..n].iter_mut().zip(&pending[..n]) {
             *base = self.slots.resolve(a, check, seen);
+        }
+    }
+
+    /// Looks up the low-nibble slots after high nibble `high`: first in the
+    /// companion of each context's high-nibble slot, then in the slot pair
+    /// of the low nibble's own hash.
+    #[inline]
+    fn find_low_slots(&mut self, high: u64) {
+        for k in 0..self.hashed {
+            let h = (self.hashes[k] ^ (16 + high)).wrapping_mul(0x9E37_79B9_7F4A_7C15);
+            let (a, check) = self.slots.locate(h ^ (h >> 31));
+            let companion = self.bases[k] ^ SLOT_WORDS;
+            self.bases[k] = self.slots.resolve_near(companion, a, check);
         }
     }
 
@@ -221,7 +236,7 @@ impl MixModel {
             }
             if half == 0 {
                 let high = (c0 & 15) as u64;
-                self.find_slots(16 + high);
+                self.find_low_slots(high);
                 g1 += 16 * (1 + high as usize);
             }
         }
