@@ -5,8 +5,14 @@
 //! (like the status flags a gauging station sends with each reading: mostly
 //! quiet, some nearly even), each coded in its own context, interleaved in a
 //! pseudo-random order.
+//!
+//! Beside it, on the same decisions: the crate's range coder binary step
+//! driven by one shift-update bit predictor per context. Sizes of both
+//! streams are printed once (the ratio comparison), criterion measures speed.
 
 use criterion::{black_box, criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
+use subrange::coder::{Decoder, Encoder};
+use subrange::model::{decode_with, encode_with, ShiftPredictor};
 use subrange::mq::{MqContexts, MqDecoder, MqEncoder, Termination};
 
 const DECISIONS: usize = 1 << 20;
@@ -64,6 +70,50 @@ fn decode(stream: &[u8], input: &Input) -> usize {
     ones
 }
 
+fn predictors() -> Vec<ShiftPredictor> {
+    (0..ONES.len())
+        .map(|_| ShiftPredictor::new(5).unwrap())
+        .collect()
+}
+
+fn range_encode(input: &Input) -> Vec<u8> {
+    let mut preds = predictors();
+    let mut encoder = Encoder::with_sink(Vec::with_capacity(DECISIONS / 8));
+    for (&cx, &bit) in input.contexts.iter().zip(&input.bits) {
+        encode_with(&mut encoder, &mut preds[cx], bit).unwrap();
+    }
+    encoder.finish().unwrap()
+}
+
+fn range_decode(stream: &[u8], input: &Input) -> usize {
+    let mut preds = predictors();
+    let mut decoder = Decoder::new(stream).unwrap();
+    let mut ones = 0;
+    for &cx in &input.contexts {
+        ones += usize::from(decode_with(&mut decoder, &mut preds[cx]).unwrap());
+    }
+    ones
+}
+
+/// The entropy of the decisions given their context, in bytes (the bound
+/// both coders approach).
+fn entropy_bytes(input: &Input) -> f64 {
+    let mut n = [[0u64; 2]; 8];
+    for (&cx, &bit) in input.contexts.iter().zip(&input.bits) {
+        n[cx][usize::from(bit)] += 1;
+    }
+    n.iter()
+        .map(|c| {
+            let t = (c[0] + c[1]) as f64;
+            c.iter()
+                .filter(|&&k| k > 0)
+                .map(|&k| -(k as f64) * (k as f64 / t).log2())
+                .sum::<f64>()
+        })
+        .sum::<f64>()
+        / 8.0
+}
+
 fn binary_coders(c: &mut Criterion) {
     let input = input();
     let stream = encode(&input);
@@ -78,8 +128,22 @@ fn binary_coders(c: &mut Criterion) {
     group.bench_function(BenchmarkId::new("mq_decode", DECISIONS), |b| {
         b.iter(|| decode(black_box(&stream), black_box(&input)))
     });
-    // The crate's own range coder binary step belongs here, side by side on
-    // the same input, once `coder` provides it.
+    let ranged = range_encode(&input);
+    assert_eq!(range_decode(&ranged, &input), expected_ones);
+    eprintln!(
+        "binary_mixed sizes: entropy {:.0} B, mq {} B ({:.4}x), range+shift {} B ({:.4}x)",
+        entropy_bytes(&input),
+        stream.len(),
+        stream.len() as f64 / entropy_bytes(&input),
+        ranged.len(),
+        ranged.len() as f64 / entropy_bytes(&input),
+    );
+    group.bench_function(BenchmarkId::new("range_shift_encode", DECISIONS), |b| {
+        b.iter(|| range_encode(black_box(&input)))
+    });
+    group.bench_function(BenchmarkId::new("range_shift_decode", DECISIONS), |b| {
+        b.iter(|| range_decode(black_box(&ranged), black_box(&input)))
+    });
     group.finish();
 }
 

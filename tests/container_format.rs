@@ -352,13 +352,19 @@ fn bitwise_crc_matches_the_check_value() {
     assert_eq!(crc32(b"123456789"), 0xCBF4_3926);
 }
 
+/// The presets whose payloads docs/FORMAT.md specifies completely (the
+/// context-mixing presets are defined by their reference implementation).
+fn documented_presets() -> impl Iterator<Item = Preset> {
+    Preset::all().filter(|p| matches!(p.name(), "static" | "adaptive"))
+}
+
 #[test]
 fn the_document_decodes_what_the_crate_writes() {
     let mut data = subrange::corpus::gauge_csv(41, 20_000);
     data.extend(subrange::corpus::random(42, 3000));
     data.extend(subrange::corpus::skewed(43, 9000));
     data.extend(subrange::corpus::text_like(44, 12_000));
-    for preset in Preset::all() {
+    for preset in documented_presets() {
         for block_size in [16usize, 700, 5000, 1 << 20] {
             let mut o = Options::new();
             o.preset(preset).threads(1);
@@ -376,7 +382,7 @@ fn the_document_decodes_what_the_crate_writes() {
 #[test]
 fn the_document_and_the_crate_reject_the_same_flips() {
     let data = subrange::corpus::gauge_csv(45, 1500);
-    for preset in Preset::all() {
+    for preset in documented_presets() {
         let mut o = Options::new();
         o.preset(preset).threads(1);
         o.block_size(600).unwrap();

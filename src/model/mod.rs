@@ -16,23 +16,54 @@
 //! - [`ProbabilityAdapter`]: a per-step table built from probabilities that
 //!   come from outside (a learned or statistical model), see [`external`].
 //!
+//! Bit-level models for the coder's binary step:
+//! - [`BitPredictor`]: the trait; [`ShiftPredictor`] (fixed-rate shift
+//!   updates), [`CountingPredictor`] (rate falling with a per-slot count),
+//!   [`KtPredictor`] (Krichevsky–Trofimov counts); [`BitTree`] codes bytes
+//!   through a binary tree of predictors.
+//! - [`Mixer`] and [`MixedPredictor`]: logistic mixing of predictions in the
+//!   stretched domain ([`stretch`] / [`squash`]), weights selected by a small
+//!   context; [`Apm`] refines a probability by a second, adaptive map.
+//! - [`cm`]: two whole-block engines built from them — a fast order-2 context
+//!   model and the strongest model of the crate (hashed orders 1–6, word and
+//!   column contexts, a match model, mixing and refinement).
+//!
 //! Around them: [`snapshot`] saves and restores a trained model's state
 //! (to start small messages from it), and [`audit`] checks that a model of
 //! your own behaves identically on the encoding and the decoding side.
 
 mod adaptive;
+mod apm;
 pub mod audit;
+mod bit;
+mod bytewise;
+pub mod cm;
+mod column;
+mod counter;
 pub mod external;
 mod fenwick;
+mod hashed;
+mod kt;
+mod logistic;
+mod matcher;
+mod mix;
 mod quantize;
 mod serial;
 pub mod snapshot;
 mod table;
+mod word;
 
 pub use adaptive::{AdaptiveModel, AdaptiveParams};
-pub use audit::{audit_model, AuditReport};
+pub use apm::Apm;
+pub use audit::{audit_model, audit_predictor, AuditReport};
+pub use bit::{decode_with, encode_with, BitPredictor, ShiftPredictor};
+pub use bytewise::BitTree;
+pub use counter::{CountingPredictor, MAX_COUNT_LIMIT};
 pub use external::{quantize_probabilities, Probability, ProbabilityAdapter};
 pub use fenwick::FenwickTree;
+pub use kt::KtPredictor;
+pub use logistic::{squash, stretch, STRETCH_MAX};
+pub use mix::{MixedPredictor, Mixer, MAX_MIXER_INPUTS, MAX_MIXER_SETS};
 pub use quantize::quantize_counts;
 pub use snapshot::{Snapshot, SnapshotState};
 pub use table::TableModel;

@@ -57,6 +57,18 @@ pub(crate) fn decode(payload: &[u8], params: &[u32], out: &mut [u8]) -> Result<(
     Ok(())
 }
 
+/// The ideal cost of a block under this preset's adaptive model.
+pub(crate) fn ideal(raw: &[u8], params: &[u32]) -> Result<crate::coder::IdealCost> {
+    let mut m = model(params)?;
+    let mut cost = crate::coder::IdealCost::new();
+    for &b in raw {
+        let s = u32::from(b);
+        cost.add(m.frequency(s), crate::model::Model::total(&m));
+        crate::model::Model::update(&mut m, s);
+    }
+    Ok(cost)
+}
+
 /// 257 counts in a Fenwick tree plus bookkeeping, rounded up.
 pub(crate) fn model_memory() -> u64 {
     4096

@@ -13,6 +13,12 @@
 //! - `adaptive` (id 2): an [`AdaptiveModel`](crate::model::AdaptiveModel)
 //!   over 256 symbols, restarted at every block, one coder lane; no table to
 //!   store, follows drifting statistics.
+//! - `order2` (id 3): the fast order-2 context model of
+//!   [`model::cm`](crate::model::cm), coded bit by bit; close to the data's
+//!   order-2 conditional entropy.
+//! - `mix` (id 4): the strongest model: hashed contexts of orders 1 to 6,
+//!   word and column contexts and a match model, logistically mixed and
+//!   refined; slowest, smallest output on text and records.
 //!
 //! Invariant: [`Preset::decode_block`] with the parameters read back from a
 //! header inverts [`Preset::encode_block`] exactly, on every platform (no
@@ -39,6 +45,7 @@
 //! covered by the container round-trip and damage tests automatically.
 
 mod adaptive_codec;
+mod cm_codec;
 mod static_codec;
 
 use alloc::vec::Vec;
@@ -51,7 +58,7 @@ pub const MAX_PARAMS: usize = 8;
 
 /// Valid preset names, for messages (a unit test keeps it in step with
 /// [`PresetKind::ALL`]).
-const NAME_LIST: &str = "unknown preset name: expected one of static, adaptive";
+const NAME_LIST: &str = "unknown preset name: expected one of static, adaptive, order2, mix";
 
 /// One integer parameter of a preset: its name, default and valid range.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -76,6 +83,10 @@ pub enum PresetKind {
     Static,
     /// An adaptive order-0 model restarted at each block.
     Adaptive,
+    /// The fast order-2 context model, restarted at each block.
+    Order2,
+    /// The strongest mixing model, restarted at each block.
+    Mix,
 }
 
 const STATIC_PARAMS: &[ParamSpec] = &[
@@ -112,15 +123,84 @@ const ADAPTIVE_PARAMS: &[ParamSpec] = &[
     },
 ];
 
+const ORDER2_PARAMS: &[ParamSpec] = &[
+    ParamSpec {
+        name: "order1",
+        default: 1,
+        min: 0,
+        max: 1,
+        help: "new order-2 contexts start from the order-1 prediction (1) or from even odds (0)",
+    },
+    ParamSpec {
+        name: "limit",
+        default: 60,
+        min: 1,
+        max: 1023,
+        help: "counter limit: higher suits long stationary data, lower adapts faster",
+    },
+];
+
+const MIX_PARAMS: &[ParamSpec] = &[
+    ParamSpec {
+        name: "memory_mib",
+        default: 32,
+        min: 1,
+        max: 1024,
+        help: "context table memory in MiB, a power of two (the decoder needs the same)",
+    },
+    ParamSpec {
+        name: "orders",
+        default: 0b10_1011,
+        min: 0,
+        max: 0b11_1111,
+        help: "context orders in use: bit k enables order k + 1 (default orders 1, 2, 4, 6)",
+    },
+    ParamSpec {
+        name: "word",
+        default: 1,
+        min: 0,
+        max: 1,
+        help: "word context for text (1 on, 0 off)",
+    },
+    ParamSpec {
+        name: "column",
+        default: 1,
+        min: 0,
+        max: 1,
+        help: "column context for line-structured records (1 on, 0 off)",
+    },
+    ParamSpec {
+        name: "matcher",
+        default: 1,
+        min: 0,
+        max: 1,
+        help: "match model predicting from the longest earlier match (1 on, 0 off)",
+    },
+    ParamSpec {
+        name: "rate",
+        default: 6,
+        min: 1,
+        max: 64,
+        help: "mixer learning rate",
+    },
+];
+
 impl PresetKind {
     /// Every preset kind this release knows, in id order.
-    pub const ALL: &'static [PresetKind] = &[PresetKind::Static, PresetKind::Adaptive];
+    pub const ALL: &'static [PresetKind] = &[
+        PresetKind::Static,
+        PresetKind::Adaptive,
+        PresetKind::Order2,
+        PresetKind::Mix,
+    ];
 
     /// The id recorded in a container header.
     pub fn id(self) -> u32 {
         match self {
             PresetKind::Static => 1,
             PresetKind::Adaptive => 2,
+            PresetKind::Order2 => 3,
+            PresetKind::Mix => 4,
         }
     }
 
@@ -129,6 +209,8 @@ impl PresetKind {
         match self {
             PresetKind::Static => "static",
             PresetKind::Adaptive => "adaptive",
+            PresetKind::Order2 => "order2",
+            PresetKind::Mix => "mix",
         }
     }
 
@@ -139,6 +221,10 @@ impl PresetKind {
                 "table model per block from its byte histogram, interleaved lanes; fastest"
             }
             PresetKind::Adaptive => "adaptive order-0 model per block; no stored table",
+            PresetKind::Order2 => "order-2 context model, bit by bit; fast, near order-2 entropy",
+            PresetKind::Mix => {
+                "orders 1-6, word, column and match models, logistically mixed; smallest, slowest"
+            }
         }
     }
 
@@ -147,6 +233,8 @@ impl PresetKind {
         match self {
             PresetKind::Static => STATIC_PARAMS,
             PresetKind::Adaptive => ADAPTIVE_PARAMS,
+            PresetKind::Order2 => ORDER2_PARAMS,
+            PresetKind::Mix => MIX_PARAMS,
         }
     }
 
@@ -375,6 +463,8 @@ impl Preset {
         match self.kind {
             PresetKind::Static => Ok(()),
             PresetKind::Adaptive => adaptive_codec::check(self.params()),
+            PresetKind::Order2 => cm_codec::order2_params(self.params()).map(drop),
+            PresetKind::Mix => cm_codec::mix_params(self.params()).map(drop),
         }
     }
 
@@ -393,6 +483,8 @@ impl Preset {
         match self.kind {
             PresetKind::Static => static_codec::encode(raw, self.params()),
             PresetKind::Adaptive => adaptive_codec::encode(raw, self.params()),
+            PresetKind::Order2 => cm_codec::encode_o2(raw, self.params()),
+            PresetKind::Mix => cm_codec::encode_mx(raw, self.params()),
         }
     }
 
@@ -445,6 +537,43 @@ impl Preset {
         match self.kind {
             PresetKind::Static => static_codec::decode(payload, self.params(), out),
             PresetKind::Adaptive => adaptive_codec::decode(payload, self.params(), out),
+            PresetKind::Order2 => cm_codec::decode_o2(payload, self.params(), out),
+            PresetKind::Mix => cm_codec::decode_mx(payload, self.params(), out),
+        }
+    }
+
+    /// The ideal cost of coding one block with this preset's models:
+    /// `Σ -log2 p` over every symbol or bit the models would code, without
+    /// tables, framing or coder overhead. Reports use it to separate model
+    /// quality from coding overhead.
+    ///
+    /// # Errors
+    ///
+    /// As for [`encode_block`](Preset::encode_block).
+    ///
+    /// # Example
+    ///
+    /// ```
+    /// use subrange::preset::Preset;
+    ///
+    /// # fn main() -> Result<(), subrange::Error> {
+    /// let preset = Preset::from_name("order2")?;
+    /// let block = subrange::corpus::gauge_csv(9, 20_000);
+    /// let ideal = preset.ideal_cost(&block)?.bits() / 8.0;
+    /// let payload = preset.encode_block(&block)?.len() as f64;
+    /// assert!(payload >= ideal && payload < ideal * 1.01 + 8.0);
+    /// # Ok(())
+    /// # }
+    /// ```
+    pub fn ideal_cost(&self, raw: &[u8]) -> Result<crate::coder::IdealCost> {
+        if raw.is_empty() {
+            return Ok(crate::coder::IdealCost::new());
+        }
+        match self.kind {
+            PresetKind::Static => static_codec::ideal(raw, self.params()),
+            PresetKind::Adaptive => adaptive_codec::ideal(raw, self.params()),
+            PresetKind::Order2 => cm_codec::ideal_o2(raw, self.params()),
+            PresetKind::Mix => cm_codec::ideal_mx(raw, self.params()),
         }
     }
 
@@ -465,6 +594,8 @@ impl Preset {
         let model = match self.kind {
             PresetKind::Static => static_codec::model_memory(self.params()),
             PresetKind::Adaptive => adaptive_codec::model_memory(),
+            PresetKind::Order2 => cm_codec::order2_memory(self.params()),
+            PresetKind::Mix => cm_codec::mix_memory(self.params()),
         };
         buffers.saturating_add(model)
     }

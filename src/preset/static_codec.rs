@@ -38,6 +38,17 @@ fn table_log2(len: usize, cap: u32) -> u32 {
     bits.saturating_sub(4).clamp(8, cap)
 }
 
+/// The ideal cost of a block under the table this preset would build for it.
+pub(crate) fn ideal(raw: &[u8], params: &[u32]) -> Result<crate::coder::IdealCost> {
+    let model = TableModel::from_bytes_histogram(raw, table_log2(raw.len(), params[1]))?;
+    let mut cost = crate::coder::IdealCost::new();
+    for &b in raw {
+        let f = model.frequencies()[usize::from(b)];
+        cost.add(f, 1 << model.log2_total());
+    }
+    Ok(cost)
+}
+
 fn lanes_for(len: usize, max_lanes: u32) -> usize {
     (len / LANE_MIN_BYTES).clamp(1, max_lanes as usize)
 }

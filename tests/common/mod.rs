@@ -1,4 +1,5 @@
-//! Helpers shared by the integration tests: a small seeded PRNG, samplers,
+//! Helpers shared by the integration tests: seeded data generators ([`gen`],
+//! also used by the benches), a small seeded PRNG, samplers,
 //! whole-sequence encode/decode helpers, an unbounded natural-number type
 //! ([`nat`]), exact reference coders ([`reference`]) and a log-gamma
 //! ([`lgamma`]).
@@ -7,6 +8,7 @@
 //! it, hence the `dead_code` allowance.
 #![allow(dead_code)]
 
+pub mod gen;
 pub mod lgamma;
 pub mod nat;
 pub mod reference;

@@ -14,10 +14,8 @@
 
 use std::io::{Read, Write};
 
-use subrange::coder::Encoder;
 use subrange::format::{inspect, BlockKind};
-use subrange::model::{AdaptiveModel, AdaptiveParams, Model, TableModel};
-use subrange::preset::{Preset, PresetKind};
+use subrange::preset::Preset;
 use subrange::stream::{decompress_with_options, DecodeOptions};
 use subrange::Options;
 
@@ -121,49 +119,15 @@ impl Codec for PresetCodec {
                 total += 8.0 * block.len() as f64;
                 continue;
             }
-            let bits = match self.preset.kind() {
-                PresetKind::Static => {
-                    let cap = self.preset.param("log2_total").unwrap_or(12);
-                    let model =
-                        TableModel::from_bytes_histogram(block, table_log2(block.len(), cap))
-                            .map_err(|e| lib_err(name, e))?;
-                    metered(model, block, name)?
-                }
-                PresetKind::Adaptive => {
-                    let mut params = AdaptiveParams::default();
-                    params.increment = self.preset.param("increment").unwrap_or(params.increment);
-                    params.limit = self.preset.param("limit").unwrap_or(params.limit);
-                    params.escape = Some(false);
-                    let model =
-                        AdaptiveModel::with_params(256, params).map_err(|e| lib_err(name, e))?;
-                    metered(model, block, name)?
-                }
-                // A preset whose models this tool does not rebuild.
-                _ => return Ok(None),
-            };
+            let bits = self
+                .preset
+                .ideal_cost(block)
+                .map_err(|e| lib_err(name, e))?
+                .bits();
             total += bits;
         }
         Ok(Some(total))
     }
-}
-
-/// The table total the `static` preset uses for a block of `len` bytes:
-/// `2^k` with `k` growing with the block length, from 8 up to the preset's
-/// `log2_total` (its documented rule: small blocks get small totals).
-fn table_log2(len: usize, cap: u32) -> u32 {
-    let bits = usize::BITS - len.leading_zeros();
-    bits.saturating_sub(4).clamp(8, cap.max(8))
-}
-
-/// Ideal cost of coding `data` with `model` (a single metered encoder).
-fn metered<M: Model>(mut model: M, data: &[u8], codec: &str) -> CliResult<f64> {
-    let mut enc = Encoder::new();
-    enc.enable_cost_meter();
-    for &b in data {
-        enc.encode(&mut model, u32::from(b))
-            .map_err(|e| lib_err(codec, e))?;
-    }
-    Ok(enc.ideal_cost().map_or(0.0, |c| c.bits()))
 }
 
 /// The flate2 baselines: levels 1, 6 and 9.

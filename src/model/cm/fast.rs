@@ -1,0 +1,208 @@
+//! The fast engine: order-2 contexts that inherit from order 1.
+//!
+//! Each byte is coded bit by bit through the nibble trees of its order-2
+//! context (the two previous bytes, 65,536 of them). A direct table holds 17
+//! groups of 16 packed [counters](crate::model::CountingPredictor) per
+//! context: group 0 for the high nibble's 15 tree nodes, group `1 + h` for the
+//! low nibble after high nibble `h`. A group is one 64-byte cache line, so a
+//! byte touches two lines, and every bit costs one counter read and one
+//! update: no mixing, which keeps the engine fast.
+//!
+//! The weakness of a plain order-2 model is the cost of learning each of its
+//! many contexts from scratch. With `order1` set, a tree node seen for the
+//! first time in its order-2 context is coded with the probability of the
+//! same node in the order-1 context instead, and then starts from that
+//! probability (the prior inheritance of PPM-style models). The order-1 table
+//! is updated only on such first visits, so it learns exactly what it is used
+//! for: what follows a byte in a context not seen before.
+//!
+//! Tables are stored as `counter ^ COUNTER_INIT`, so they start as zeroed
+//! memory: the allocator can hand out untouched pages lazily and a short
+//! input does not pay for initialising 70 MB.
+//!
+//! Invariants: table indices stay inside the context's 272 entries (node
+//! indices are `1 ..= 15`); encoder and decoder run the same `predict` /
+//! `update` sequence, so they agree on every probability.
+
+use alloc::vec;
+use alloc::vec::Vec;
+
+use crate::coder::{Decoder, Encoder, IdealCost};
+use crate::error::Result;
+use crate::model::cm::io::BitIo;
+use crate::model::cm::params::{Order2Params, NODES_PER_CONTEXT};
+use crate::model::counter::{counter_n, counter_p16, counter_update, COUNTER_INIT};
+
+/// Updates a counter stored as `counter ^ COUNTER_INIT` (so that zeroed
+/// memory, which the allocator hands out lazily, reads as fresh counters).
+#[inline]
+pub(crate) fn update_stored(stored: &mut u32, bit: bool, limit: u32) {
+    let mut c = *stored ^ COUNTER_INIT;
+    counter_update(&mut c, bit, limit);
+    *stored = c ^ COUNTER_INIT;
+}
+
+struct FastModel {
+    t2: Vec<u32>,
+    t1: Vec<u32>,
+    order1: bool,
+    limit: u32,
+    c1: usize,
+    c2: usize,
+}
+
+impl FastModel {
+    fn new(params: &Order2Params) -> Result<Self> {
+        params.validate()?;
+        Ok(FastModel {
+            t2: vec![0; 65536 * NODES_PER_CONTEXT],
+            t1: if params.order1 {
+                vec![0; 256 * NODES_PER_CONTEXT]
+            } else {
+                Vec::new()
+            },
+            order1: params.order1,
+            limit: u32::from(params.limit),
+            c1: 0,
+            c2: 0,
+        })
+    }
+
+    /// Codes one nibble's four bits through the groups at `g2` / `g1`.
+    #[inline(always)]
+    fn nibble<I: BitIo>(&mut self, io: &mut I, g2: usize, g1: usize, value: u32) -> Result<u32> {
+        let mut node = 1usize;
+        for k in (0..4).rev() {
+            let bit = (value >> k) & 1 == 1;
+            let i2 = g2 + node;
+            let mut c = self.t2[i2] ^ COUNTER_INIT;
+            if self.order1 && counter_n(c) == 0 {
+                // A new order-2 node starts from what order 1 knows about
+                // new contexts, with a count of zero (the prior is not counted).
+                let i1 = g1 + node;
+                let c1 = self.t1[i1] ^ COUNTER_INIT;
+                let bit = io.code(bit, counter_p16(c1).clamp(1, 65535))?;
+                c = c1 & !1023;
+                counter_update(&mut c, bit, self.limit);
+                self.t2[i2] = c ^ COUNTER_INIT;
+                update_stored(&mut self.t1[i1], bit, self.limit);
+                node = 2 * node + usize::from(bit);
+                continue;
+            }
+            let bit = io.code(bit, counter_p16(c).clamp(1, 65535))?;
+            counter_update(&mut c, bit, self.limit);
+            self.t2[i2] = c ^ COUNTER_INIT;
+            node = 2 * node + usize::from(bit);
+        }
+        Ok(node as u32 - 16)
+    }
+
+    #[inline(always)]
+    fn byte<I: BitIo>(&mut self, io: &mut I, byte: u8) -> Result<u8> {
+        let b2 = ((self.c2 << 8) | self.c1) * NODES_PER_CONTEXT;
+        let b1 = self.c1 * NODES_PER_CONTEXT;
+        let high = self.nibble(io, b2, b1, u32::from(byte >> 4))?;
+        let group = 16 * (1 + high as usize);
+        let low = self.nibble(io, b2 + group, b1 + group, u32::from(byte & 15))?;
+        let byte = ((high << 4) | low) as u8;
+        self.c2 = self.c1;
+        self.c1 = usize::from(byte);
+        Ok(byte)
+    }
+}
+
+/// Compresses `data` with the fast order-2 engine.
+///
+/// The output is a bare range-coded stream; the decoder needs the length of
+/// `data` and the same parameters. It needs
+/// [`Order2Params::memory_needed`] bytes of tables.
+///
+/// # Errors
+///
+/// [`ErrorKind::InvalidParameter`](crate::ErrorKind::InvalidParameter) when
+/// `params` is out of range.
+///
+/// # Example
+///
+/// ```
+/// use subrange::model::cm::{decode_order2, encode_order2, Order2Params};
+///
+/// # fn main() -> Result<(), subrange::Error> {
+/// let data = b"gauge 4, level 2.31 m; gauge 4, level 2.30 m; gauge 4, level 2.30 m".repeat(20);
+/// let params = Order2Params::default();
+/// let coded = encode_order2(&data, &params)?;
+/// assert!(coded.len() < data.len() / 4);
+/// assert_eq!(decode_order2(&coded, data.len(), &params)?, data);
+/// # Ok(())
+/// # }
+/// ```
+pub fn encode_order2(data: &[u8], params: &Order2Params) -> Result<Vec<u8>> {
+    order2_encoder(data, params, false)?.finish()
+}
+
+/// The ideal cost of coding `data` with the order-2 engine: the sum of
+/// `-log2 p` over every coded bit, so a report can separate model quality
+/// from coder overhead.
+///
+/// # Errors
+///
+/// As for [`encode_order2`].
+pub fn ideal_cost_order2(data: &[u8], params: &Order2Params) -> Result<IdealCost> {
+    let enc = order2_encoder(data, params, true)?;
+    Ok(enc.ideal_cost().copied().unwrap_or_default())
+}
+
+fn order2_encoder(data: &[u8], params: &Order2Params, meter: bool) -> Result<Encoder> {
+    let mut model = FastModel::new(params)?;
+    let mut enc = Encoder::with_sink(Vec::with_capacity(data.len() / 2 + 16));
+    if meter {
+        enc.enable_cost_meter();
+    }
+    for &byte in data {
+        model.byte(&mut enc, byte)?;
+    }
+    Ok(enc)
+}
+
+/// Decompresses `raw_len` bytes coded by [`encode_order2`] with the same
+/// parameters.
+///
+/// Allocates `raw_len` bytes for the output and
+/// [`Order2Params::memory_needed`] bytes of tables, nothing that depends on
+/// `coded`; the caller bounds both. Damaged input gives an error or wrong
+/// bytes (a container's checksum catches those), never a panic.
+///
+/// # Errors
+///
+/// [`ErrorKind::InvalidParameter`](crate::ErrorKind::InvalidParameter) for
+/// bad parameters; [`ErrorKind::Truncated`](crate::ErrorKind::Truncated),
+/// [`ErrorKind::CorruptStream`](crate::ErrorKind::CorruptStream) or
+/// [`ErrorKind::TrailingBytes`](crate::ErrorKind::TrailingBytes) when
+/// `coded` is not exactly a stream of `raw_len` bytes.
+pub fn decode_order2(coded: &[u8], raw_len: usize, params: &Order2Params) -> Result<Vec<u8>> {
+    let mut model = FastModel::new(params)?;
+    let mut dec = Decoder::new(coded)?;
+    let mut out = Vec::with_capacity(raw_len);
+    for _ in 0..raw_len {
+        out.push(model.byte(&mut dec, 0)?);
+    }
+    dec.finish()?;
+    Ok(out)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn round_trip_without_order1() {
+        let p = Order2Params {
+            order1: false,
+            ..Default::default()
+        };
+        let data: Vec<u8> = (0..3000u32).map(|i| (i * i % 17) as u8 + b'a').collect();
+        let coded = encode_order2(&data, &p).unwrap();
+        assert!(coded.len() < data.len() / 2);
+        assert_eq!(decode_order2(&coded, data.len(), &p).unwrap(), data);
+    }
+}

@@ -1,0 +1,31 @@
+//! One interface over the encoder and the decoder for the engines' bit loops.
+//!
+//! An engine writes its per-byte loop once, generic over [`BitIo`]: the
+//! encoding side codes the bit it is given, the decoding side ignores it and
+//! returns the decoded bit. Both sides thus run literally the same model code,
+//! which is what keeps their states identical.
+
+use crate::coder::{ByteSink, ByteSource, Decoder, Encoder};
+use crate::error::Result;
+
+/// Codes one bit with a 16-bit probability of a 1.
+pub(crate) trait BitIo {
+    /// Encodes `bit` (encoder) or decodes a bit, ignoring `bit` (decoder);
+    /// returns the bit coded.
+    fn code(&mut self, bit: bool, p1: u32) -> Result<bool>;
+}
+
+impl<S: ByteSink> BitIo for Encoder<S> {
+    #[inline(always)]
+    fn code(&mut self, bit: bool, p1: u32) -> Result<bool> {
+        self.encode_bit(bit, p1)?;
+        Ok(bit)
+    }
+}
+
+impl<S: ByteSource> BitIo for Decoder<S> {
+    #[inline(always)]
+    fn code(&mut self, _bit: bool, p1: u32) -> Result<bool> {
+        self.decode_bit(p1)
+    }
+}

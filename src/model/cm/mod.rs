@@ -1,0 +1,50 @@
+//! Context-mixing engines: whole blocks in, range-coded bytes out.
+//!
+//! Two engines code a block of bytes bit by bit, predicting every bit from
+//! the bytes before it:
+//!
+//! - the **order-2** engine ([`encode_order2`] / [`decode_order2`]): direct
+//!   order-2 context tables whose new contexts inherit order-1 predictions;
+//!   fast, and close to the data's order-2 conditional entropy;
+//! - the **mix** engine ([`encode_mix`] / [`decode_mix`]): hashed contexts of
+//!   orders 1 to 6, word and column contexts and a match model, combined by
+//!   logistic mixing and refined by two adaptive probability maps; the
+//!   strongest model of the crate.
+//!
+//! Both outputs are bare coded streams: a container records the raw length
+//! and the parameters ([`Order2Params::to_bytes`], [`MixParams::to_bytes`])
+//! and passes them back to the decoder. Before decoding, a container
+//! compares the parameters' [`memory_needed`](MixParams::memory_needed) with
+//! its limit ([`check_memory`]); the decoders then allocate exactly the
+//! tables and `raw_len` bytes of output, whatever the coded bytes say.
+//!
+//! Everything is integer arithmetic: the same input and parameters give the
+//! same bytes on every platform.
+//!
+//! # Example
+//!
+//! ```
+//! use subrange::model::cm::{check_memory, decode_mix, encode_mix, MixParams};
+//!
+//! # fn main() -> Result<(), subrange::Error> {
+//! let data = b"2031-04-02T10:15Z,gauge 7,level 1.82 m,flow 3.41 m3/s,12.6 C\n".repeat(50);
+//! let mut params = MixParams::default();
+//! params.mem_log2 = 2; // 4 MiB of context tables
+//! let coded = encode_mix(&data, &params)?;
+//! assert!(coded.len() * 20 < data.len());
+//!
+//! // Decoder side: parameters and length come from the container.
+//! check_memory(params.memory_needed(), 256 << 20)?;
+//! assert_eq!(decode_mix(&coded, data.len(), &params)?, data);
+//! # Ok(())
+//! # }
+//! ```
+
+mod fast;
+mod io;
+mod params;
+mod strong;
+
+pub use fast::{decode_order2, encode_order2, ideal_cost_order2};
+pub use params::{check_memory, MixParams, Order2Params};
+pub use strong::{decode_mix, encode_mix, ideal_cost_mix};

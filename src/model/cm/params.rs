@@ -1,0 +1,330 @@
+//! Parameters of the two context-mixing engines.
+//!
+//! Each engine's parameters are a handful of small integers, so a container
+//! can record them in a few bytes ([`Order2Params::to_bytes`],
+//! [`MixParams::to_bytes`]) and rebuild them with validation
+//! (`from_bytes`). Each parameter set also states exactly how much memory its
+//! engine allocates ([`Order2Params::memory_needed`],
+//! [`MixParams::memory_needed`]), so a decoder can refuse a stream before
+//! allocating anything.
+//!
+//! Invariant: a value that passed `validate` builds an engine whose
+//! allocations are exactly `memory_needed` bytes of tables (plus the output).
+
+use crate::error::{ErrorKind, Result};
+use crate::model::apm::Apm;
+use crate::model::hashed::SlotTable;
+use crate::model::matcher::MatchModel;
+use crate::model::mix::Mixer;
+
+/// Entries of a direct nibble-tree table per context: 17 groups of 16.
+pub(crate) const NODES_PER_CONTEXT: usize = 17 * 16;
+
+fn invalid(name: &'static str, reason: &'static str) -> crate::Error {
+    ErrorKind::InvalidParameter { name, reason }.into()
+}
+
+/// Parameters of the fast order-2 engine
+/// ([`encode_order2`](super::encode_order2)).
+///
+/// # Example
+///
+/// ```
+/// use subrange::model::cm::Order2Params;
+///
+/// # fn main() -> Result<(), subrange::Error> {
+/// let mut p = Order2Params::default();
+/// p.limit = 255; // for long, stationary inputs
+/// assert_eq!(Order2Params::from_bytes(p.to_bytes())?, p);
+/// assert!(p.memory_needed() < 80 << 20);
+/// # Ok(())
+/// # }
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+#[non_exhaustive]
+pub struct Order2Params {
+    /// New order-2 contexts inherit order-1 predictions (default `true`):
+    /// much better on short or varied inputs, at little cost in speed.
+    pub order1: bool,
+    /// Count limit of the adaptive counters, `1 ..= 1023` (default 60):
+    /// higher suits long stationary data, lower adapts faster.
+    pub limit: u16,
+}
+
+impl Default for Order2Params {
+    fn default() -> Self {
+        Order2Params {
+            order1: true,
+            limit: 60,
+        }
+    }
+}
+
+impl Order2Params {
+    /// Checks every field against its documented range.
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::InvalidParameter`] naming the first field out of range.
+    pub fn validate(&self) -> Result<()> {
+        if self.limit == 0 || self.limit > 1023 {
+            return Err(invalid("limit", "must be in 1 ..= 1023"));
+        }
+        Ok(())
+    }
+
+    /// Bytes of tables the engine allocates with these parameters.
+    pub fn memory_needed(&self) -> u64 {
+        let per_context = 4 * NODES_PER_CONTEXT as u64;
+        let mut total = 65536 * per_context;
+        if self.order1 {
+            total += 256 * per_context;
+        }
+        total
+    }
+
+    /// The parameters as three bytes: flags (bit 0: `order1`) and `limit`
+    /// (little-endian).
+    pub fn to_bytes(&self) -> [u8; 3] {
+        let [l0, l1] = self.limit.to_le_bytes();
+        [u8::from(self.order1), l0, l1]
+    }
+
+    /// Rebuilds parameters written by [`to_bytes`](Order2Params::to_bytes).
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::InvalidParameter`] for unknown flag bits or a field out of range.
+    pub fn from_bytes(bytes: [u8; 3]) -> Result<Self> {
+        if bytes[0] & !1 != 0 {
+            return Err(invalid("flags", "unknown flag bits"));
+        }
+        let p = Order2Params {
+            order1: bytes[0] & 1 == 1,
+            limit: u16::from_le_bytes([bytes[1], bytes[2]]),
+        };
+        p.validate()?;
+        Ok(p)
+    }
+}
+
+/// Parameters of the strong mixing engine ([`encode_mix`](super::encode_mix)).
+///
+/// # Example
+///
+/// ```
+/// use subrange::model::cm::MixParams;
+///
+/// # fn main() -> Result<(), subrange::Error> {
+/// let mut p = MixParams::default();
+/// p.mem_log2 = 4; // 16 MiB of context tables
+/// p.orders = 0b11_1111; // orders 1 to 6
+/// p.validate()?;
+/// assert_eq!(MixParams::from_bytes(p.to_bytes())?, p);
+/// assert!(p.memory_needed() > 16 << 20);
+/// # Ok(())
+/// # }
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+#[non_exhaustive]
+pub struct MixParams {
+    /// Hashed context tables take `2^mem_log2` MiB, `0 ..= 10` (default 5,
+    /// 32 MiB); the match model's table takes 2^(18 + mem_log2) bytes more,
+    /// at most 4 MiB.
+    pub mem_log2: u8,
+    /// Context orders in use: bit `k` enables order `k + 1`, orders 1 to 6
+    /// (default `0b10_1011`: orders 1, 2, 4 and 6 — on text and records
+    /// they compress as well as all six at two thirds of the work).
+    pub orders: u8,
+    /// The word context for text: the current word with the previous word
+    /// (default on).
+    pub word: bool,
+    /// The column context for line-structured records: the byte above in the
+    /// previous line, with the column (default on).
+    pub column: bool,
+    /// The match model (default on).
+    pub matcher: bool,
+    /// Mixer learning rate, `1 ..= 64` (default 6).
+    pub rate: u8,
+}
+
+impl Default for MixParams {
+    fn default() -> Self {
+        MixParams {
+            mem_log2: 5,
+            orders: 0b10_1011,
+            word: true,
+            column: true,
+            matcher: true,
+            rate: 6,
+        }
+    }
+}
+
+impl MixParams {
+    /// Largest `mem_log2`: 1 GiB of context tables.
+    pub const MAX_MEM_LOG2: u8 = 10;
+
+    /// Weight sets of the mixer: match state (4) × partial byte (256).
+    pub(crate) const SETS: usize = 4 * 256;
+
+    /// APM contexts of the second refinement stage (order 1 and partial byte).
+    pub(crate) const APM2_CONTEXTS: usize = 1 << 16;
+
+    /// Checks every field against its documented range.
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::InvalidParameter`] naming the first field out of range.
+    pub fn validate(&self) -> Result<()> {
+        if self.mem_log2 > Self::MAX_MEM_LOG2 {
+            return Err(invalid("mem_log2", "must be in 0 ..= 10"));
+        }
+        if self.orders & !0b11_1111 != 0 {
+            return Err(invalid("orders", "only bits 0 to 5 (orders 1 to 6) exist"));
+        }
+        if self.rate == 0 || self.rate > 64 {
+            return Err(invalid("rate", "must be in 1 ..= 64"));
+        }
+        if self.inputs() == 1 {
+            return Err(invalid(
+                "orders",
+                "at least one context or the match model is needed",
+            ));
+        }
+        Ok(())
+    }
+
+    /// Number of hashed contexts (orders 2 to 6, word, column).
+    pub(crate) fn hashed_contexts(&self) -> usize {
+        (self.orders >> 1).count_ones() as usize + usize::from(self.word) + usize::from(self.column)
+    }
+
+    /// Mixer inputs: one per context, the match model, and a bias.
+    pub(crate) fn inputs(&self) -> usize {
+        self.hashed_contexts() + usize::from(self.orders & 1 == 1) + usize::from(self.matcher) + 1
+    }
+
+    /// Bytes of the hashed context tables.
+    pub(crate) fn table_bytes(&self) -> u64 {
+        1u64 << (20 + u32::from(self.mem_log2))
+    }
+
+    /// Log2 of the match model's position entries: 2^(16 + mem_log2), at
+    /// most 2^20 (4 MiB), plenty for blocks of a few MiB.
+    pub(crate) fn match_bits(&self) -> u32 {
+        (16 + u32::from(self.mem_log2)).min(20)
+    }
+
+    /// Bytes of hashed context tables for a block of `len` bytes: about
+    /// 1 KiB per byte (a block touches at most a few hundred bytes of slots
+    /// per byte coded), at least 64 KiB, at most [`table_bytes`]. Small
+    /// blocks (short messages) then set up in microseconds instead of
+    /// clearing tens of MiB; both sides know `len`, so both size alike.
+    ///
+    /// [`table_bytes`]: MixParams::table_bytes
+    pub(crate) fn table_bytes_for(&self, len: usize) -> u64 {
+        let want = (len as u64).saturating_mul(1024).max(1 << 16);
+        want.checked_next_power_of_two()
+            .unwrap_or(u64::MAX)
+            .min(self.table_bytes())
+    }
+
+    /// Log2 of the match model's entries for a block of `len` bytes: no more
+    /// entries than twice the block has positions, at least 2^10.
+    pub(crate) fn match_bits_for(&self, len: usize) -> u32 {
+        let positions = (len as u64).max(1 << 9).next_power_of_two();
+        (positions.trailing_zeros() + 1).min(self.match_bits())
+    }
+
+    /// Bytes of tables the engine allocates with these parameters.
+    pub fn memory_needed(&self) -> u64 {
+        let mut total = SlotTable::memory_needed(self.table_bytes())
+            + Mixer::memory_needed(self.inputs(), Self::SETS)
+            + Apm::memory_needed(256)
+            + Apm::memory_needed(Self::APM2_CONTEXTS);
+        if self.orders & 1 == 1 {
+            total += 256 * 4 * NODES_PER_CONTEXT as u64;
+        }
+        if self.matcher {
+            total += MatchModel::memory_needed(self.match_bits());
+        }
+        total
+    }
+
+    /// The parameters as four bytes: `mem_log2`, `orders`, flags (bit 0
+    /// `word`, bit 1 `column`, bit 2 `matcher`), `rate`.
+    pub fn to_bytes(&self) -> [u8; 4] {
+        let flags =
+            u8::from(self.word) | (u8::from(self.column) << 1) | (u8::from(self.matcher) << 2);
+        [self.mem_log2, self.orders, flags, self.rate]
+    }
+
+    /// Rebuilds parameters written by [`to_bytes`](MixParams::to_bytes).
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::InvalidParameter`] for unknown flag bits or a field out of range.
+    pub fn from_bytes(bytes: [u8; 4]) -> Result<Self> {
+        if bytes[2] & !0b111 != 0 {
+            return Err(invalid("flags", "unknown flag bits"));
+        }
+        let p = MixParams {
+            mem_log2: bytes[0],
+            orders: bytes[1],
+            word: bytes[2] & 1 != 0,
+            column: bytes[2] & 2 != 0,
+            matcher: bytes[2] & 4 != 0,
+            rate: bytes[3],
+        };
+        p.validate()?;
+        Ok(p)
+    }
+}
+
+/// Checks a memory need against a limit: the test a decoder makes before
+/// building an engine for a stream.
+///
+/// # Errors
+///
+/// [`ErrorKind::LimitExceeded`] when `needed > limit`.
+///
+/// # Example
+///
+/// ```
+/// use subrange::model::cm::{check_memory, MixParams};
+///
+/// let p = MixParams::default();
+/// assert!(check_memory(p.memory_needed(), 1 << 30).is_ok());
+/// assert!(check_memory(p.memory_needed(), 1 << 20).is_err());
+/// ```
+pub fn check_memory(needed: u64, limit: u64) -> Result<()> {
+    if needed > limit {
+        return Err(ErrorKind::LimitExceeded {
+            what: "model memory",
+            declared: needed,
+            limit,
+        }
+        .into());
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn bad_fields_are_refused() {
+        assert!(Order2Params::from_bytes([2, 60, 0]).is_err());
+        assert!(Order2Params::from_bytes([1, 0, 0]).is_err());
+        assert!(Order2Params::from_bytes([1, 0, 4]).is_err());
+        assert!(Order2Params::from_bytes([0, 255, 3]).is_ok());
+        assert!(MixParams::from_bytes([11, 63, 7, 6]).is_err());
+        assert!(MixParams::from_bytes([6, 64, 7, 6]).is_err());
+        assert!(MixParams::from_bytes([6, 63, 8, 6]).is_err());
+        assert!(MixParams::from_bytes([6, 63, 7, 65]).is_err());
+        assert!(MixParams::from_bytes([6, 0, 0, 6]).is_err());
+        assert!(MixParams::from_bytes([6, 1, 0, 6]).is_ok());
+    }
+}

@@ -1,0 +1,354 @@
+//! The mix engine: many contexts, logistic mixing, two APM stages.
+//!
+//! Per bit, every enabled context contributes one prediction:
+//!
+//! - order 1 from a direct table (17 nibble groups of 16 counters per byte
+//!   value, as in the order-2 engine);
+//! - orders 2 to 6, the word context (the current word with the previous
+//!   one) and the column context (the byte above in the previous line, with
+//!   the column) from one shared [`SlotTable`]: each context's hash, combined
+//!   with the high nibble when the low nibble is coded, selects a verified
+//!   slot of 15 node counters;
+//! - the match model's guess of the next bit, weighed by its learned
+//!   reliability for the current match length.
+//!
+//! The stretched predictions and a bias enter a [`Mixer`] whose weight set is
+//! chosen by the match state and the partial byte. Its output is refined by
+//! two [`Apm`]s, one keyed by the partial byte, one by the partial byte and
+//! the previous byte, and the final probability averages the mixer and both
+//! refinements (the APMs fix systematic over- or under-confidence, the
+//! average keeps their noise down). A last single weight, learned slowly,
+//! scales that probability in the logistic domain: it stays near 1 where the
+//! predictions are informative and falls towards 0 where they are not, so
+//! random input costs barely more than 8 bits a byte (the many small, noisy
+//! mixer weights alone would cost about 1 %).
+//!
+//! Invariants: encoder and decoder call `predict`, `update` and `byte_done`
+//! in the same order with the same bits and the same history, so every table
+//! evolves identically; all indices are derived from masked hashes or
+//! bounded node numbers, so no input can index out of range.
+
+use alloc::vec;
+use alloc::vec::Vec;
+
+use crate::coder::{Decoder, Encoder, IdealCost};
+use crate::error::Result;
+use crate::model::apm::Apm;
+use crate::model::cm::fast::update_stored;
+use crate::model::cm::io::BitIo;
+use crate::model::cm::params::{MixParams, NODES_PER_CONTEXT};
+use crate::model::column::ColumnContext;
+use crate::model::counter::{counter_p16, counter_update, COUNTER_INIT};
+use crate::model::hashed::{hash2, SlotTable, SLOT_WORDS};
+use crate::model::logistic::{squash, stretch};
+use crate::model::matcher::MatchModel;
+use crate::model::mix::Mixer;
+use crate::model::word::WordContext;
+
+/// Most hashed contexts: orders 2 to 6, the word and the column context.
+const MAX_HASHED: usize = 7;
+
+/// Count limit of the hashed context counters.
+const HASHED_LIMIT: u32 = 60;
+
+/// Count limit of the order-1 counters.
+const ORDER1_LIMIT: u32 = 1023;
+
+/// Context-kind tags mixed into the hashes so different kinds never share slots.
+const TAG_WORD: u64 = 0x100;
+const TAG_COLUMN: u64 = 0x101;
+
+struct MixModel {
+    slots: SlotTable,
+    order1: Vec<u32>,
+    use_order1: bool,
+    orders: Vec<u8>,
+    word: Option<WordContext>,
+    column: Option<ColumnContext>,
+    matcher: Option<MatchModel>,
+    hashed: usize,
+    hashes: [u64; MAX_HASHED],
+    bases: [usize; MAX_HASHED],
+    mixer: Mixer,
+    apm1: Apm,
+    apm2: Apm,
+    /// Final gain on the stretched probability (16.16 fixed point), learned
+    /// slowly: it shrinks towards 0 when the predictions carry no information
+    /// (random data), and stays near 1 otherwise.
+    gain: i32,
+    /// The stretched input of the gain stage and its output, for the update.
+    gain_st: i32,
+    p: u32,
+    c8: u64,
+}
+
+impl MixModel {
+    /// A model for a block of `len` bytes (tables sized to the block, see
+    /// [`MixParams::table_bytes_for`]).
+    fn new(params: &MixParams, len: usize) -> Result<Self> {
+        params.validate()?;
+        let orders = (2..=6u8)
+            .filter(|&o| params.orders & (1 << (o - 1)) != 0)
+            .collect();
+        let use_order1 = params.orders & 1 != 0;
+        let mut m = MixModel {
+            slots: SlotTable::new(params.table_bytes_for(len)),
+            order1: if use_order1 {
+                vec![0; 256 * NODES_PER_CONTEXT]
+            } else {
+                Vec::new()
+            },
+            use_order1,
+            orders,
+            word: params.word.then(WordContext::default),
+            column: params.column.then(ColumnContext::default),
+            matcher: params
+                .matcher
+                .then(|| MatchModel::new(params.match_bits_for(len))),
+            hashed: params.hashed_contexts(),
+            hashes: [0; MAX_HASHED],
+            bases: [0; MAX_HASHED],
+            mixer: Mixer::new(params.inputs(), MixParams::SETS, u32::from(params.rate))?,
+            apm1: Apm::new(256, 7)?,
+            apm2: Apm::new(MixParams::APM2_CONTEXTS, 7)?,
+            gain: 1 << 16,
+            gain_st: 0,
+            p: 32768,
+            c8: 0,
+        };
+        m.set_contexts();
+        Ok(m)
+    }
+
+    /// Computes the byte-level context hashes and the high nibble's slots.
+    fn set_contexts(&mut self) {
+        let c1 = self.c8 & 0xFF;
+        let mut k = 0;
+        for &o in &self.orders {
+            let mask = (1u64 << (8 * u32::from(o))) - 1;
+            self.hashes[k] = hash2(self.c8 & mask, u64::from(o));
+            k += 1;
+        }
+        if let Some(w) = &self.word {
+            // The word so far with the previous word; between words, the
+            // previous word with the separator byte.
+            let current = if w.word() == 0 { c1 } else { w.word() };
+            self.hashes[k] = hash2(hash2(current, w.previous()), TAG_WORD);
+            k += 1;
+        }
+        if let Some(c) = &self.column {
+            let above = u64::from(c.above());
+            let column = c.column().min(255) as u64;
+            self.hashes[k] = hash2(above | (column << 8), TAG_COLUMN);
+            k += 1;
+        }
+        debug_assert_eq!(k, self.hashed);
+        self.find_high_slots();
+    }
+
+    /// Looks up the high-nibble slots of every hashed context. Both slots of
+    /// each pair are loaded (independent loads the processor overlaps), so the
+    /// companion slot, where a context's low nibble usually settles, is in
+    /// cache when the low nibble needs it.
+    #[inline]
+    fn find_high_slots(&mut self) {
+        let mut pending = [(0usize, 0u32, [0u32; 2]); MAX_HASHED];
+        let n = self.hashed;
+        let words = self.slots.words();
+        for (slot, &hash) in pending[..n].iter_mut().zip(&self.hashes[..n]) {
+            let h = hash.wrapping_mul(0x9E37_79B9_7F4A_7C15);
+            let (a, check) = self.slots.locate(h ^ (h >> 31));
+            *slot = (a, check, [words[a], words[a + SLOT_WORDS]]);
+        }
+        for (base, &(a, check, seen)) in self.bases[..n].iter_mut().zip(&pending[..n]) {
+            *base = self.slots.resolve(a, check, seen);
+        }
+    }
+
+    /// Looks up the low-nibble slots after high nibble `high`: first in the
+    /// companion of each context's high-nibble slot, then in the slot pair
+    /// of the low nibble's own hash.
+    #[inline]
+    fn find_low_slots(&mut self, high: u64) {
+        for k in 0..self.hashed {
+            let h = (self.hashes[k] ^ (16 + high)).wrapping_mul(0x9E37_79B9_7F4A_7C15);
+            let (a, check) = self.slots.locate(h ^ (h >> 31));
+            let companion = self.bases[k] ^ SLOT_WORDS;
+            self.bases[k] = self.slots.resolve_near(companion, a, check);
+        }
+    }
+
+    /// The probability of a 1 for the bit at `node` of the current nibble;
+    /// `c0` is the partial byte with a leading 1, `g1` the order-1 group.
+    #[inline(always)]
+    fn predict(&mut self, node: usize, c0: usize, g1: usize) -> u32 {
+        let words = self.slots.words();
+        for &base in &self.bases[..self.hashed] {
+            self.mixer.add(stretch(counter_p16(words[base + node])));
+        }
+        if self.use_order1 {
+            let c = self.order1[g1 + node] ^ COUNTER_INIT;
+            self.mixer.add(stretch(counter_p16(c)));
+        }
+        let mut state = 0;
+        if let Some(m) = &mut self.matcher {
+            self.mixer.add(m.input());
+            state = m.state();
+        }
+        self.mixer.add(256);
+        self.mixer.select(state * 256 + c0);
+        let p = self.mixer.mix();
+        let c1 = (self.c8 & 0xFF) as usize;
+        let a1 = self.apm1.refine(p, c0);
+        let a2 = self.apm2.refine(p, c0 | (c1 << 8));
+        let p = ((2 * p + a1 + a2 + 2) >> 2).clamp(1, 65535);
+        self.gain_st = stretch(p);
+        self.p = squash(((i64::from(self.gain) * i64::from(self.gain_st)) >> 16) as i32);
+        self.p
+    }
+
+    #[inline(always)]
+    fn update(&mut self, bit: bool, node: usize, g1: usize) {
+        self.mixer.update(bit);
+        self.apm1.update(bit);
+        self.apm2.update(bit);
+        // Gain: w += x·err / 2^13 (a slow rate keeps its noise low).
+        let err = (if bit { 65536 } else { 0 }) - self.p as i32;
+        self.gain = (self.gain + ((self.gain_st * (err >> 4)) >> 13)).clamp(0, 4 << 16);
+        let words = self.slots.words_mut();
+        for &base in &self.bases[..self.hashed] {
+            counter_update(&mut words[base + node], bit, HASHED_LIMIT);
+        }
+        if self.use_order1 {
+            update_stored(&mut self.order1[g1 + node], bit, ORDER1_LIMIT);
+        }
+        if let Some(m) = &mut self.matcher {
+            m.update_bit(bit);
+        }
+    }
+
+    /// Codes one byte (the encoder passes it; the decoder passes anything).
+    #[inline]
+    fn code_byte<I: BitIo>(&mut self, io: &mut I, byte: u8) -> Result<u8> {
+        let mut c0 = 1usize;
+        let mut g1 = (self.c8 & 0xFF) as usize * NODES_PER_CONTEXT;
+        for half in 0..2 {
+            let mut node = 1usize;
+            for k in (0..4).rev() {
+                let bit = (byte >> (4 * (1 - half) + k)) & 1 == 1;
+                let p = self.predict(node, c0, g1);
+                let bit = io.code(bit, p)?;
+                self.update(bit, node, g1);
+                node = 2 * node + usize::from(bit);
+                c0 = 2 * c0 + usize::from(bit);
+            }
+            if half == 0 {
+                let high = (c0 & 15) as u64;
+                self.find_low_slots(high);
+                g1 += 16 * (1 + high as usize);
+            }
+        }
+        Ok(c0 as u8)
+    }
+
+    /// Finishes a byte: `history` ends with it.
+    fn byte_done(&mut self, history: &[u8]) {
+        let byte = history.last().copied().unwrap_or(0);
+        self.c8 = (self.c8 << 8) | u64::from(byte);
+        if let Some(w) = &mut self.word {
+            w.push(byte);
+        }
+        if let Some(c) = &mut self.column {
+            c.byte_done(history);
+        }
+        // Slot lookups first: their cache misses then overlap with the match
+        // model's table look-up.
+        self.set_contexts();
+        if let Some(m) = &mut self.matcher {
+            m.byte_done(history);
+        }
+    }
+}
+
+/// Compresses `data` with the mix engine.
+///
+/// The output is a bare range-coded stream; the decoder needs the length of
+/// `data` and the same parameters. The engine allocates
+/// [`MixParams::memory_needed`] bytes of tables.
+///
+/// # Errors
+///
+/// [`ErrorKind::InvalidParameter`](crate::ErrorKind::InvalidParameter) when
+/// `params` is out of range.
+///
+/// # Example
+///
+/// ```
+/// use subrange::model::cm::{decode_mix, encode_mix, MixParams};
+///
+/// # fn main() -> Result<(), subrange::Error> {
+/// let text = b"The gauge on the upper river reads high; the gauge on the lower river reads low. ";
+/// let data = text.repeat(30);
+/// let mut params = MixParams::default();
+/// params.mem_log2 = 1;
+/// let coded = encode_mix(&data, &params)?;
+/// assert!(coded.len() < 200);
+/// assert_eq!(decode_mix(&coded, data.len(), &params)?, data);
+/// # Ok(())
+/// # }
+/// ```
+pub fn encode_mix(data: &[u8], params: &MixParams) -> Result<Vec<u8>> {
+    mix_encoder(data, params, false)?.finish()
+}
+
+/// The ideal cost of coding `data` with the mix engine: the sum of `-log2 p`
+/// over every coded bit.
+///
+/// # Errors
+///
+/// As for [`encode_mix`].
+pub fn ideal_cost_mix(data: &[u8], params: &MixParams) -> Result<IdealCost> {
+    let enc = mix_encoder(data, params, true)?;
+    Ok(enc.ideal_cost().copied().unwrap_or_default())
+}
+
+fn mix_encoder(data: &[u8], params: &MixParams, meter: bool) -> Result<Encoder> {
+    let mut model = MixModel::new(params, data.len())?;
+    let mut enc = Encoder::with_sink(Vec::with_capacity(data.len() / 3 + 16));
+    if meter {
+        enc.enable_cost_meter();
+    }
+    for (i, &byte) in data.iter().enumerate() {
+        model.code_byte(&mut enc, byte)?;
+        model.byte_done(&data[..=i]);
+    }
+    Ok(enc)
+}
+
+/// Decompresses `raw_len` bytes coded by [`encode_mix`] with the same
+/// parameters.
+///
+/// Allocates `raw_len` bytes for the output and [`MixParams::memory_needed`]
+/// bytes of tables, nothing that depends on `coded`; the caller bounds both.
+/// Damaged input gives an error or wrong bytes (a container's checksum
+/// catches those), never a panic.
+///
+/// # Errors
+///
+/// [`ErrorKind::InvalidParameter`](crate::ErrorKind::InvalidParameter) for
+/// bad parameters; [`ErrorKind::Truncated`](crate::ErrorKind::Truncated),
+/// [`ErrorKind::CorruptStream`](crate::ErrorKind::CorruptStream) or
+/// [`ErrorKind::TrailingBytes`](crate::ErrorKind::TrailingBytes) when
+/// `coded` is not exactly a stream of `raw_len` bytes.
+pub fn decode_mix(coded: &[u8], raw_len: usize, params: &MixParams) -> Result<Vec<u8>> {
+    let mut model = MixModel::new(params, raw_len)?;
+    let mut dec = Decoder::new(coded)?;
+    let mut out = Vec::with_capacity(raw_len);
+    for _ in 0..raw_len {
+        let byte = model.code_byte(&mut dec, 0)?;
+        out.push(byte);
+        model.byte_done(&out);
+    }
+    dec.finish()?;
+    Ok(out)
+}
