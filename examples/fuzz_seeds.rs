@@ -33,8 +33,8 @@ use subrange::preset::Preset;
 use subrange::{compress, Compressor, Options};
 
 /// Block sizes the containers are cut with (16 is the smallest allowed;
-/// the container target accepts up to 256 KiB).
-const BLOCK_SIZES: [usize; 6] = [16, 100, 1024, 4096, 65_536, 256 << 10];
+/// the container target accepts up to 64 KiB).
+const BLOCK_SIZES: [usize; 6] = [16, 100, 1024, 4096, 16_384, 65_536];
 
 /// Writes seed files, numbered, into one target's directory.
 struct Seeds {
@@ -120,9 +120,9 @@ fn decode_container_seeds(root: &Path) -> Result<(), Box<dyn Error>> {
         let mut both = compress(&demo[0].data[..600], &options(preset, 256)?)?;
         both.extend(compress(&[], &options(preset, 256)?)?);
         seeds.put(&format!("{name}-concatenated"), &both)?;
-        // Long runs: a small container that decodes to full 256 KiB blocks.
-        let packed = compress(&vec![b'7'; 512 << 10], &options(preset, 256 << 10)?)?;
-        seeds.put(&format!("{name}-run-512k"), &packed)?;
+        // Long runs: a small container that decodes to full 64 KiB blocks.
+        let packed = compress(&vec![b'7'; 128 << 10], &options(preset, 64 << 10)?)?;
+        seeds.put(&format!("{name}-run-128k"), &packed)?;
     }
     Ok(())
 }
@@ -233,7 +233,7 @@ fn decode_container_dict() -> Result<String, Box<dyn Error>> {
     }
     d.push_str("\n# Whole headers and empty-container end records, as written.\n");
     for (name, preset) in preset_variants() {
-        for bs in [16usize, 4096, 256 << 10] {
+        for bs in [16usize, 4096, 64 << 10] {
             let packed = compress(&[], &options(preset, bs)?)?;
             let header_len = inspect(&packed[..])?.header.len as usize;
             entry(

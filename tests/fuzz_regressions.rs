@@ -138,8 +138,13 @@ fn memory_stays_within_the_estimate_as_payloads_grow() {
     for preset in subrange::preset::Preset::all() {
         let packed = growing_payloads(preset);
         let need = preset.memory_needed(256 << 10);
-        // The limit the header just passes: the promise at its tightest.
-        fuzz_support::decode_container::check_with_memory_limit(&packed, need);
-        fuzz_support::decode_container::check_with_memory_limit(&packed, need - 1);
+        // The limit the header just passes: the promise at its tightest;
+        // and one byte less, which the header must fail.
+        let mut limits = subrange::format::DecodeLimits::new();
+        limits.max_block_size(256 << 10).max_total(1 << 20);
+        for memory in [need, need - 1] {
+            limits.max_memory(memory);
+            fuzz_support::decode_container::check_with_limits(&packed, limits);
+        }
     }
 }
