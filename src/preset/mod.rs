@@ -32,11 +32,14 @@
 //! range); a block codec with functions such as
 //! `encode(data, &params) -> Result<Vec<u8>>`,
 //! `decode(coded, raw_len, &params) -> Result<Vec<u8>>` and
-//! `memory_needed(&params, block_size) -> u64` plugs straight into those arms, reading
-//! its parameters with [`Preset::params`] (a `decode` that returns a `Vec`
+//! `memory_needed(&params, block_size) -> u64` plugs straight into those
+//! arms, reading its parameters with [`Preset::params`] (a `decode` that returns a `Vec`
 //! is copied into `decode_into`'s slice after checking its length). Its payload layout goes into
 //! `docs/FORMAT.md`. The tests iterate [`Preset::all`], so a new preset is
 //! covered by the container round-trip and damage tests automatically.
+//! The memory a codec reports must cover everything decoding one block
+//! allocates besides the payload and output buffers (copies, model state):
+//! the `decode_container` fuzz checks measure the peak against it.
 
 mod adaptive_codec;
 mod static_codec;
