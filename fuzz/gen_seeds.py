@@ -47,10 +47,14 @@ for i in range(4):
     write("mq_decode", f"random-{i}", [rng.randrange(256) for _ in range(32 << i)])
 write("mq_decode", "stuffed", [0xFF, 0x7F, 0xFF, 0x8F, 0xFF, 0xAC])
 
-# Real containers, written by the library, for the container targets.
+# Real containers, written by the library, for the container targets, and
+# the container dictionary (fuzz/dicts/), derived from the same constants.
+# The test profile reuses what `cargo test` built (CI runs it first).
 example = os.path.join(HERE, "..", "examples", "fuzz_seeds.rs")
 if os.path.exists(example):
     out = os.path.join(HERE, "seeds")
-    subprocess.run(["cargo", "run", "--quiet", "--example", "fuzz_seeds", "--", out],
+    dicts = os.path.join(HERE, "dicts")
+    subprocess.run(["cargo", "run", "--quiet", "--profile", "test",
+                    "--example", "fuzz_seeds", "--", out, dicts],
                    cwd=os.path.join(HERE, ".."), check=True)
 print("seeds written to", os.path.join(HERE, "seeds"), file=sys.stderr)

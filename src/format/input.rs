@@ -7,7 +7,9 @@
 //! an end of input is reported as [`ErrorKind::Truncated`] with the exact
 //! offset. A payload buffer grows with the bytes that actually arrive
 //! (in steps of at most 1 MiB), so a truncated stream that declares a large
-//! block does not make the reader reserve the whole declared length first.
+//! block does not make the reader reserve the whole declared length first;
+//! and it never grows past the declared length, so a payload buffer costs
+//! at most one block size however block lengths vary.
 
 use std::io::{self, Read};
 use std::vec::Vec;
@@ -146,8 +148,16 @@ impl<R: Read> Input<R> {
     }
 
     /// Replaces `buf` with the next `len` bytes (not captured).
+    ///
+    /// The buffer's capacity never passes `len` (growth doubles with the
+    /// data that arrives but stops at the declared length), and a buffer too
+    /// small for the first step is dropped before its replacement is
+    /// allocated, so old and new never live at once.
     pub(crate) fn fill(&mut self, buf: &mut Vec<u8>, len: usize) -> Result<()> {
         buf.clear();
+        if buf.capacity() < len.min(GROW_STEP) {
+            *buf = Vec::new();
+        }
         if let Some(b) = self.peeked.take() {
             if len == 0 {
                 self.peeked = Some(b);
@@ -159,6 +169,10 @@ impl<R: Read> Input<R> {
         while buf.len() < len {
             let have = buf.len();
             let want = (len - have).min(GROW_STEP);
+            if buf.capacity() < have + want {
+                let cap = (have + want).max(have.saturating_mul(2)).min(len);
+                buf.reserve_exact(cap - have);
+            }
             buf.resize(have + want, 0);
             let mut got = 0;
             while got < want {

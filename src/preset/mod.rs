@@ -38,11 +38,14 @@
 //! range); a block codec with functions such as
 //! `encode(data, &params) -> Result<Vec<u8>>`,
 //! `decode(coded, raw_len, &params) -> Result<Vec<u8>>` and
-//! `memory_needed(&params) -> u64` plugs straight into those arms, reading
-//! its parameters with [`Preset::params`] (a `decode` that returns a `Vec`
+//! `memory_needed(&params, block_size) -> u64` plugs straight into those
+//! arms, reading its parameters with [`Preset::params`] (a `decode` that returns a `Vec`
 //! is copied into `decode_into`'s slice after checking its length). Its payload layout goes into
 //! `docs/FORMAT.md`. The tests iterate [`Preset::all`], so a new preset is
 //! covered by the container round-trip and damage tests automatically.
+//! The memory a codec reports must cover everything decoding one block
+//! allocates besides the payload and output buffers (copies, model state):
+//! the `decode_container` fuzz checks measure the peak against it.
 
 mod adaptive_codec;
 mod cm_codec;
@@ -511,6 +514,11 @@ impl Preset {
             }
             return Ok(());
         }
+        if out.capacity() < raw_len {
+            // Give the old buffer back before taking the new one, so that
+            // the two are never live at once.
+            *out = Vec::new();
+        }
         out.try_reserve_exact(raw_len)
             .map_err(|_| ErrorKind::LimitExceeded {
                 what: "decoded block length (allocation failed)",
@@ -578,8 +586,9 @@ impl Preset {
     }
 
     /// Bytes of memory needed to decode one block of `block_size` raw bytes:
-    /// output and payload buffers plus model state. A reader compares it with
-    /// its memory limit before allocating anything.
+    /// output and payload buffers plus the preset's working memory (model
+    /// state, and for `static` the lane decoder's copy of the payload). A
+    /// reader compares it with its memory limit before allocating anything.
     ///
     /// # Example
     ///
@@ -592,7 +601,7 @@ impl Preset {
     pub fn memory_needed(&self, block_size: u64) -> u64 {
         let buffers = block_size.saturating_mul(2);
         let model = match self.kind {
-            PresetKind::Static => static_codec::model_memory(self.params()),
+            PresetKind::Static => static_codec::working_memory(self.params(), block_size),
             PresetKind::Adaptive => adaptive_codec::model_memory(),
             PresetKind::Order2 => cm_codec::order2_memory(self.params()),
             PresetKind::Mix => cm_codec::mix_memory(self.params()),

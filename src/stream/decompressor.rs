@@ -10,10 +10,13 @@ use crate::stream::DecodeOptions;
 /// Decodes a container from the inner reader; reads give the original bytes.
 ///
 /// One block is decoded at a time, and its bytes are handed out only after
-/// its CRC-32 matched, so memory stays about two block sizes whatever the
-/// stream length and damaged data is never returned. By default the end
-/// record must be followed by the end of input
+/// its CRC-32 matched, so memory stays within what the header's preset
+/// needs for one block ([`Preset::memory_needed`], two to three block
+/// sizes) whatever the stream length, and damaged data is never returned.
+/// By default the end record must be followed by the end of input
 /// ([`TrailingData::Reject`](crate::format::TrailingData::Reject)).
+///
+/// [`Preset::memory_needed`]: crate::preset::Preset::memory_needed
 ///
 /// Errors come as [`io::Error`]s whose source is the crate's
 /// [`Error`](crate::Error): `InvalidData` for damage, `UnexpectedEof` for

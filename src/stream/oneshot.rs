@@ -219,7 +219,8 @@ pub fn compress_reader<R: Read, W: Write>(
 }
 
 /// Decompresses a container from `reader` onto `writer`, one block at a
-/// time (memory about two block sizes). The writer is flushed at the end.
+/// time (memory: what the preset needs for one block, two to three block
+/// sizes). The writer is flushed at the end.
 ///
 /// # Errors
 ///

@@ -1,0 +1,65 @@
+//! Arbitrary bytes into the raw range decoder with arbitrary models, for a
+//! bounded number of symbols: errors are fine, panics and hangs are not.
+
+use subrange::coder::{decode_table_lanes, Decoder};
+use subrange::model::{AdaptiveModel, AdaptiveParams, Model, TableModel};
+
+/// Runs every check on one input; panics on the first broken promise.
+pub fn check(data: &[u8]) {
+    if data.len() < 4 {
+        return;
+    }
+    let (head, stream) = data.split_at(4);
+    let symbols = 1 + usize::from(u16::from_le_bytes([head[0], head[1]])) % 1024;
+    // Mostly small alphabets; now and then the full 2^16 (escape territory).
+    let alphabet = if head[3] & 0x80 != 0 && head[2] > 250 {
+        65_536
+    } else {
+        1 + u32::from(head[2])
+    };
+    let mode = head[3];
+
+    // A table drawn from the header bytes.
+    let counts: Vec<u64> = (0..alphabet.min(300))
+        .map(|i| u64::from(stream.get(i as usize).copied().unwrap_or(1) % 7))
+        .collect();
+    let table = TableModel::from_counts(&counts, 12).ok();
+
+    let mut params = AdaptiveParams::default();
+    params.increment = 1 + u32::from(mode >> 4);
+    params.escape = Some(mode & 1 == 1);
+    let adaptive = AdaptiveModel::with_params(alphabet, params).ok();
+
+    let Ok(mut dec) = Decoder::new(stream) else {
+        return;
+    };
+    let mut table = table;
+    let mut adaptive = adaptive;
+    for i in 0..symbols {
+        let r = match (i + usize::from(mode)) % 3 {
+            0 => match table.as_mut() {
+                Some(t) => dec.decode(t).map(|_| ()),
+                None => Ok(()),
+            },
+            1 => match adaptive.as_mut() {
+                Some(a) => dec.decode(a).map(drop),
+                None => Ok(()),
+            },
+            _ => dec.decode_bit(u32::from(mode) << 8).map(drop),
+        };
+        if r.is_err() {
+            break;
+        }
+    }
+
+    // The fast table path over up to four lanes of the same bytes.
+    if let Some(t) = table.as_ref().filter(|t| t.alphabet_size() <= 256) {
+        let lanes = 1 + usize::from(mode % 4);
+        let chunk = stream.len() / lanes;
+        let views: Vec<&[u8]> = (0..lanes)
+            .map(|l| &stream[l * chunk..(l + 1) * chunk])
+            .collect();
+        let mut out = vec![0u8; symbols];
+        let _ = decode_table_lanes(t, &views, &mut out);
+    }
+}
