@@ -108,14 +108,16 @@ fn copy_exact(back: &[u8], out: &mut [u8]) -> Result<()> {
     Ok(())
 }
 
-/// Model memory for `order2`, from the engine's own accounting.
-pub(crate) fn order2_memory(params: &[u32]) -> u64 {
-    order2_params(params).map_or(u64::MAX, |p| p.memory_needed())
+/// Working memory for `order2` beyond the block buffers: the engine's
+/// tables (its own accounting) and the block it decodes into before the copy
+/// into the caller's buffer.
+pub(crate) fn order2_memory(params: &[u32], block_size: u64) -> u64 {
+    order2_params(params).map_or(u64::MAX, |p| p.memory_needed().saturating_add(block_size))
 }
 
-/// Model memory for `mix`, from the engine's own accounting.
-pub(crate) fn mix_memory(params: &[u32]) -> u64 {
-    mix_params(params).map_or(u64::MAX, |p| p.memory_needed())
+/// Working memory for `mix`, as for [`order2_memory`].
+pub(crate) fn mix_memory(params: &[u32], block_size: u64) -> u64 {
+    mix_params(params).map_or(u64::MAX, |p| p.memory_needed().saturating_add(block_size))
 }
 
 #[cfg(test)]
@@ -144,6 +146,6 @@ mod tests {
         assert!(mix_params(&[3, 0b10_1011, 1, 1, 1, 6]).is_err()); // 3 MiB: not a power of two
         assert!(mix_params(&[32, 0b10_1011, 2, 1, 1, 6]).is_err());
         assert!(order2_params(&[1, 0]).is_err());
-        assert_eq!(mix_memory(&[3, 0, 0, 0, 0, 0]), u64::MAX);
+        assert_eq!(mix_memory(&[3, 0, 0, 0, 0, 0], 1), u64::MAX);
     }
 }

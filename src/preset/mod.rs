@@ -603,8 +603,8 @@ impl Preset {
         let model = match self.kind {
             PresetKind::Static => static_codec::working_memory(self.params(), block_size),
             PresetKind::Adaptive => adaptive_codec::model_memory(),
-            PresetKind::Order2 => cm_codec::order2_memory(self.params()),
-            PresetKind::Mix => cm_codec::mix_memory(self.params()),
+            PresetKind::Order2 => cm_codec::order2_memory(self.params(), block_size),
+            PresetKind::Mix => cm_codec::mix_memory(self.params(), block_size),
         };
         buffers.saturating_add(model)
     }
