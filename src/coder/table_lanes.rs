@@ -216,6 +216,11 @@ fn encode_fixed<const N: usize>(
             );
         }
     }
+    finish_lanes(outs, &low, &range, &pos)
+}
+
+/// Flushes every lane and cuts its buffer to the bytes written.
+fn finish_lanes(mut outs: Vec<Vec<u8>>, low: &[u32], range: &[u32], pos: &[usize]) -> Vec<Vec<u8>> {
     for (l, out) in outs.iter_mut().enumerate() {
         let end = flush_lane(low[l], range[l], out, pos[l]);
         out.truncate(end);
@@ -247,11 +252,7 @@ fn encode_fixed_dyn(
             total,
         );
     }
-    for (l, out) in outs.iter_mut().enumerate() {
-        let end = flush_lane(low[l], range[l], out, pos[l]);
-        out.truncate(end);
-    }
-    outs
+    finish_lanes(outs, &low, &range, &pos)
 }
 
 /// Zero bytes placed after each lane's input, so reads need no end test.
