@@ -42,7 +42,7 @@ fn bench_sets(c: &mut Criterion) {
         group.throughput(Throughput::Bytes(data.len() as u64));
         group.sample_size(10);
         let table = TableModel::from_bytes_histogram(data, 12).unwrap();
-        for lanes in [1usize, 2, 4, 8] {
+        for lanes in [1usize, 4, 8, 16, 32] {
             group.bench_with_input(BenchmarkId::new("table", lanes), &lanes, |b, &lanes| {
                 b.iter(|| encode_table_lanes(&table, black_box(data), lanes).unwrap())
             });
@@ -73,7 +73,7 @@ fn bench_sets(c: &mut Criterion) {
         let mut group = c.benchmark_group(format!("decode/{name}"));
         group.throughput(Throughput::Bytes(data.len() as u64));
         group.sample_size(10);
-        for lanes in [1usize, 2, 4, 8] {
+        for lanes in [1usize, 4, 8, 16, 32] {
             let mut t = table.clone();
             let streams = encode_interleaved(&mut t, data, lanes).unwrap();
             let views: Vec<&[u8]> = streams.iter().map(|s| s.as_slice()).collect();

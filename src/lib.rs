@@ -98,7 +98,7 @@
 //! the models, primed messages ([`prime`]) and the MQ coder ([`mq`]).
 #![no_std]
 #![deny(missing_docs, missing_debug_implementations)]
-#![forbid(unsafe_code)]
+#![deny(unsafe_code)]
 
 extern crate alloc;
 #[cfg(feature = "std")]

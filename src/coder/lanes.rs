@@ -20,7 +20,7 @@ use crate::error::{ErrorKind, Result};
 use crate::model::Model;
 
 /// Most lanes a block may use.
-pub const MAX_LANES: usize = 16;
+pub const MAX_LANES: usize = 32;
 
 /// Codes the bytes of `data` with `model` over `lanes` interleaved coders.
 ///
@@ -91,7 +91,7 @@ fn check_lanes(lanes: usize) -> Result<()> {
     if lanes == 0 || lanes > MAX_LANES {
         return Err(ErrorKind::InvalidParameter {
             name: "lanes",
-            reason: "must be 1 ..= 16",
+            reason: "must be 1 ..= 32",
         }
         .into());
     }

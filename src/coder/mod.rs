@@ -10,8 +10,10 @@
 //! probability for bit-oriented models.
 //!
 //! The [`Decoder`] repeats the encoder's arithmetic and finds each symbol with
-//! the model's [`locate`](crate::model::Model::locate). No floating point is
-//! used anywhere: a stream decodes identically on every platform.
+//! the model's [`locate`](crate::model::Model::locate). Every coding decision
+//! is integer arithmetic, so a stream decodes identically on every platform
+//! (the vector lane decoder estimates a quotient in floating point and then
+//! corrects it to the exact integer; see `decode_table_lanes`).
 //!
 //! [`IdealCost`] measures `Σ -log2(freq / total)`, the length an ideal coder
 //! would reach with the same model, so coding overhead can be separated from
@@ -24,6 +26,8 @@ mod lanes;
 mod sink;
 mod source;
 mod table_lanes;
+#[cfg(target_arch = "x86_64")]
+mod table_simd;
 
 pub use cost::{log2_q32, IdealCost};
 pub use decoder::Decoder;
@@ -35,4 +39,6 @@ pub use sink::IoSink;
 #[cfg(feature = "std")]
 pub use source::IoSource;
 pub use source::{ByteSource, SliceSource};
+#[cfg(feature = "std")]
+pub(crate) use table_lanes::LANE_PAD;
 pub use table_lanes::{decode_table_lanes, encode_table_lanes};

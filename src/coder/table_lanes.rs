@@ -64,7 +64,7 @@ fn check(model: &TableModel, lanes: usize) -> Result<()> {
     if lanes == 0 || lanes > MAX_LANES {
         return Err(ErrorKind::InvalidParameter {
             name: "lanes",
-            reason: "must be 1 ..= 16",
+            reason: "must be 1 ..= 32",
         }
         .into());
     }
@@ -85,7 +85,7 @@ fn check(model: &TableModel, lanes: usize) -> Result<()> {
 ///
 /// # Errors
 ///
-/// [`ErrorKind::InvalidParameter`] for a lane count outside `1 ..= 16` or a
+/// [`ErrorKind::InvalidParameter`] for a lane count outside `1 ..= 32` or a
 /// model over more than 256 symbols; [`ErrorKind::UncodableSymbol`] for a byte
 /// with zero frequency.
 ///
@@ -128,6 +128,8 @@ pub fn encode_table_lanes(model: &TableModel, data: &[u8], lanes: usize) -> Resu
         4 => Ok(encode_fixed::<4>(data, &entry, shift, total)),
         2 => Ok(encode_fixed::<2>(data, &entry, shift, total)),
         8 => Ok(encode_fixed::<8>(data, &entry, shift, total)),
+        n if n % 8 == 0 => Ok(encode_passes::<8>(data, &entry, shift, total, n)),
+        n if n % 4 == 0 => Ok(encode_passes::<4>(data, &entry, shift, total, n)),
         _ => Ok(encode_fixed_dyn(data, &entry, shift, total, lanes)),
     }
 }
@@ -228,6 +230,66 @@ fn finish_lanes(mut outs: Vec<Vec<u8>>, low: &[u32], range: &[u32], pos: &[usize
     outs
 }
 
+/// Many lanes, `P` at a time: for each chunk of rows, a pass codes
+/// columns `first .. first + P` with their states in registers, then the
+/// next `P` columns. Same streams as coding the rows in order, since lanes
+/// are independent.
+fn encode_passes<const P: usize>(
+    data: &[u8],
+    entry: &[u64; 256],
+    shift: u32,
+    total: u32,
+    lanes: usize,
+) -> Vec<Vec<u8>> {
+    let mut outs = lane_buffers(data.len(), lanes);
+    let mut low = alloc::vec![0u32; lanes];
+    let mut range = alloc::vec![u32::MAX; lanes];
+    let mut pos = alloc::vec![0usize; lanes];
+    let rows = data.len() / lanes;
+    let (body, tail) = data.split_at(rows * lanes);
+    for chunk in body.chunks(CHUNK_ROWS * lanes) {
+        for first in (0..lanes).step_by(P) {
+            let bufs: &mut [Vec<u8>; P] = (&mut outs[first..first + P])
+                .try_into()
+                .expect("lane count is a multiple of P");
+            let mut l: [u32; P] = core::array::from_fn(|k| low[first + k]);
+            let mut r: [u32; P] = core::array::from_fn(|k| range[first + k]);
+            let mut p: [usize; P] = core::array::from_fn(|k| pos[first + k]);
+            for row in chunk.chunks_exact(lanes) {
+                let cols = &row[first..first + P];
+                for k in 0..P {
+                    let e = entry[cols[k] as usize];
+                    encode_step(
+                        &mut l[k],
+                        &mut r[k],
+                        &mut bufs[k],
+                        &mut p[k],
+                        e,
+                        shift,
+                        total,
+                    );
+                }
+            }
+            low[first..first + P].copy_from_slice(&l);
+            range[first..first + P].copy_from_slice(&r);
+            pos[first..first + P].copy_from_slice(&p);
+        }
+    }
+    for (k, &b) in tail.iter().enumerate() {
+        let e = entry[b as usize];
+        encode_step(
+            &mut low[k],
+            &mut range[k],
+            &mut outs[k],
+            &mut pos[k],
+            e,
+            shift,
+            total,
+        );
+    }
+    finish_lanes(outs, &low, &range, &pos)
+}
+
 fn encode_fixed_dyn(
     data: &[u8],
     entry: &[u64; 256],
@@ -255,51 +317,102 @@ fn encode_fixed_dyn(
     finish_lanes(outs, &low, &range, &pos)
 }
 
-/// Zero bytes placed after each lane's input, so reads need no end test.
-const PAD: usize = 8;
+/// Rows decoded between two checks of the lanes' read positions.
+const CHUNK_ROWS: usize = 64;
 
-/// One lane's decoding state, kept in the caller's locals.
+/// Zero bytes after each lane in the decoder's copy of the input: the four
+/// implicit zeros a lane may read, two bytes a step for a chunk of
+/// `CHUNK_ROWS` steps, and three for a four-byte read at the last position.
+pub(crate) const LANE_PAD: usize = 4 + 2 * CHUNK_ROWS + 4;
+
+/// One lane's decoding state; `pos` is an offset into the padded copy of all
+/// lanes.
 #[derive(Clone, Copy)]
-struct LaneState {
-    range: u32,
-    code: u32,
-    pos: usize,
-    bad: bool,
+pub(crate) struct LaneState {
+    pub(crate) range: u32,
+    pub(crate) code: u32,
+    pub(crate) pos: usize,
+    pub(crate) bad: bool,
 }
 
 impl LaneState {
-    fn start(input: &[u8]) -> Self {
+    fn start(buffer: &[u8], at: usize) -> Self {
         let mut code = 0u32;
-        for &b in &input[..4] {
+        for &b in &buffer[at..at + 4] {
             code = code << 8 | u32::from(b);
         }
         LaneState {
             range: u32::MAX,
             code,
-            pos: 4,
+            pos: at + 4,
             bad: code == u32::MAX,
         }
     }
 }
 
-/// The block-wide decoding tables.
-struct Slots<'a> {
-    slots: &'a [u64],
-    shift: u32,
-    total: u32,
+/// The block-wide decoding tables, one entry per slot of the total.
+pub(crate) struct DecodeTables {
+    /// Per slot: `cum | (freq - 1) << 12 | symbol << 24` when `packed`
+    /// (totals up to 2^12), else `cum | (freq - 1) << 16`.
+    pub(crate) slots: Vec<u32>,
+    /// Per slot: its symbol; three zero bytes follow for four-byte reads.
+    pub(crate) symbols: Vec<u8>,
+    pub(crate) shift: u32,
+    pub(crate) total: u32,
+    pub(crate) packed: bool,
 }
 
-/// One decoding step; returns the symbol. `input` is the lane's bytes plus
-/// `PAD` zeros; reads beyond it yield zero and are caught by the verdict.
+impl DecodeTables {
+    fn new(model: &TableModel) -> Self {
+        let total = model.total();
+        let shift = model.log2_total();
+        let packed = shift <= 12;
+        let mut slots = vec![0u32; total as usize];
+        let mut symbols = vec![0u8; total as usize + 3];
+        let (freq, cum) = (model.frequencies(), model.cumulative());
+        for s in 0..freq.len() {
+            if freq[s] == 0 {
+                continue;
+            }
+            let entry = if packed {
+                cum[s] | (freq[s] - 1) << 12 | (s as u32) << 24
+            } else {
+                cum[s] | (freq[s] - 1) << 16
+            };
+            let span = cum[s] as usize..(cum[s] + freq[s]) as usize;
+            slots[span.clone()].fill(entry);
+            symbols[span].fill(s as u8);
+        }
+        DecodeTables {
+            slots,
+            symbols,
+            shift,
+            total,
+            packed,
+        }
+    }
+
+    /// The slot's cumulative frequency and frequency.
+    #[inline(always)]
+    fn span(&self, entry: u32) -> (u32, u32) {
+        if self.packed {
+            (entry & 0xFFF, (entry >> 12 & 0xFFF) + 1)
+        } else {
+            (entry & 0xFFFF, (entry >> 16) + 1)
+        }
+    }
+}
+
+/// One decoding step; returns the symbol. Positions stay inside the lane's
+/// padding (checked by the caller between chunks), where bytes read as zero.
 #[inline(always)]
-fn decode_step(lane: &mut LaneState, input: &[u8], tables: &Slots<'_>) -> u8 {
+fn decode_step(lane: &mut LaneState, buffer: &[u8], tables: &DecodeTables) -> u8 {
     let total = tables.total;
     let r = (lane.range >> tables.shift).max(1);
-    let t = (lane.code / r).min(total - 1);
-    let e = tables.slots.get(t as usize).copied().unwrap_or(0);
-    let sym = e as u8;
-    let cum = (e >> 8) as u32 & 0x1_FFFF;
-    let freq = (e >> 32) as u32;
+    let t = (lane.code / r).min(total - 1) as usize;
+    let e = tables.slots.get(t).copied().unwrap_or(0);
+    let sym = tables.symbols.get(t).copied().unwrap_or(0);
+    let (cum, freq) = tables.span(e);
     let offset = r.wrapping_mul(cum);
     lane.code = lane.code.wrapping_sub(offset);
     lane.range = if cum + freq < total {
@@ -310,7 +423,7 @@ fn decode_step(lane: &mut LaneState, input: &[u8], tables: &Slots<'_>) -> u8 {
     // At most two bytes per symbol (see `encode_step`); branch-free.
     for _ in 0..2 {
         let step = u32::from(lane.range < TOP);
-        let byte = u32::from(input.get(lane.pos).copied().unwrap_or(0));
+        let byte = u32::from(buffer.get(lane.pos).copied().unwrap_or(0));
         lane.code = (lane.code << (8 * step)) | (byte & 0u32.wrapping_sub(step));
         lane.range <<= 8 * step;
         lane.pos += step as usize;
@@ -322,6 +435,9 @@ fn decode_step(lane: &mut LaneState, input: &[u8], tables: &Slots<'_>) -> u8 {
 /// Decodes `out.len()` bytes coded by [`encode_table_lanes`] (or by
 /// [`encode_interleaved`](super::encode_interleaved) with a byte table).
 ///
+/// On x86-64 CPUs with AVX2, lane counts that are a multiple of 8 decode
+/// eight lanes per vector instruction; the result is the same on every path.
+///
 /// # Errors
 ///
 /// [`ErrorKind::InvalidParameter`] as for [`encode_table_lanes`];
@@ -329,54 +445,86 @@ fn decode_step(lane: &mut LaneState, input: &[u8], tables: &Slots<'_>) -> u8 {
 /// [`ErrorKind::TrailingBytes`] when a lane's stream is damaged. The work done
 /// is bounded by `out.len()` whatever the input.
 pub fn decode_table_lanes(model: &TableModel, streams: &[&[u8]], out: &mut [u8]) -> Result<()> {
+    #[cfg(target_arch = "x86_64")]
+    let kernel = super::table_simd::Kernel::for_lanes(streams.len());
+    #[cfg(not(target_arch = "x86_64"))]
+    let kernel = None;
+    decode_with(model, streams, out, kernel)
+}
+
+/// The vector kernel a lane decoder may use (none off x86-64).
+#[cfg(target_arch = "x86_64")]
+type Vector = Option<super::table_simd::Kernel>;
+#[cfg(not(target_arch = "x86_64"))]
+type Vector = Option<core::convert::Infallible>;
+
+/// [`decode_table_lanes`] with the vector kernel chosen by the caller
+/// (`None`: the scalar steps only).
+fn decode_with(
+    model: &TableModel,
+    streams: &[&[u8]],
+    out: &mut [u8],
+    kernel: Vector,
+) -> Result<()> {
     check(model, streams.len())?;
-    let total = model.total();
-    let shift = model.log2_total();
-    let freq = model.frequencies();
-    let cum = model.cumulative();
-    // Per slot: symbol | cum << 8 | freq << 32.
-    let mut slots = vec![0u64; total as usize];
-    for s in 0..freq.len() {
-        let e = s as u64 | u64::from(cum[s]) << 8 | u64::from(freq[s]) << 32;
-        slots[cum[s] as usize..(cum[s] + freq[s]) as usize].fill(e);
+    let tables = DecodeTables::new(model);
+    // All lanes back to back in one buffer, each followed by `LANE_PAD` zeros.
+    let size: usize = streams.iter().map(|s| s.len() + LANE_PAD).sum();
+    let mut buffer = Vec::with_capacity(size);
+    let mut starts = Vec::with_capacity(streams.len());
+    for s in streams {
+        starts.push(buffer.len());
+        buffer.extend_from_slice(s);
+        buffer.resize(buffer.len() + LANE_PAD, 0);
     }
-    let inputs: Vec<Vec<u8>> = streams
+    let mut lanes: Vec<LaneState> = starts
         .iter()
-        .map(|s| {
-            let mut v = Vec::with_capacity(s.len() + PAD);
-            v.extend_from_slice(s);
-            v.resize(s.len() + PAD, 0);
-            v
-        })
+        .map(|&at| LaneState::start(&buffer, at))
         .collect();
-    let views: Vec<&[u8]> = inputs.iter().map(Vec::as_slice).collect();
-    let tables = Slots {
-        slots: &slots,
-        shift,
-        total,
+    let truncated = |lanes: &[LaneState]| {
+        lanes
+            .iter()
+            .zip(streams.iter().zip(&starts))
+            .find(|(lane, (s, &at))| lane.pos - at > s.len() + 4)
+            .map(|(_, (s, _))| ErrorKind::Truncated {
+                offset: s.len() as u64,
+            })
     };
-    let states = match views.len() {
-        4 => decode_fixed::<4>(&views, out, &tables),
-        2 => decode_fixed::<2>(&views, out, &tables),
-        8 => decode_fixed::<8>(&views, out, &tables),
-        _ => decode_dyn(&views, out, &tables),
-    };
-    for (lane, stream) in states.iter().zip(streams) {
-        let len = stream.len();
-        if lane.pos > len + 4 {
+
+    let n = lanes.len();
+    let rows = out.len() / n;
+    let (body, tail) = out.split_at_mut(rows * n);
+    for chunk in body.chunks_mut(CHUNK_ROWS * n) {
+        // A lane past its four implicit zeros is truncated for good: stop
+        // before its reads could leave its padding.
+        if let Some(e) = truncated(&lanes) {
+            return Err(e.into());
+        }
+        decode_chunk(&mut lanes, &buffer, &tables, chunk, kernel);
+    }
+    if let Some(e) = truncated(&lanes) {
+        return Err(e.into());
+    }
+    for (lane, b) in lanes.iter_mut().zip(tail.iter_mut()) {
+        *b = decode_step(lane, &buffer, &tables);
+    }
+
+    for (lane, (stream, &at)) in lanes.iter().zip(streams.iter().zip(&starts)) {
+        let (len, used) = (stream.len(), lane.pos - at);
+        if used > len + 4 {
             return Err(ErrorKind::Truncated { offset: len as u64 }.into());
         }
         if lane.bad {
             return Err(ErrorKind::CorruptStream {
-                offset: lane.pos.min(len) as u64,
+                offset: used.min(len) as u64,
                 reason: "code value outside the coder interval",
             }
             .into());
         }
-        if lane.pos < len {
+        if used < len {
             return Err(ErrorKind::TrailingBytes {
-                offset: lane.pos as u64,
-                count: (len - lane.pos) as u64,
+                offset: used as u64,
+                count: (len - used) as u64,
             }
             .into());
         }
@@ -384,32 +532,50 @@ pub fn decode_table_lanes(model: &TableModel, streams: &[&[u8]], out: &mut [u8])
     Ok(())
 }
 
-fn decode_fixed<const N: usize>(
-    inputs: &[&[u8]],
-    out: &mut [u8],
-    tables: &Slots<'_>,
-) -> Vec<LaneState> {
-    let mut lanes: [LaneState; N] = core::array::from_fn(|l| LaneState::start(inputs[l]));
-    let input: [&[u8]; N] = core::array::from_fn(|l| inputs[l]);
-    let mut chunks = out.chunks_exact_mut(N);
-    for chunk in &mut chunks {
-        for l in 0..N {
-            chunk[l] = decode_step(&mut lanes[l], input[l], tables);
+/// Decodes whole rows (one symbol from every lane each) into `chunk`.
+fn decode_chunk(
+    lanes: &mut [LaneState],
+    buffer: &[u8],
+    tables: &DecodeTables,
+    chunk: &mut [u8],
+    kernel: Vector,
+) {
+    let n = lanes.len();
+    #[cfg(target_arch = "x86_64")]
+    if let Some(kernel) = kernel {
+        if buffer.len() <= i32::MAX as usize {
+            return super::table_simd::decode_rows(kernel, lanes, buffer, tables, chunk);
         }
     }
-    for (l, b) in chunks.into_remainder().iter_mut().enumerate() {
-        *b = decode_step(&mut lanes[l], input[l], tables);
+    #[cfg(not(target_arch = "x86_64"))]
+    let _ = kernel;
+    match n {
+        4 => decode_fixed::<4>(lanes, buffer, tables, chunk),
+        8 => decode_fixed::<8>(lanes, buffer, tables, chunk),
+        _ => {
+            for row in chunk.chunks_exact_mut(n) {
+                for (lane, b) in lanes.iter_mut().zip(row) {
+                    *b = decode_step(lane, buffer, tables);
+                }
+            }
+        }
     }
-    lanes.to_vec()
 }
 
-fn decode_dyn(inputs: &[&[u8]], out: &mut [u8], tables: &Slots<'_>) -> Vec<LaneState> {
-    let n = inputs.len();
-    let mut lanes: Vec<LaneState> = inputs.iter().map(|i| LaneState::start(i)).collect();
-    for (i, b) in out.iter_mut().enumerate() {
-        *b = decode_step(&mut lanes[i % n], inputs[i % n], tables);
+/// The scalar rows with the lane count fixed, so the states stay in registers.
+fn decode_fixed<const N: usize>(
+    lanes: &mut [LaneState],
+    buffer: &[u8],
+    tables: &DecodeTables,
+    chunk: &mut [u8],
+) {
+    let mut state: [LaneState; N] = core::array::from_fn(|l| lanes[l]);
+    for row in chunk.chunks_exact_mut(N) {
+        for l in 0..N {
+            row[l] = decode_step(&mut state[l], buffer, tables);
+        }
     }
-    lanes
+    lanes.copy_from_slice(&state);
 }
 
 #[cfg(test)]
@@ -436,6 +602,55 @@ mod tests {
                 let mut out2 = vec![0u8; data.len()];
                 decode_interleaved(&mut m, &views, &mut out2).unwrap();
                 assert_eq!(out2, data);
+            }
+        }
+    }
+
+    /// Every vector kernel this CPU has decodes exactly as the scalar steps:
+    /// same bytes and same verdict, on clean and on damaged lanes.
+    #[cfg(target_arch = "x86_64")]
+    #[test]
+    fn vector_kernels_match_the_scalar_steps() {
+        use crate::coder::table_simd::Kernel;
+        let data: Vec<u8> = (0..30_011u32)
+            .map(|i| (i.wrapping_mul(2_654_435_761) >> 27) as u8 % (1 + (i / 500 % 40) as u8))
+            .collect();
+        let kernels: Vec<Kernel> = [Kernel::Avx512, Kernel::Avx2]
+            .into_iter()
+            .filter(|k| k.supported())
+            .collect();
+        for k in [8u32, 12, 13, 16] {
+            let model = TableModel::from_bytes_histogram(&data, k).unwrap();
+            for lanes in [8usize, 16, 24, 32] {
+                let mut streams = encode_table_lanes(&model, &data, lanes).unwrap();
+                for damage in 0..4u32 {
+                    match damage {
+                        1 => streams[lanes / 2][7] ^= 0x5A,
+                        2 => {
+                            let last = streams.len() - 1;
+                            let len = streams[last].len();
+                            streams[last].truncate(len / 3);
+                        }
+                        3 => streams[1].push(0),
+                        _ => {}
+                    }
+                    let views: Vec<&[u8]> = streams.iter().map(Vec::as_slice).collect();
+                    let mut want = vec![0u8; data.len()];
+                    let verdict = decode_with(&model, &views, &mut want, None)
+                        .map_err(|e| alloc::format!("{e:?}"));
+                    if damage == 0 {
+                        assert_eq!(want, data);
+                    }
+                    for &kernel in &kernels {
+                        let mut got = vec![0u8; data.len()];
+                        let v = decode_with(&model, &views, &mut got, Some(kernel))
+                            .map_err(|e| alloc::format!("{e:?}"));
+                        assert_eq!(v, verdict, "{kernel:?} k={k} lanes={lanes} damage={damage}");
+                        if verdict.is_ok() || damage == 1 {
+                            assert_eq!(got, want, "{kernel:?} k={k} lanes={lanes} damage={damage}");
+                        }
+                    }
+                }
             }
         }
     }

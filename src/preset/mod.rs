@@ -95,7 +95,7 @@ pub enum PresetKind {
 const STATIC_PARAMS: &[ParamSpec] = &[
     ParamSpec {
         name: "lanes",
-        default: 4,
+        default: 32,
         min: 1,
         max: crate::coder::MAX_LANES as u32,
         help: "interleaved coder lanes per block (blocks under 1 KiB per lane use fewer)",
@@ -683,7 +683,7 @@ mod tests {
         ));
         assert!(Preset::from_id(1, &[4]).is_err());
         assert!(matches!(
-            Preset::from_id(1, &[17, 12]).unwrap_err().kind(),
+            Preset::from_id(1, &[33, 12]).unwrap_err().kind(),
             ErrorKind::LimitExceeded { .. }
         ));
         assert!(Preset::from_id(1, &[0, 12]).is_err());
@@ -719,7 +719,7 @@ mod tests {
         }
         assert_eq!(
             Preset::default().to_string(),
-            "static(lanes=4, log2_total=12)"
+            "static(lanes=32, log2_total=12)"
         );
     }
 }

@@ -124,14 +124,14 @@ pub(crate) fn decode(payload: &[u8], params: &[u32], out: &mut [u8]) -> Result<(
 
 /// Working memory to decode a block of up to `block_size` bytes, beyond the
 /// payload and output buffers: table model state (frequencies and
-/// cumulative counts, 2 x 257 x 4 bytes, the model's slot table, 2 bytes per
-/// unit of the total, and the fast decoder's packed slot table, 8 bytes per
-/// unit), rounded up, plus the fast decoder's padded copy of the lanes (the
-/// payload, shorter than the block, and a few bytes of padding per lane).
+/// cumulative counts, 2 x 257 x 4 bytes, and the model's slot table, 2 bytes
+/// per unit of the total), the fast decoder's slot and symbol tables (5
+/// bytes per unit), rounded up, plus the fast decoder's padded copy of the
+/// lanes (the payload, shorter than the block, and its padding per lane).
 pub(crate) fn working_memory(params: &[u32], block_size: u64) -> u64 {
-    let tables = 4096 + (10u64 << params[1]);
-    let lanes = block_size.saturating_add(64 * crate::coder::MAX_LANES as u64);
-    tables.saturating_add(lanes)
+    let tables = 4096 + (8u64 << params[1]);
+    let pad = crate::coder::LANE_PAD as u64 * crate::coder::MAX_LANES as u64;
+    tables.saturating_add(block_size.saturating_add(pad))
 }
 
 #[cfg(test)]
