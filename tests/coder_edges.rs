@@ -329,7 +329,7 @@ struct Trickle {
 impl Write for Trickle {
     fn write(&mut self, buf: &[u8]) -> io::Result<usize> {
         self.calls += 1;
-        if self.calls % 3 == 0 {
+        if self.calls.is_multiple_of(3) {
             return Err(io::Error::new(io::ErrorKind::Interrupted, "try again"));
         }
         match buf.first() {
@@ -354,7 +354,7 @@ struct Dribble<'a> {
 impl Read for Dribble<'_> {
     fn read(&mut self, buf: &mut [u8]) -> io::Result<usize> {
         self.calls += 1;
-        if self.calls % 4 == 0 {
+        if self.calls.is_multiple_of(4) {
             return Err(io::Error::new(io::ErrorKind::Interrupted, "try again"));
         }
         match (self.bytes.split_first(), buf.first_mut()) {

@@ -215,7 +215,7 @@ fn static_table(table: &[u8], log2_cap: u64) -> R<Vec<u32>> {
     if b.pos.div_ceil(8) != table.len() {
         return Err("table length differs".into());
     }
-    while b.pos % 8 != 0 {
+    while !b.pos.is_multiple_of(8) {
         if b.bit()? != 0 {
             return Err("padding bit set".into());
         }

@@ -32,7 +32,7 @@ struct ShortWriter {
 impl Write for ShortWriter {
     fn write(&mut self, buf: &[u8]) -> io::Result<usize> {
         self.calls += 1;
-        if self.calls % 3 == 0 {
+        if self.calls.is_multiple_of(3) {
             return Err(io::Error::from(io::ErrorKind::Interrupted));
         }
         let n = buf.len().min(self.max);
@@ -81,7 +81,7 @@ struct TrickleReader<'a> {
 impl Read for TrickleReader<'_> {
     fn read(&mut self, buf: &mut [u8]) -> io::Result<usize> {
         self.calls += 1;
-        if self.calls % 2 == 0 {
+        if self.calls.is_multiple_of(2) {
             return Err(io::Error::from(io::ErrorKind::Interrupted));
         }
         if Some(self.pos) == self.fail_at {

@@ -87,10 +87,10 @@ impl Model for Faulty {
     }
     fn locate(&self, target: u32) -> (u32, Span) {
         let mut s = (target / 8).min(7);
-        if self.off_by_one && target % 8 == 0 && s > 0 {
+        if self.off_by_one && target.is_multiple_of(8) && s > 0 {
             s -= 1;
         }
-        if self.wrong_inside && target % 8 != 0 && target % 8 != 7 {
+        if self.wrong_inside && !target.is_multiple_of(8) && target % 8 != 7 {
             s = (s + 1) % 8;
         }
         (s, Span::new(s * 8, 8))

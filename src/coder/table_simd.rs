@@ -49,7 +49,7 @@ impl Kernel {
     /// The best kernel for `lanes` lanes on the running CPU; none unless
     /// the lane count is a multiple of eight.
     pub(crate) fn for_lanes(lanes: usize) -> Option<Kernel> {
-        if lanes % 8 != 0 {
+        if !lanes.is_multiple_of(8) {
             return None;
         }
         [Kernel::Avx512, Kernel::Avx2]
@@ -99,7 +99,7 @@ pub(crate) fn decode_rows(
 ) {
     let n = lanes.len();
     assert!(kernel.supported());
-    assert!(n > 0 && n % 8 == 0);
+    assert!(n > 0 && n.is_multiple_of(8));
     let rows = chunk.len() / n;
     assert!(buffer.len() <= i32::MAX as usize);
     for lane in lanes.iter() {

@@ -108,7 +108,7 @@ struct Chunked<'a> {
 impl Read for Chunked<'_> {
     fn read(&mut self, buf: &mut [u8]) -> io::Result<usize> {
         let r = lcg(&mut self.rng);
-        if self.interrupts && r % 16 == 0 {
+        if self.interrupts && r.is_multiple_of(16) {
             return Err(io::ErrorKind::Interrupted.into());
         }
         let n = buf

@@ -74,7 +74,7 @@ fn write_adapter(data: &[u8], opts: &Options, mode: u8, max: usize, seed: u32) -
                 let took = c.write(&rest[..n]).expect("in-memory writes cannot fail");
                 assert!(took > 0 && took <= n, "write took {took} of {n} bytes");
                 rest = &rest[took..];
-                if mode == 2 && lcg(&mut rng) % 4 == 0 {
+                if mode == 2 && lcg(&mut rng).is_multiple_of(4) {
                     c.flush().expect("in-memory flush cannot fail");
                     flushed = true;
                 }
