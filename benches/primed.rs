@@ -1,5 +1,5 @@
-//! Small river-gauge frames: a primed adaptive model against a cold one and
-//! raw deflate.
+//! Small river-gauge frames: primed adaptive and context models against a
+//! cold model and raw deflate.
 //!
 //! Criterion measures time per batch of frames; the sizes (bits per frame,
 //! whole frames as sent) are printed once at start-up for both frame
@@ -14,8 +14,11 @@ mod frame_codecs;
 mod gauge_frames;
 
 use criterion::{black_box, criterion_group, criterion_main, Criterion, Throughput};
-use frame_codecs::{cold_frame, deflate_frame, measure, primed_snapshot, training_sample};
+use frame_codecs::{
+    cold_frame, deflate_frame, measure, primed_context_snapshot, primed_snapshot, training_sample,
+};
 use gauge_frames::{GaugeNetwork, Layout};
+use subrange::model::ContextModel;
 use subrange::prime::Primer;
 
 const START: u32 = 1_714_521_600;
@@ -31,17 +34,19 @@ fn report_sizes() {
         let (training, test) = frames(layout);
         let m = measure(&training, &test);
         eprintln!(
-            "{layout:?} frames ({:.0} bits raw), bits/frame: primed {:.1}, cold {:.1}, \
-             deflate {:.1}, deflate+dictionary {:.1}; primed/deflate {:.3}, \
-             primed/deflate+dictionary {:.3}, primed/cold {:.3}",
+            "{layout:?} frames ({:.0} bits raw), bits/frame: primed context {:.1}, \
+             primed order-0 {:.1}, cold {:.1}, deflate {:.1}, deflate+dictionary {:.1}; \
+             context/deflate+dictionary {:.3}, order-0/deflate+dictionary {:.3}, \
+             context/cold {:.3}",
             m.raw,
+            m.primed_context,
             m.primed,
             m.cold,
             m.deflate,
             m.deflate_dictionary,
-            m.primed / m.deflate,
+            m.primed_context / m.deflate_dictionary,
             m.primed / m.deflate_dictionary,
-            m.primed / m.cold,
+            m.primed_context / m.cold,
         );
     }
 }
@@ -91,6 +96,44 @@ fn bench_frames(c: &mut Criterion) {
 
     c.bench_function("primed_frames/restore_snapshot", |b| {
         b.iter(|| black_box(Primer::<subrange::model::AdaptiveModel>::new(&snapshot).unwrap()))
+    });
+
+    // The context model on text frames: slower per byte (it rebuilds a
+    // 256-entry table per byte), far smaller frames.
+    let (training, test) = frames(Layout::Text);
+    let snapshot = primed_context_snapshot(&training_sample(&training));
+    let primer: Primer<ContextModel> = Primer::new(&snapshot).unwrap();
+    let coded: Vec<Vec<u8>> = test
+        .iter()
+        .map(|f| primer.encode_message(f).unwrap())
+        .collect();
+    let bytes: usize = test.iter().map(Vec::len).sum();
+    let mut group = c.benchmark_group("primed_frames/text");
+    group.throughput(Throughput::Bytes(bytes as u64));
+    group.bench_function("context_encode", |b| {
+        b.iter(|| {
+            for f in &test {
+                black_box(primer.encode_message(f).unwrap());
+            }
+        })
+    });
+    group.bench_function("context_decode", |b| {
+        b.iter(|| {
+            for f in &coded {
+                black_box(primer.decode_message(f, 256).unwrap());
+            }
+        })
+    });
+    group.bench_function("flate2_deflate_encode", |b| {
+        b.iter(|| {
+            for f in &test {
+                black_box(deflate_frame(&[], f));
+            }
+        })
+    });
+    group.finish();
+    c.bench_function("primed_frames/restore_context_snapshot", |b| {
+        b.iter(|| black_box(Primer::<ContextModel>::new(&snapshot).unwrap()))
     });
 }
 

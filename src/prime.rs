@@ -20,6 +20,13 @@
 //! Every message starts from the same state, so messages decode in any order
 //! and a lost message costs only itself.
 //!
+//! Which model to prime: [`AdaptiveModel`] (order 0) is the fastest and its
+//! snapshot the smallest; [`ContextModel`] (orders 0 to 3, blended) also
+//! knows which bytes follow which, so text and records with repeated fields
+//! come out far smaller (on 100-byte text gauge frames, roughly 0.6 of the
+//! order-0 model's bits), at a few microseconds more per byte. Any model that
+//! implements [`Model`] and [`SnapshotState`] works.
+//!
 //! [`Primer`] holds a restored model and codes any number of messages;
 //! [`encode_message`] and [`decode_message`] are one-call forms for the
 //! model kinds this crate knows.
@@ -29,7 +36,7 @@ use alloc::vec::Vec;
 use crate::coder::{Decoder, Encoder};
 use crate::error::{ErrorKind, Result};
 use crate::model::snapshot::{read_varint, write_varint, Snapshot, SnapshotState};
-use crate::model::{AdaptiveModel, Model, TableModel};
+use crate::model::{AdaptiveModel, ContextModel, Model, TableModel};
 
 /// Bytes of the snapshot identifier at the start of every frame.
 pub const ID_LEN: usize = 4;
@@ -202,7 +209,8 @@ pub fn frame_snapshot_id(frame: &[u8]) -> Result<u32> {
 ///
 /// Restores the model on every call; to code many messages, build a
 /// [`Primer`] once. Works for snapshots of the crate's own models
-/// ([`AdaptiveModel`], [`TableModel`]); use `Primer<M>` for others.
+/// ([`AdaptiveModel`], [`TableModel`], [`ContextModel`]); use `Primer<M>`
+/// for others.
 ///
 /// # Errors
 ///
@@ -237,6 +245,9 @@ pub fn encode_message(snapshot: &Snapshot, data: &[u8]) -> Result<Vec<u8>> {
         <TableModel as SnapshotState>::KIND => {
             Primer::<TableModel>::new(snapshot)?.encode_message(data)
         }
+        <ContextModel as SnapshotState>::KIND => {
+            Primer::<ContextModel>::new(snapshot)?.encode_message(data)
+        }
         _ => Err(unknown_kind()),
     }
 }
@@ -254,6 +265,9 @@ pub fn decode_message(snapshot: &Snapshot, frame: &[u8], max_len: usize) -> Resu
         }
         <TableModel as SnapshotState>::KIND => {
             Primer::<TableModel>::new(snapshot)?.decode_message(frame, max_len)
+        }
+        <ContextModel as SnapshotState>::KIND => {
+            Primer::<ContextModel>::new(snapshot)?.decode_message(frame, max_len)
         }
         _ => Err(unknown_kind()),
     }

@@ -96,7 +96,9 @@ fn positions(preset: Preset, n: usize, stride: usize, exhaustive: bool) -> Vec<u
     if exhaustive || !matches!(preset.name(), "order2" | "mix") {
         return (0..n).collect();
     }
-    (0..n).filter(|i| (i + i / stride).is_multiple_of(stride)).collect()
+    (0..n)
+        .filter(|i| (i + i / stride).is_multiple_of(stride))
+        .collect()
 }
 
 #[test]

@@ -30,18 +30,21 @@ fn primed_beats_cold_and_deflate_on_binary_gauge_frames() {
     assert!(m.primed < m.cold, "{m:?}");
     assert!(m.primed < m.deflate, "{m:?}");
     assert!(m.primed < m.deflate_dictionary, "{m:?}");
+    assert!(m.primed_context < m.primed, "{m:?}");
 }
 
 #[test]
 fn primed_beats_cold_on_text_gauge_frames() {
     // On text frames with repeated values, deflate with a dictionary finds
-    // long matches an order-0 model cannot see; only the comparison with the
-    // cold model and plain deflate is asserted.
+    // long matches an order-0 model cannot see; the primed context model
+    // sees them through its order-1 to order-3 contexts and beats it.
     let (training, test) = network_frames(Layout::Text);
     let m = measure(&training, &test);
     eprintln!("text frames, bits/frame: {m:?}");
     assert!(m.primed < m.cold, "{m:?}");
     assert!(m.primed < m.deflate, "{m:?}");
+    assert!(m.primed_context < m.primed, "{m:?}");
+    assert!(m.primed_context < m.deflate_dictionary, "{m:?}");
 }
 
 fn snapshot_and_frames() -> (Snapshot, Vec<Vec<u8>>) {

@@ -13,6 +13,9 @@
 //! - [`AdaptiveModel`]: order-0 counts that learn as they code, for alphabets
 //!   up to 65,536 symbols (a Fenwick tree when the alphabet is large, an escape
 //!   for symbols not seen yet when it is very large).
+//! - [`ContextModel`]: counts per context of the previous 0 to 3 bytes,
+//!   blended from the highest order down; for short messages from a trained
+//!   state.
 //! - [`ProbabilityAdapter`]: a per-step table built from probabilities that
 //!   come from outside (a learned or statistical model), see [`external`].
 //!
@@ -39,6 +42,7 @@ mod bit;
 mod bytewise;
 pub mod cm;
 mod column;
+mod context;
 mod counter;
 pub mod external;
 mod fenwick;
@@ -58,6 +62,7 @@ pub use apm::Apm;
 pub use audit::{audit_model, audit_predictor, AuditReport};
 pub use bit::{decode_with, encode_with, BitPredictor, ShiftPredictor};
 pub use bytewise::BitTree;
+pub use context::{ContextModel, ContextParams, MAX_CONTEXT_LIMIT, MAX_CONTEXT_ORDER};
 pub use counter::{CountingPredictor, MAX_COUNT_LIMIT};
 pub use external::{quantize_probabilities, Probability, ProbabilityAdapter};
 pub use fenwick::FenwickTree;

@@ -52,7 +52,7 @@ const CRC_LEN: usize = 4;
 /// Largest state a snapshot may declare: 64 MiB.
 pub const MAX_STATE_LEN: usize = 1 << 26;
 
-fn snapshot_error(reason: &'static str) -> crate::Error {
+pub(crate) fn snapshot_error(reason: &'static str) -> crate::Error {
     ErrorKind::Snapshot { reason }.into()
 }
 
@@ -74,7 +74,8 @@ fn snapshot_error(reason: &'static str) -> crate::Error {
 ///   Report problems as [`ErrorKind::Snapshot`].
 /// - `KIND` identifies the model type in the snapshot header; it is checked
 ///   before `read_state` is called. Kinds in use: 1 [`AdaptiveModel`],
-///   2 [`TableModel`]. A new model type takes the next free number.
+///   2 [`TableModel`], 3 [`ContextModel`](crate::model::ContextModel). A new
+///   model type takes the next free number.
 ///
 /// # Example
 ///

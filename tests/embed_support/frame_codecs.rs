@@ -1,5 +1,6 @@
-//! The codecs compared on small gauge frames: a primed adaptive model, a
-//! cold one, and raw deflate (flate2) with and without a preset dictionary.
+//! The codecs compared on small gauge frames: a primed adaptive (order-0)
+//! model, a primed context model (orders 0 to 3), a cold adaptive model, and
+//! raw deflate (flate2) with and without a preset dictionary.
 //!
 //! Sizes are whole frames as they would go over the radio: the primed frame
 //! includes its 4-byte snapshot id and length field, the cold frame its
@@ -10,7 +11,7 @@
 use flate2::{Compress, Compression, Decompress, FlushCompress, FlushDecompress};
 use subrange::coder::Encoder;
 use subrange::model::snapshot::write_varint;
-use subrange::model::{AdaptiveModel, Model, Snapshot};
+use subrange::model::{AdaptiveModel, ContextModel, ContextParams, Model, Snapshot};
 
 /// Deflate's window: a preset dictionary longer than this is useless.
 pub const DICTIONARY_LEN: usize = 32 * 1024;
@@ -29,6 +30,13 @@ pub fn primed_snapshot(sample: &[u8]) -> Snapshot {
     for &b in sample {
         model.update(b.into());
     }
+    Snapshot::capture(&model).unwrap()
+}
+
+/// Trains a context model (orders 0 to 3) on `sample` and snapshots it.
+pub fn primed_context_snapshot(sample: &[u8]) -> Snapshot {
+    let mut model = ContextModel::new(ContextParams::default()).unwrap();
+    model.train(sample);
     Snapshot::capture(&model).unwrap()
 }
 
@@ -89,6 +97,7 @@ pub fn inflate_frame(dictionary: &[u8], frame: &[u8]) -> Vec<u8> {
 pub struct BitsPerFrame {
     pub raw: f64,
     pub primed: f64,
+    pub primed_context: f64,
     pub cold: f64,
     pub deflate: f64,
     pub deflate_dictionary: f64,
@@ -98,6 +107,8 @@ pub fn measure(training: &[Vec<u8>], frames: &[Vec<u8>]) -> BitsPerFrame {
     let sample = training_sample(training);
     let snapshot = primed_snapshot(&sample);
     let primer: subrange::prime::Primer = subrange::prime::Primer::new(&snapshot).unwrap();
+    let context: subrange::prime::Primer<ContextModel> =
+        subrange::prime::Primer::new(&primed_context_snapshot(&sample)).unwrap();
     let n = frames.len() as f64;
     let bits =
         |f: &dyn Fn(&[u8]) -> usize| frames.iter().map(|x| f(x) * 8).sum::<usize>() as f64 / n;
@@ -106,6 +117,11 @@ pub fn measure(training: &[Vec<u8>], frames: &[Vec<u8>]) -> BitsPerFrame {
         primed: bits(&|x| {
             let frame = primer.encode_message(x).unwrap();
             assert_eq!(primer.decode_message(&frame, 4096).unwrap(), x);
+            frame.len()
+        }),
+        primed_context: bits(&|x| {
+            let frame = context.encode_message(x).unwrap();
+            assert_eq!(context.decode_message(&frame, 4096).unwrap(), x);
             frame.len()
         }),
         cold: bits(&|x| cold_frame(x).len()),

@@ -1,0 +1,506 @@
+//! A byte model over the previous bytes: orders 0 to 3, blended.
+//!
+//! For each order `k` the model keeps, per context (the `k` previous bytes),
+//! the counts of the bytes that followed it. The probability of the next
+//! byte blends the orders from the highest down, the way PPM's escape
+//! estimates do (Cleary & Witten, "Data compression using adaptive coding
+//! and partial string matching", IEEE Trans. Communications 32(4), 1984;
+//! escape method C of Moffat, "Implementing the PPM data compression
+//! scheme", IEEE Trans. Communications 38(11), 1990):
+//!
+//! ```text
+//! P_k(s) = c_k(s) / (n_k + u_k) + u_k / (n_k + u_k) · P_{k-1}(s)
+//! ```
+//!
+//! with `n_k` the context's total count and `u_k` its number of distinct
+//! bytes; an order whose context has no counts passes `P_{k-1}` through, and
+//! below order 0 every byte has probability 1/256. Nothing is excluded, so
+//! the blend is a proper mixture and every byte keeps a non-zero probability.
+//!
+//! The arithmetic is exact integers: the blend's numerators and its common
+//! denominator are built in `u128`, scaled to a frequency table of total at
+//! most 2^16 in which every byte has at least 1. Encoder and decoder compute
+//! bit-identical tables on every platform.
+//!
+//! It is meant for short messages started from a trained state
+//! ([`prime`](crate::prime)): recomputing the table costs O(256 · orders)
+//! per byte, and contexts are stored sparsely (only bytes seen), so a
+//! snapshot of a model trained on tens of kilobytes stays small.
+//!
+//! Invariants: in every context the counts are `>= 1`, sorted by byte, and
+//! sum to `n_k <= limit`; the cached table is the blend of the current
+//! history.
+
+use alloc::collections::BTreeMap;
+use alloc::vec::Vec;
+
+use crate::error::{ErrorKind, Result};
+use crate::model::snapshot::{read_varint, snapshot_error, write_varint, SnapshotState};
+use crate::model::{Model, Span, MAX_TOTAL};
+
+/// Highest context order.
+pub const MAX_CONTEXT_ORDER: u8 = 3;
+
+/// Largest count limit per context.
+pub const MAX_CONTEXT_LIMIT: u32 = 4096;
+
+/// Parameters of a [`ContextModel`].
+///
+/// # Example
+///
+/// ```
+/// use subrange::model::ContextParams;
+///
+/// let mut params = ContextParams::default();
+/// params.max_order = 2;
+/// assert!(params.validate().is_ok());
+/// params.limit = 1;
+/// assert!(params.validate().is_err());
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+#[non_exhaustive]
+pub struct ContextParams {
+    /// Highest order used, `0 ..= 3` (default 3).
+    pub max_order: u8,
+    /// Added to a byte's count each time it follows the context,
+    /// `1 ..= 255` (default 2).
+    pub increment: u32,
+    /// A context's counts are halved when their sum would pass this,
+    /// `increment + 1 ..= 4096` (default 1024).
+    pub limit: u32,
+}
+
+impl Default for ContextParams {
+    fn default() -> Self {
+        ContextParams {
+            max_order: 3,
+            increment: 2,
+            limit: 1024,
+        }
+    }
+}
+
+impl ContextParams {
+    /// Checks every field against its documented range.
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::InvalidParameter`] naming the first field out of range.
+    pub fn validate(&self) -> Result<()> {
+        let bad = |name, reason| Err(ErrorKind::InvalidParameter { name, reason }.into());
+        if self.max_order > MAX_CONTEXT_ORDER {
+            return bad("max_order", "must be in 0 ..= 3");
+        }
+        if self.increment == 0 || self.increment > 255 {
+            return bad("increment", "must be in 1 ..= 255");
+        }
+        if self.limit <= self.increment || self.limit > MAX_CONTEXT_LIMIT {
+            return bad("limit", "must be in increment + 1 ..= 4096");
+        }
+        Ok(())
+    }
+}
+
+/// The bytes seen after one context: `(byte, count)` sorted by byte.
+#[derive(Debug, Clone, PartialEq, Eq, Default)]
+pub(crate) struct Successors {
+    pub(crate) counts: Vec<(u8, u16)>,
+    pub(crate) total: u32,
+}
+
+impl Successors {
+    fn add(&mut self, byte: u8, increment: u32, limit: u32) {
+        if self.total + increment > limit {
+            // Halve, dropping bytes whose count reaches zero.
+            self.counts.retain_mut(|(_, c)| {
+                *c /= 2;
+                *c > 0
+            });
+            self.total = self.counts.iter().map(|&(_, c)| u32::from(c)).sum();
+        }
+        match self.counts.binary_search_by_key(&byte, |&(b, _)| b) {
+            Ok(i) => self.counts[i].1 += increment as u16,
+            Err(i) => self.counts.insert(i, (byte, increment as u16)),
+        }
+        self.total += increment;
+    }
+}
+
+/// An adaptive byte model over contexts of the previous 0 to 3 bytes (see the
+/// [module documentation](self)).
+///
+/// # Example
+///
+/// ```
+/// use subrange::coder::{Decoder, Encoder};
+/// use subrange::model::{ContextModel, ContextParams, Model};
+///
+/// # fn main() -> Result<(), subrange::Error> {
+/// let mut model = ContextModel::new(ContextParams::default())?;
+/// model.train(&b"7 1714521600\n231 45.60 12.3\n".repeat(30));
+///
+/// let frame = b"7 1714522200\n232 45.70 12.3\n";
+/// let mut enc = Encoder::new();
+/// let mut m = model.clone();
+/// for &b in frame {
+///     enc.encode(&mut m, b.into())?;
+/// }
+/// let coded = enc.finish()?;
+/// assert!(coded.len() < frame.len() / 2);
+///
+/// let mut dec = Decoder::new(&coded)?;
+/// let mut m = model.clone();
+/// let back: Vec<u8> = (0..frame.len())
+///     .map(|_| dec.decode(&mut m).map(|s| s as u8))
+///     .collect::<Result<_, _>>()?;
+/// assert_eq!(back, frame);
+/// # Ok(())
+/// # }
+/// ```
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct ContextModel {
+    params: ContextParams,
+    /// The last bytes, most recent in the low byte.
+    history: u32,
+    /// Per order `0 ..= max_order`: context key (the `k` previous bytes) to
+    /// its successors.
+    orders: Vec<BTreeMap<u32, Successors>>,
+    /// Cumulative frequencies of the current blend, 257 entries.
+    cum: Vec<u32>,
+}
+
+impl ContextModel {
+    /// A model that has seen nothing (every byte 1/256).
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::InvalidParameter`] when `params` is out of range.
+    pub fn new(params: ContextParams) -> Result<Self> {
+        Self::from_parts(
+            params,
+            0,
+            alloc::vec![BTreeMap::new(); usize::from(params.max_order) + 1],
+        )
+    }
+
+    pub(crate) fn from_parts(
+        params: ContextParams,
+        history: u32,
+        orders: Vec<BTreeMap<u32, Successors>>,
+    ) -> Result<Self> {
+        params.validate()?;
+        let mut model = ContextModel {
+            params,
+            history,
+            orders,
+            cum: alloc::vec![0; 257],
+        };
+        model.refresh();
+        Ok(model)
+    }
+
+    /// The model's parameters.
+    pub fn params(&self) -> ContextParams {
+        self.params
+    }
+
+    /// The previous bytes the next prediction uses (most recent in the low
+    /// byte).
+    pub fn history(&self) -> u32 {
+        self.history
+    }
+
+    /// Number of contexts with counts, over all orders.
+    pub fn contexts(&self) -> usize {
+        self.orders.iter().map(BTreeMap::len).sum()
+    }
+
+    /// Learns from `data` as if it had been coded, faster than calling
+    /// [`update`](Model::update) per byte (the table is rebuilt once, at the
+    /// end).
+    pub fn train(&mut self, data: &[u8]) {
+        for &b in data {
+            self.learn(b);
+        }
+        self.refresh();
+    }
+
+    fn key(&self, order: usize) -> u32 {
+        match order {
+            0 => 0,
+            4.. => self.history,
+            k => self.history & ((1u32 << (8 * k)) - 1),
+        }
+    }
+
+    fn learn(&mut self, byte: u8) {
+        let (increment, limit) = (self.params.increment, self.params.limit);
+        for k in 0..self.orders.len() {
+            let key = self.key(k);
+            self.orders[k]
+                .entry(key)
+                .or_default()
+                .add(byte, increment, limit);
+        }
+        self.history = self.history << 8 | u32::from(byte);
+    }
+
+    /// Rebuilds the cumulative table for the current history.
+    fn refresh(&mut self) {
+        // numerators[s] / denominator is the blend; start below order 0.
+        let mut numerators = [1u128; 256];
+        let mut denominator: u128 = 256;
+        for k in 0..self.orders.len() {
+            let Some(ctx) = self.orders[k].get(&self.key(k)) else {
+                continue;
+            };
+            let distinct = ctx.counts.len() as u128;
+            for n in numerators.iter_mut() {
+                *n *= distinct;
+            }
+            for &(b, c) in &ctx.counts {
+                numerators[usize::from(b)] += u128::from(c) * denominator;
+            }
+            denominator *= u128::from(ctx.total) + distinct;
+        }
+        // Scale to a total of at most 2^16 with every byte at least 1.
+        let shift = (128 - denominator.leading_zeros()).saturating_sub(40);
+        let d = (denominator >> shift) as u64;
+        let room = u64::from(MAX_TOTAL) - 256;
+        let mut sum = 0u32;
+        for (s, n) in numerators.iter().enumerate() {
+            self.cum[s] = sum;
+            let share = ((n >> shift) as u64 * room / d) as u32;
+            sum += 1 + share;
+        }
+        self.cum[256] = sum;
+    }
+}
+
+impl Model for ContextModel {
+    fn alphabet_size(&self) -> u32 {
+        256
+    }
+
+    fn total(&self) -> u32 {
+        self.cum[256]
+    }
+
+    fn span(&self, symbol: u32) -> Option<Span> {
+        let s = usize::try_from(symbol).ok().filter(|&s| s < 256)?;
+        Some(Span::new(self.cum[s], self.cum[s + 1] - self.cum[s]))
+    }
+
+    fn locate(&self, target: u32) -> (u32, Span) {
+        // The last entry whose cumulative frequency is <= target.
+        let s = (self.cum[1..256].partition_point(|&c| c <= target)).min(255);
+        (
+            s as u32,
+            Span::new(self.cum[s], self.cum[s + 1] - self.cum[s]),
+        )
+    }
+
+    fn update(&mut self, symbol: u32) {
+        if let Ok(b) = u8::try_from(symbol) {
+            self.learn(b);
+            self.refresh();
+        }
+    }
+}
+
+/// State layout of a [`ContextModel`] (kind 3): `max_order` (one byte),
+/// `increment` and `limit` (LEB128), the history (u32 little-endian); then
+/// per order `0 ..= max_order`: the number of contexts, and per context in
+/// increasing key order its key (the previous bytes, most recent lowest), the
+/// number of successors and each successor's byte (increasing) and count, all
+/// LEB128 but the bytes.
+impl SnapshotState for ContextModel {
+    const KIND: u16 = 3;
+
+    fn write_state(&self, out: &mut Vec<u8>) {
+        out.push(self.params.max_order);
+        write_varint(out, self.params.increment);
+        write_varint(out, self.params.limit);
+        out.extend_from_slice(&self.history.to_le_bytes());
+        for order in &self.orders {
+            write_varint(out, order.len() as u32);
+            for (&key, ctx) in order {
+                write_varint(out, key);
+                write_varint(out, ctx.counts.len() as u32);
+                for &(b, c) in &ctx.counts {
+                    out.push(b);
+                    write_varint(out, u32::from(c));
+                }
+            }
+        }
+    }
+
+    fn read_state(mut state: &[u8]) -> Result<Self> {
+        let input = &mut state;
+        let bad = |reason| Err(snapshot_error(reason));
+        let Some((&max_order, rest)) = input.split_first() else {
+            return bad("context model state is empty");
+        };
+        *input = rest;
+        let params = ContextParams {
+            max_order,
+            increment: read_varint(input)?,
+            limit: read_varint(input)?,
+        };
+        if params.validate().is_err() {
+            return bad("context model state has invalid parameters");
+        }
+        let Some((history, rest)) = input.split_first_chunk::<4>() else {
+            return bad("context model state ends early");
+        };
+        let history = u32::from_le_bytes(*history);
+        *input = rest;
+        let mut orders = Vec::with_capacity(usize::from(max_order) + 1);
+        for k in 0..=u32::from(max_order) {
+            let contexts = read_varint(input)?;
+            // A context takes at least four bytes: bound the loop by the input.
+            if contexts as usize > input.len() / 4 {
+                return bad("context model state declares more contexts than it holds");
+            }
+            let key_end = if k == 0 { 1u64 } else { 1u64 << (8 * k) };
+            let mut order = BTreeMap::new();
+            let mut last_key = None;
+            for _ in 0..contexts {
+                let key = read_varint(input)?;
+                if u64::from(key) >= key_end || last_key.is_some_and(|l| key <= l) {
+                    return bad("context model state has a bad context key");
+                }
+                last_key = Some(key);
+                let n = read_varint(input)? as usize;
+                if n == 0 || n > 256 || n > input.len() / 2 {
+                    return bad("context model state has a bad successor count");
+                }
+                let mut ctx = Successors {
+                    counts: Vec::with_capacity(n),
+                    total: 0,
+                };
+                for _ in 0..n {
+                    let Some((&b, rest)) = input.split_first() else {
+                        return bad("context model state ends early");
+                    };
+                    *input = rest;
+                    let c = read_varint(input)?;
+                    if c == 0 || ctx.counts.last().is_some_and(|&(l, _)| b <= l) {
+                        return bad("context model state has a bad successor");
+                    }
+                    ctx.total = ctx.total.saturating_add(c);
+                    if ctx.total > params.limit {
+                        return bad("context model state has counts above its limit");
+                    }
+                    ctx.counts.push((b, c as u16));
+                }
+                order.insert(key, ctx);
+            }
+            orders.push(order);
+        }
+        if !input.is_empty() {
+            return bad("context model state has trailing bytes");
+        }
+        ContextModel::from_parts(params, history, orders)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::coder::{Decoder, Encoder, IdealCost};
+
+    #[test]
+    fn table_is_valid_and_learns_contexts() {
+        let mut m = ContextModel::new(ContextParams::default()).unwrap();
+        assert_eq!(m.total(), 65_536 - 256 + 256);
+        m.train(&b"abcabcabcabd".repeat(20));
+        let t = m.total();
+        assert!(t <= MAX_TOTAL);
+        let mut seen = 0;
+        for s in 0..256 {
+            let span = m.span(s).unwrap();
+            assert!(span.freq >= 1);
+            assert_eq!(m.locate(span.cum), (s, span));
+            assert_eq!(m.locate(span.cum + span.freq - 1), (s, span));
+            seen += span.freq;
+        }
+        assert_eq!(seen, t);
+        // After "...abd" comes "a": order 3 ("abd") has seen only 'a'.
+        let a = m.span(u32::from(b'a')).unwrap().freq;
+        assert!(a > t / 2, "{a} of {t}");
+    }
+
+    #[test]
+    fn round_trip_with_halving_and_every_order() {
+        let data: Vec<u8> = (0..6000u32)
+            .map(|i| (i * i % 251 % 17) as u8 + b'0')
+            .collect();
+        for max_order in 0..=MAX_CONTEXT_ORDER {
+            let params = ContextParams {
+                max_order,
+                increment: 8,
+                limit: 64,
+            };
+            let mut m = ContextModel::new(params).unwrap();
+            let mut enc = Encoder::new();
+            let mut cost = IdealCost::new();
+            for &b in &data {
+                let span = m.span(b.into()).unwrap();
+                cost.add(span.freq, m.total());
+                enc.encode(&mut m, b.into()).unwrap();
+            }
+            let coded = enc.finish().unwrap();
+            assert!((coded.len() as f64 * 8.0) < cost.bits() + 64.0);
+            let mut m = ContextModel::new(params).unwrap();
+            let mut dec = Decoder::new(&coded).unwrap();
+            for &b in &data {
+                assert_eq!(dec.decode(&mut m).unwrap(), u32::from(b));
+            }
+        }
+    }
+
+    #[test]
+    fn snapshot_round_trip_and_damage() {
+        use crate::model::Snapshot;
+        let mut m = ContextModel::new(ContextParams::default()).unwrap();
+        m.train(&b"12 1714521600\n231 45.60 12.3\n".repeat(40));
+        let snap = Snapshot::capture(&m).unwrap();
+        let back: ContextModel = snap.restore().unwrap();
+        assert_eq!(back, m);
+        // Every strict prefix of the state and every single-byte change
+        // either fails or restores a valid model; none panics.
+        let state = snap.state().to_vec();
+        for cut in 0..state.len() {
+            assert!(
+                ContextModel::read_state(&state[..cut]).is_err(),
+                "cut {cut}"
+            );
+        }
+        for i in 0..state.len() {
+            let mut s = state.clone();
+            s[i] ^= 0x41;
+            if let Ok(m) = ContextModel::read_state(&s) {
+                assert!(m.total() <= MAX_TOTAL);
+            }
+        }
+    }
+
+    #[test]
+    fn bad_parameters_are_refused() {
+        for (max_order, increment, limit) in [
+            (4, 1, 100),
+            (1, 0, 100),
+            (1, 256, 4096),
+            (1, 8, 8),
+            (1, 1, 5000),
+        ] {
+            let p = ContextParams {
+                max_order,
+                increment,
+                limit,
+            };
+            assert!(ContextModel::new(p).is_err(), "{p:?}");
+        }
+    }
+}
