@@ -28,6 +28,8 @@ mod source;
 mod table_lanes;
 #[cfg(target_arch = "x86_64")]
 mod table_simd;
+#[cfg(target_arch = "x86_64")]
+mod table_simd_enc;
 
 pub use cost::{log2_q32, IdealCost};
 pub use decoder::Decoder;
