@@ -72,7 +72,7 @@ impl<S: ByteSource> Decoder<S> {
         Ok(d)
     }
 
-    #[inline]
+    #[inline(always)]
     fn next_byte(&mut self) -> Result<u8> {
         match self.source.take()? {
             Some(b) if self.padded == 0 => Ok(b),
@@ -98,7 +98,7 @@ impl<S: ByteSource> Decoder<S> {
         .into()
     }
 
-    #[inline]
+    #[inline(always)]
     fn check(&self) -> Result<()> {
         if self.code >= self.range {
             return Err(self.corrupt("code value outside the coder interval"));
@@ -113,7 +113,7 @@ impl<S: ByteSource> Decoder<S> {
     /// [`ErrorKind::Truncated`] when the input ends too early;
     /// [`ErrorKind::CorruptStream`] when the input cannot be a coded stream;
     /// [`ErrorKind::InvalidModel`] when the model breaks its contract.
-    #[inline]
+    #[inline(always)]
     pub fn decode<M: Model + ?Sized>(&mut self, model: &mut M) -> Result<u32> {
         let total = model.total();
         if total == 0 || total > MAX_TOTAL {
@@ -153,13 +153,13 @@ impl<S: ByteSource> Decoder<S> {
     /// The target of a step with `total`: which slot of `0 .. total` the
     /// encoder's value lies in. Use with [`consume`](Decoder::consume) to decode
     /// with a frequency table of your own.
-    #[inline]
+    #[inline(always)]
     pub fn target(&self, total: u32) -> u32 {
         let r = self.step_unit(total);
         (self.code / r).min(total - 1)
     }
 
-    #[inline]
+    #[inline(always)]
     fn step_unit(&self, total: u32) -> u32 {
         if total.is_power_of_two() {
             self.range >> total.trailing_zeros()
@@ -175,7 +175,7 @@ impl<S: ByteSource> Decoder<S> {
     ///
     /// [`ErrorKind::InvalidModel`] unless `1 <= freq`, `cum + freq <= total`
     /// and `total <= 2^16`; otherwise as for [`decode`](Decoder::decode).
-    #[inline]
+    #[inline(always)]
     pub fn consume(&mut self, span: Span, total: u32) -> Result<()> {
         if span.freq == 0
             || total > MAX_TOTAL
@@ -192,7 +192,7 @@ impl<S: ByteSource> Decoder<S> {
         self.narrow(span, total)
     }
 
-    #[inline]
+    #[inline(always)]
     fn narrow(&mut self, span: Span, total: u32) -> Result<()> {
         let r = self.step_unit(total);
         let offset = r * span.cum;
@@ -215,7 +215,7 @@ impl<S: ByteSource> Decoder<S> {
     /// # Errors
     ///
     /// As for [`decode`](Decoder::decode).
-    #[inline]
+    #[inline(always)]
     pub fn decode_bit(&mut self, p1: u32) -> Result<bool> {
         let p1 = p1.clamp(1, 65535);
         let bound = (self.range >> 16) * p1;

@@ -126,7 +126,7 @@ impl<S: ByteSink> Encoder<S> {
     /// (outside the alphabet, zero frequency and no escape);
     /// [`ErrorKind::InvalidModel`] when the model breaks its contract;
     /// the sink's error. On error nothing was coded and the model is unchanged.
-    #[inline]
+    #[inline(always)]
     pub fn encode<M: Model + ?Sized>(&mut self, model: &mut M, symbol: u32) -> Result<()> {
         let total = model.total();
         match model.span(symbol) {
@@ -154,7 +154,7 @@ impl<S: ByteSink> Encoder<S> {
     ///
     /// [`ErrorKind::InvalidModel`] unless `1 <= freq`, `cum + freq <= total`
     /// and `total <= 2^16`; the sink's error.
-    #[inline]
+    #[inline(always)]
     pub fn encode_span(&mut self, span: Span, total: u32) -> Result<()> {
         let Span { cum, freq } = span;
         if freq == 0 || total > MAX_TOTAL || cum.checked_add(freq).is_none_or(|end| end > total) {
@@ -207,7 +207,7 @@ impl<S: ByteSink> Encoder<S> {
     /// # Ok(())
     /// # }
     /// ```
-    #[inline]
+    #[inline(always)]
     pub fn encode_bit(&mut self, bit: bool, p1: u32) -> Result<()> {
         let p1 = p1.clamp(1, 65535);
         if let Some(meter) = &mut self.meter {

@@ -81,7 +81,7 @@ impl Store {
         }
     }
 
-    #[inline]
+    #[inline(always)]
     fn total(&self) -> u32 {
         match self {
             Store::Linear { total, .. } => *total,
@@ -96,7 +96,7 @@ impl Store {
         }
     }
 
-    #[inline]
+    #[inline(always)]
     fn freq(&self, i: usize) -> u32 {
         match self {
             Store::Linear { freq, .. } => freq[i],
@@ -104,7 +104,7 @@ impl Store {
         }
     }
 
-    #[inline]
+    #[inline(always)]
     fn span(&self, i: usize) -> Span {
         match self {
             Store::Linear { freq, .. } => Span::new(freq[..i].iter().sum(), freq[i]),
@@ -112,7 +112,7 @@ impl Store {
         }
     }
 
-    #[inline]
+    #[inline(always)]
     fn find(&self, target: u32) -> (usize, Span) {
         match self {
             Store::Linear { freq, .. } => {
@@ -134,7 +134,7 @@ impl Store {
         }
     }
 
-    #[inline]
+    #[inline(always)]
     fn add(&mut self, i: usize, delta: u32) {
         match self {
             Store::Linear { freq, total } => {
@@ -353,17 +353,17 @@ impl AdaptiveModel {
 }
 
 impl Model for AdaptiveModel {
-    #[inline]
+    #[inline(always)]
     fn alphabet_size(&self) -> u32 {
         self.alphabet
     }
 
-    #[inline]
+    #[inline(always)]
     fn total(&self) -> u32 {
         self.store.total()
     }
 
-    #[inline]
+    #[inline(always)]
     fn span(&self, symbol: u32) -> Option<Span> {
         if symbol >= self.alphabet {
             return None;
@@ -372,7 +372,7 @@ impl Model for AdaptiveModel {
         (span.freq > 0).then_some(span)
     }
 
-    #[inline]
+    #[inline(always)]
     fn locate(&self, target: u32) -> (u32, Span) {
         let (i, span) = self.store.find(target);
         if i as u32 == self.alphabet {
@@ -382,7 +382,7 @@ impl Model for AdaptiveModel {
         }
     }
 
-    #[inline]
+    #[inline(always)]
     fn update(&mut self, symbol: u32) {
         if symbol >= self.alphabet {
             return;
@@ -398,7 +398,7 @@ impl Model for AdaptiveModel {
         self.store.add(s, inc);
     }
 
-    #[inline]
+    #[inline(always)]
     fn escape(&self) -> Option<Span> {
         self.escape.then(|| self.store.span(self.alphabet as usize))
     }

@@ -94,7 +94,7 @@ impl FenwickTree {
     /// # Panics
     ///
     /// Panics if `symbol > len()`.
-    #[inline]
+    #[inline(always)]
     pub fn prefix(&self, symbol: usize) -> u32 {
         let mut i = symbol;
         let mut sum = 0;
@@ -110,7 +110,7 @@ impl FenwickTree {
     /// # Panics
     ///
     /// Panics if `symbol >= len()` (or, in debug builds, on overflow).
-    #[inline]
+    #[inline(always)]
     pub fn add(&mut self, symbol: usize, delta: u32) {
         self.freq[symbol] += delta;
         self.total += delta;
@@ -128,7 +128,7 @@ impl FenwickTree {
     ///
     /// For `target >= total()` the result is the last symbol's start (callers
     /// keep `target < total()`).
-    #[inline]
+    #[inline(always)]
     pub fn find(&self, target: u32) -> (usize, u32) {
         let n = self.freq.len();
         let mut pos = 0usize;
