@@ -12,6 +12,9 @@
 //! - `OUTDIR/roundtrip/`: the roundtrip target's eight setup bytes (preset
 //!   index, block size, threads, write pattern, parameters) before demo
 //!   data;
+//! - `OUTDIR/decode_frame/`: model snapshots with frames coded from them
+//!   (and from other snapshots), frames alone, and training samples with
+//!   messages, in that target's three input modes;
 //! - `DICTDIR/decode_container.dict`: the format's magic, version, record
 //!   kinds, preset ids and parameter values, and whole headers and end
 //!   records as this release writes them, so the fuzzer starts from the
@@ -254,6 +257,44 @@ fn decode_container_dict() -> Result<String, Box<dyn Error>> {
     Ok(d)
 }
 
+/// Seeds for the primed-message target: byte 0 is the input mode (see
+/// `tests/fuzz_support/decode_frame.rs`).
+fn decode_frame_seeds(root: &Path) -> Result<(), Box<dyn Error>> {
+    use subrange::model::{AdaptiveModel, ContextModel, ContextParams, Model, Snapshot};
+    use subrange::prime::encode_message;
+
+    let mut seeds = Seeds::new(root, "decode_frame")?;
+    let text = subrange::corpus::gauge_csv(7, 3000);
+    let (sample, messages) = text.split_at(2400);
+    let mut context = ContextModel::new(ContextParams::default())?;
+    context.train(sample);
+    let mut adaptive = AdaptiveModel::new(256)?;
+    for &b in sample {
+        adaptive.update(b.into());
+    }
+    let snapshots = [Snapshot::capture(&context)?, Snapshot::capture(&adaptive)?];
+    for (k, snapshot) in snapshots.iter().enumerate() {
+        for (i, message) in messages.chunks(150).take(3).enumerate() {
+            let frame = encode_message(snapshot, message)?;
+            let bytes = snapshot.as_bytes();
+            let mut seed = vec![0u8];
+            seed.extend_from_slice(&(bytes.len() as u16).to_le_bytes());
+            seed.extend_from_slice(bytes);
+            seed.extend_from_slice(&frame);
+            seeds.put(&format!("snapshot{k}-frame{i}"), &seed)?;
+            let mut alone = vec![1u8];
+            alone.extend_from_slice(&frame);
+            seeds.put(&format!("frame{k}-{i}"), &alone)?;
+        }
+    }
+    for (i, pick) in [0u8, 1, 6, 0x2C, 0xC6].into_iter().enumerate() {
+        let mut seed = vec![2u8, pick];
+        seed.extend_from_slice(&text[..300 + 100 * i]);
+        seeds.put(&format!("train-{i}"), &seed)?;
+    }
+    Ok(())
+}
+
 fn main() -> Result<(), Box<dyn Error>> {
     let mut args = std::env::args_os().skip(1);
     let Some(out) = args.next() else {
@@ -263,6 +304,7 @@ fn main() -> Result<(), Box<dyn Error>> {
     let out = PathBuf::from(out);
     decode_container_seeds(&out)?;
     roundtrip_seeds(&out)?;
+    decode_frame_seeds(&out)?;
     if let Some(dicts) = args.next() {
         let dicts = PathBuf::from(dicts);
         fs::create_dir_all(&dicts)?;

@@ -109,6 +109,40 @@ fn checks_hold_on_real_and_damaged_containers() {
     }
 }
 
+/// The primed-message checks on inputs made here: a real snapshot with a
+/// frame, then cut and damaged copies, frames alone, and training round
+/// trips with several parameter picks.
+#[test]
+fn frame_checks_hold_on_real_and_damaged_snapshots() {
+    use subrange::model::{ContextModel, ContextParams, Snapshot};
+    use subrange::prime::encode_message;
+    let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    let text = subrange::corpus::gauge_csv(9, 2000);
+    let mut model = ContextModel::new(ContextParams::default()).unwrap();
+    model.train(&text[..1500]);
+    let snapshot = Snapshot::capture(&model).unwrap();
+    let frame = encode_message(&snapshot, &text[1500..1700]).unwrap();
+    let mut input = vec![0u8];
+    input.extend_from_slice(&(snapshot.as_bytes().len() as u16).to_le_bytes());
+    input.extend_from_slice(snapshot.as_bytes());
+    input.extend_from_slice(&frame);
+    fuzz_support::decode_frame::check(&input);
+    for at in (0..input.len()).step_by(13) {
+        let mut bad = input.clone();
+        bad[at] ^= 0x11;
+        fuzz_support::decode_frame::check(&bad);
+        fuzz_support::decode_frame::check(&input[..at]);
+    }
+    let mut alone = vec![1u8];
+    alone.extend_from_slice(&frame);
+    fuzz_support::decode_frame::check(&alone);
+    for pick in [0u8, 1, 6, 0x2C, 0xC6, 0xFF] {
+        let mut train = vec![2u8, pick];
+        train.extend_from_slice(&text[..800]);
+        fuzz_support::decode_frame::check(&train);
+    }
+}
+
 /// Containers of four 256 KiB blocks whose payloads grow from block to
 /// block (random bytes, then zeros), the last one stored.
 fn growing_payloads(preset: subrange::preset::Preset) -> Vec<u8> {

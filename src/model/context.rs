@@ -247,19 +247,30 @@ impl ContextModel {
 
     /// Rebuilds the cumulative table for the current history.
     fn refresh(&mut self) {
-        // numerators[s] / denominator is the blend; start below order 0.
-        let mut numerators = [1u128; 256];
+        // The blend of byte s is (base + extra[s]) / denominator: `base` is
+        // the share every byte gets through the escapes (uniform below order
+        // 0), `extra` what the contexts' counts add. Only bytes some context
+        // has seen get an `extra`, so the wide arithmetic runs over those.
+        let mut extra = [0u128; 256];
+        let mut seen = [false; 256];
+        let mut touched: Vec<u8> = Vec::new();
+        let mut base: u128 = 1;
         let mut denominator: u128 = 256;
         for k in 0..self.orders.len() {
             let Some(ctx) = self.orders[k].get(&self.key(k)) else {
                 continue;
             };
             let distinct = ctx.counts.len() as u128;
-            for n in numerators.iter_mut() {
-                *n *= distinct;
+            base *= distinct;
+            for &b in &touched {
+                extra[usize::from(b)] *= distinct;
             }
             for &(b, c) in &ctx.counts {
-                numerators[usize::from(b)] += u128::from(c) * denominator;
+                if !seen[usize::from(b)] {
+                    seen[usize::from(b)] = true;
+                    touched.push(b);
+                }
+                extra[usize::from(b)] += u128::from(c) * denominator;
             }
             denominator *= u128::from(ctx.total) + distinct;
         }
@@ -267,11 +278,16 @@ impl ContextModel {
         let shift = (128 - denominator.leading_zeros()).saturating_sub(40);
         let d = (denominator >> shift) as u64;
         let room = u64::from(MAX_TOTAL) - 256;
+        let share = |n: u128| ((n >> shift) as u64 * room / d) as u32;
+        let common = 1 + share(base);
         let mut sum = 0u32;
-        for (s, n) in numerators.iter().enumerate() {
+        for s in 0..256 {
             self.cum[s] = sum;
-            let share = ((n >> shift) as u64 * room / d) as u32;
-            sum += 1 + share;
+            sum += if seen[s] {
+                1 + share(base + extra[s])
+            } else {
+                common
+            };
         }
         self.cum[256] = sum;
     }
