@@ -10,12 +10,21 @@
 //! learn what the input's confidence really means in each context — for
 //! instance that a model which claims 99 % is right only 95 % of the time.
 //!
+//! The engines' second stages have many contexts (65,536) of which a short
+//! block visits few, so [`Apm::grouped`] gives curves in groups of `2^k`
+//! contexts on first use (see [`GroupMap`]), each set to the identity
+//! then: a short block pays for the curves it visits, not for all of them.
+//! A context not seen before reads as the identity either way, so the
+//! refined probabilities are the same as with a fully built table.
+//!
 //! Invariant: every point stays in `0 ..= 65535` (a shift step never
 //! overshoots), and outputs are clamped to `1 ..= 65535`.
 
+use crate::error::{ErrorKind, Result};
+use alloc::vec;
 use alloc::vec::Vec;
 
-use crate::error::{ErrorKind, Result};
+use crate::model::cm::arena::GroupMap;
 use crate::model::logistic::{squash, stretch};
 
 /// Points per context curve.
@@ -42,12 +51,24 @@ const POINTS: usize = 33;
 /// ```
 #[derive(Debug, Clone)]
 pub struct Apm {
+    /// Curves, in groups of `2^group_log2` contexts.
     table: Vec<u16>,
+    /// Where each group's curves are in `table`.
+    groups: GroupMap,
+    /// The identity curve (the starting value of every curve).
+    identity: [u16; POINTS],
     contexts: usize,
+    /// Contexts `c` share the group `c >> group_log2`.
+    group_log2: u32,
+    /// Every group is allocated: context `c`'s curve starts at `c * POINTS`.
+    whole: bool,
     index: usize,
     weight: u32,
     rate: u8,
 }
+
+/// Contexts per group of an ungrouped APM (all of them, at most 2^24).
+const WHOLE: u32 = 24;
 
 impl Apm {
     /// Largest number of contexts.
@@ -60,6 +81,47 @@ impl Apm {
     /// [`ErrorKind::InvalidParameter`] unless `1 <= contexts <= 2^24` and
     /// `1 <= rate <= 15`.
     pub fn new(contexts: usize, rate: u8) -> Result<Self> {
+        Self::build(contexts, rate, WHOLE, 1)
+    }
+
+    /// An APM whose curves come in groups of `2^group_log2` contexts, given
+    /// on first use from room for `max_groups` groups (see the module
+    /// documentation). Refining in more than `max_groups` groups makes the
+    /// later ones share the last group.
+    ///
+    /// # Errors
+    ///
+    /// As for [`new`](Apm::new).
+    pub(crate) fn grouped(
+        contexts: usize,
+        rate: u8,
+        group_log2: u32,
+        max_groups: usize,
+    ) -> Result<Self> {
+        Self::build(contexts, rate, group_log2.min(WHOLE), max_groups)
+    }
+
+    /// Bytes [`grouped`](Apm::grouped) allocates for the same arguments.
+    pub(crate) fn memory_needed_grouped(
+        contexts: usize,
+        group_log2: u32,
+        max_groups: usize,
+    ) -> u64 {
+        let (keys, group) = Self::shape(contexts, group_log2.min(WHOLE));
+        GroupMap::memory_needed(keys, group, 2, max_groups)
+    }
+
+    /// Groups and entries per group for `contexts` in groups of `2^group_log2`.
+    fn shape(contexts: usize, group_log2: u32) -> (usize, usize) {
+        let per = 1usize << group_log2;
+        if group_log2 == WHOLE {
+            (1, contexts * POINTS)
+        } else {
+            (contexts.div_ceil(per), per * POINTS)
+        }
+    }
+
+    fn build(contexts: usize, rate: u8, group_log2: u32, max_groups: usize) -> Result<Self> {
         if contexts == 0 || contexts > Self::MAX_CONTEXTS {
             return Err(ErrorKind::InvalidParameter {
                 name: "contexts",
@@ -74,15 +136,23 @@ impl Apm {
             }
             .into());
         }
-        let curve: [u16; POINTS] =
+        let identity: [u16; POINTS] =
             core::array::from_fn(|j| squash((j as i32 - 16) * 128).min(65535) as u16);
-        let mut table = Vec::with_capacity(contexts * POINTS);
-        for _ in 0..contexts {
-            table.extend_from_slice(&curve);
+        let (keys, group) = Self::shape(contexts, group_log2);
+        let groups = GroupMap::new(keys, group, 2, max_groups);
+        let mut table = vec![0; groups.table_len()];
+        if groups.is_whole() {
+            for curve in table.chunks_exact_mut(POINTS) {
+                curve.copy_from_slice(&identity);
+            }
         }
         Ok(Apm {
+            whole: groups.is_whole(),
             table,
+            groups,
+            identity,
             contexts,
+            group_log2,
             index: 0,
             weight: 0,
             rate,
@@ -91,7 +161,7 @@ impl Apm {
 
     /// Bytes of memory an APM with `contexts` curves takes.
     pub fn memory_needed(contexts: usize) -> u64 {
-        2 * POINTS as u64 * contexts as u64
+        Self::memory_needed_grouped(contexts, WHOLE, 1)
     }
 
     /// The refined probability (16-bit) of `p16` in `context` (contexts past
@@ -100,14 +170,34 @@ impl Apm {
     #[inline]
     pub fn refine(&mut self, p16: u32, context: usize) -> u32 {
         let s = (stretch(p16) + 2048) as u32; // 1 ..= 4095
-        let lo = (s >> 7) as usize;
+        let lo = ((s >> 7) as usize).min(POINTS - 2);
         let w = s & 127;
-        let base = context.min(self.contexts - 1) * POINTS + lo;
+        let c = context.min(self.contexts - 1);
+        let base = if self.whole {
+            c * POINTS
+        } else {
+            self.grouped_base(c)
+        } + lo;
         let a = u32::from(self.table[base]);
         let b = u32::from(self.table[base + 1]);
         self.index = base;
         self.weight = w;
         ((a * (128 - w) + b * w) >> 7).clamp(1, 65535)
+    }
+
+    /// Where context `c`'s curve starts when curves are given on first use
+    /// (kept out of line: the common, fully allocated case stays small).
+    #[inline(never)]
+    fn grouped_base(&mut self, c: usize) -> usize {
+        let inner = c & ((1 << self.group_log2) - 1);
+        let (group, fresh) = self.groups.base_fresh(c >> self.group_log2);
+        if fresh {
+            let len = POINTS << self.group_log2;
+            for curve in self.table[group..group + len].chunks_exact_mut(POINTS) {
+                curve.copy_from_slice(&self.identity);
+            }
+        }
+        group + inner * POINTS
     }
 
     /// Learns the coded bit at the two points the last `refine` used.
@@ -134,6 +224,26 @@ mod tests {
             let q = apm.refine(p, 3);
             assert!(q.abs_diff(p) < p.min(65536 - p) / 8 + 64, "p={p} q={q}");
         }
+    }
+
+    #[test]
+    fn grouped_curves_refine_as_a_full_table() {
+        for (group_log2, max_groups) in [(0, 300), (4, 200), (0, 60_000)] {
+            let mut full = Apm::new(1 << 16, 7).unwrap();
+            let mut lazy = Apm::grouped(1 << 16, 7, group_log2, max_groups).unwrap();
+            let mut state = 7u32;
+            for i in 0..4000u32 {
+                // Numerical Recipes constants (common practice).
+                state = state.wrapping_mul(1_664_525).wrapping_add(1_013_904_223);
+                let ctx = ((state >> 8) % 200) as usize * 97 % (1 << 16);
+                let p = 1 + (state >> 16) % 65535;
+                assert_eq!(full.refine(p, ctx), lazy.refine(p, ctx), "{i}");
+                let bit = state & 1 == 1;
+                full.update(bit);
+                lazy.update(bit);
+            }
+        }
+        assert!(Apm::memory_needed_grouped(1 << 16, 0, 100) < Apm::memory_needed(1 << 16) / 100);
     }
 
     #[test]

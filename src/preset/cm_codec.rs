@@ -112,12 +112,18 @@ fn copy_exact(back: &[u8], out: &mut [u8]) -> Result<()> {
 /// tables (its own accounting) and the block it decodes into before the copy
 /// into the caller's buffer.
 pub(crate) fn order2_memory(params: &[u32], block_size: u64) -> u64 {
-    order2_params(params).map_or(u64::MAX, |p| p.memory_needed().saturating_add(block_size))
+    order2_params(params).map_or(u64::MAX, |p| {
+        let len = usize::try_from(block_size).unwrap_or(usize::MAX);
+        p.memory_needed_for(len).saturating_add(block_size)
+    })
 }
 
 /// Working memory for `mix`, as for [`order2_memory`].
 pub(crate) fn mix_memory(params: &[u32], block_size: u64) -> u64 {
-    mix_params(params).map_or(u64::MAX, |p| p.memory_needed().saturating_add(block_size))
+    mix_params(params).map_or(u64::MAX, |p| {
+        let len = usize::try_from(block_size).unwrap_or(usize::MAX);
+        p.memory_needed_for(len).saturating_add(block_size)
+    })
 }
 
 #[cfg(test)]

@@ -1,7 +1,7 @@
 //! The fast engine: order-2 contexts that inherit from order 1.
 //!
 //! Each byte is coded bit by bit through the nibble trees of its order-2
-//! context (the two previous bytes, 65,536 of them). A direct table holds 17
+//! context (the two previous bytes, 65,536 of them). A context table holds 17
 //! groups of 16 packed [counters](crate::model::CountingPredictor) per
 //! context: group 0 for the high nibble's 15 tree nodes, group `1 + h` for the
 //! low nibble after high nibble `h`. A group is one 64-byte cache line, so a
@@ -17,18 +17,23 @@
 //! for: what follows a byte in a context not seen before.
 //!
 //! Tables are stored as `counter ^ COUNTER_INIT`, so they start as zeroed
-//! memory: the allocator can hand out untouched pages lazily and a short
-//! input does not pay for initialising 70 MB.
+//! memory, and their context groups come from a [`GroupArena`]: a context
+//! gets its 272 counters when the block first visits it, from a table sized
+//! to the block (a block of `n` bytes visits at most `n` contexts). A short
+//! block then allocates a few KiB instead of the 70 MB a direct table of all
+//! 65,536 contexts takes, and a long one touches fewer pages, because the
+//! contexts it visits lie side by side; the predictions are those of a
+//! direct table.
 //!
 //! Invariants: table indices stay inside the context's 272 entries (node
 //! indices are `1 ..= 15`); encoder and decoder run the same `predict` /
 //! `update` sequence, so they agree on every probability.
 
-use alloc::vec;
 use alloc::vec::Vec;
 
 use crate::coder::{Decoder, Encoder, IdealCost};
 use crate::error::Result;
+use crate::model::cm::arena::GroupArena;
 use crate::model::cm::io::BitIo;
 use crate::model::cm::params::{Order2Params, NODES_PER_CONTEXT};
 use crate::model::counter::{counter_n, counter_p16, counter_update, COUNTER_INIT};
@@ -43,8 +48,8 @@ pub(crate) fn update_stored(stored: &mut u32, bit: bool, limit: u32) {
 }
 
 struct FastModel {
-    t2: Vec<u32>,
-    t1: Vec<u32>,
+    t2: GroupArena<u32>,
+    t1: GroupArena<u32>,
     order1: bool,
     limit: u32,
     c1: usize,
@@ -52,14 +57,17 @@ struct FastModel {
 }
 
 impl FastModel {
-    fn new(params: &Order2Params) -> Result<Self> {
+    /// A model for a block of `len` bytes: its tables hold at most `len`
+    /// contexts (see [`Order2Params::memory_needed_for`]).
+    fn new(params: &Order2Params, len: usize) -> Result<Self> {
         params.validate()?;
+        let (t2_groups, t1_groups) = Order2Params::groups_for(len);
         Ok(FastModel {
-            t2: vec![0; 65536 * NODES_PER_CONTEXT],
+            t2: GroupArena::new(65536, NODES_PER_CONTEXT, t2_groups),
             t1: if params.order1 {
-                vec![0; 256 * NODES_PER_CONTEXT]
+                GroupArena::new(256, NODES_PER_CONTEXT, t1_groups)
             } else {
-                Vec::new()
+                GroupArena::new(0, 0, 0)
             },
             order1: params.order1,
             limit: u32::from(params.limit),
@@ -75,23 +83,23 @@ impl FastModel {
         for k in (0..4).rev() {
             let bit = (value >> k) & 1 == 1;
             let i2 = g2 + node;
-            let mut c = self.t2[i2] ^ COUNTER_INIT;
+            let mut c = self.t2.table()[i2] ^ COUNTER_INIT;
             if self.order1 && counter_n(c) == 0 {
                 // A new order-2 node starts from what order 1 knows about
                 // new contexts, with a count of zero (the prior is not counted).
                 let i1 = g1 + node;
-                let c1 = self.t1[i1] ^ COUNTER_INIT;
+                let c1 = self.t1.table()[i1] ^ COUNTER_INIT;
                 let bit = io.code(bit, counter_p16(c1).clamp(1, 65535))?;
                 c = c1 & !1023;
                 counter_update(&mut c, bit, self.limit);
-                self.t2[i2] = c ^ COUNTER_INIT;
-                update_stored(&mut self.t1[i1], bit, self.limit);
+                self.t2.table_mut()[i2] = c ^ COUNTER_INIT;
+                update_stored(&mut self.t1.table_mut()[i1], bit, self.limit);
                 node = 2 * node + usize::from(bit);
                 continue;
             }
             let bit = io.code(bit, counter_p16(c).clamp(1, 65535))?;
             counter_update(&mut c, bit, self.limit);
-            self.t2[i2] = c ^ COUNTER_INIT;
+            self.t2.table_mut()[i2] = c ^ COUNTER_INIT;
             node = 2 * node + usize::from(bit);
         }
         Ok(node as u32 - 16)
@@ -99,8 +107,12 @@ impl FastModel {
 
     #[inline(always)]
     fn byte<I: BitIo>(&mut self, io: &mut I, byte: u8) -> Result<u8> {
-        let b2 = ((self.c2 << 8) | self.c1) * NODES_PER_CONTEXT;
-        let b1 = self.c1 * NODES_PER_CONTEXT;
+        let b2 = self.t2.base((self.c2 << 8) | self.c1);
+        let b1 = if self.order1 {
+            self.t1.base(self.c1)
+        } else {
+            0
+        };
         let high = self.nibble(io, b2, b1, u32::from(byte >> 4))?;
         let group = 16 * (1 + high as usize);
         let low = self.nibble(io, b2 + group, b1 + group, u32::from(byte & 15))?;
@@ -115,7 +127,7 @@ impl FastModel {
 ///
 /// The output is a bare range-coded stream; the decoder needs the length of
 /// `data` and the same parameters. It needs
-/// [`Order2Params::memory_needed`] bytes of tables.
+/// [`Order2Params::memory_needed_for`]`(data.len())` bytes of tables.
 ///
 /// # Errors
 ///
@@ -153,7 +165,7 @@ pub fn ideal_cost_order2(data: &[u8], params: &Order2Params) -> Result<IdealCost
 }
 
 fn order2_encoder(data: &[u8], params: &Order2Params, meter: bool) -> Result<Encoder> {
-    let mut model = FastModel::new(params)?;
+    let mut model = FastModel::new(params, data.len())?;
     let mut enc = Encoder::with_sink(Vec::with_capacity(data.len() / 2 + 16));
     if meter {
         enc.enable_cost_meter();
@@ -168,7 +180,7 @@ fn order2_encoder(data: &[u8], params: &Order2Params, meter: bool) -> Result<Enc
 /// parameters.
 ///
 /// Allocates `raw_len` bytes for the output and
-/// [`Order2Params::memory_needed`] bytes of tables, nothing that depends on
+/// [`Order2Params::memory_needed_for`]`(raw_len)` bytes of tables, nothing that depends on
 /// `coded`; the caller bounds both. Damaged input gives an error or wrong
 /// bytes (a container's checksum catches those), never a panic.
 ///
@@ -180,7 +192,7 @@ fn order2_encoder(data: &[u8], params: &Order2Params, meter: bool) -> Result<Enc
 /// [`ErrorKind::TrailingBytes`](crate::ErrorKind::TrailingBytes) when
 /// `coded` is not exactly a stream of `raw_len` bytes.
 pub fn decode_order2(coded: &[u8], raw_len: usize, params: &Order2Params) -> Result<Vec<u8>> {
-    let mut model = FastModel::new(params)?;
+    let mut model = FastModel::new(params, raw_len)?;
     let mut dec = Decoder::new(coded)?;
     let mut out = Vec::with_capacity(raw_len);
     for _ in 0..raw_len {
@@ -193,6 +205,32 @@ pub fn decode_order2(coded: &[u8], raw_len: usize, params: &Order2Params) -> Res
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Codes `data` with tables sized for a block of `room` bytes.
+    fn encode_with_room(data: &[u8], params: &Order2Params, room: usize) -> Vec<u8> {
+        let mut model = FastModel::new(params, room).unwrap();
+        let mut enc = Encoder::with_sink(Vec::new());
+        for &byte in data {
+            model.byte(&mut enc, byte).unwrap();
+        }
+        enc.finish().unwrap()
+    }
+
+    #[test]
+    fn tables_sized_to_the_block_code_as_the_direct_table() {
+        // Hashed, indexed and direct layouts of the context groups.
+        for len in [40, 3000, 20_000] {
+            let data: Vec<u8> = (0..len as u32).map(|i| (i * i / 7 % 251) as u8).collect();
+            for order1 in [true, false] {
+                let p = Order2Params {
+                    order1,
+                    ..Default::default()
+                };
+                let small = encode_order2(&data, &p).unwrap();
+                assert_eq!(small, encode_with_room(&data, &p, 1 << 20), "{len}");
+            }
+        }
+    }
 
     #[test]
     fn round_trip_without_order1() {

@@ -14,9 +14,12 @@
 //! Both outputs are bare coded streams: a container records the raw length
 //! and the parameters ([`Order2Params::to_bytes`], [`MixParams::to_bytes`])
 //! and passes them back to the decoder. Before decoding, a container
-//! compares the parameters' [`memory_needed`](MixParams::memory_needed) with
-//! its limit ([`check_memory`]); the decoders then allocate exactly the
-//! tables and `raw_len` bytes of output, whatever the coded bytes say.
+//! compares the parameters' need for its block size
+//! ([`memory_needed_for`](MixParams::memory_needed_for)) with its limit
+//! ([`check_memory`]); the decoders then allocate exactly the tables for
+//! `raw_len` bytes and the output, whatever the coded bytes say. Tables hold
+//! only the contexts a block of that length can visit, so short blocks are
+//! cheap.
 //!
 //! Everything is integer arithmetic: the same input and parameters give the
 //! same bytes on every platform.
@@ -40,6 +43,7 @@
 //! # }
 //! ```
 
+pub(crate) mod arena;
 mod fast;
 mod io;
 mod params;

@@ -4,15 +4,21 @@
 //! can record them in a few bytes ([`Order2Params::to_bytes`],
 //! [`MixParams::to_bytes`]) and rebuild them with validation
 //! (`from_bytes`). Each parameter set also states exactly how much memory its
-//! engine allocates ([`Order2Params::memory_needed`],
-//! [`MixParams::memory_needed`]), so a decoder can refuse a stream before
+//! engine allocates ([`Order2Params::memory_needed_for`],
+//! [`MixParams::memory_needed_for`]), so a decoder can refuse a stream before
 //! allocating anything.
 //!
-//! Invariant: a value that passed `validate` builds an engine whose
-//! allocations are exactly `memory_needed` bytes of tables (plus the output).
+//! Tables hold only what a block can visit, so the need depends on the
+//! block's length: `memory_needed_for(len)`, which never decreases as `len`
+//! grows; `memory_needed()` is its largest value, for blocks of any length.
+//!
+//! Invariant: a value that passed `validate` builds, for a block of `len`
+//! bytes, an engine whose allocations are exactly `memory_needed_for(len)`
+//! bytes of tables (plus the output).
 
 use crate::error::{ErrorKind, Result};
 use crate::model::apm::Apm;
+use crate::model::cm::arena::{groups_for, GroupArena};
 use crate::model::hashed::SlotTable;
 use crate::model::matcher::MatchModel;
 use crate::model::mix::Mixer;
@@ -73,14 +79,45 @@ impl Order2Params {
         Ok(())
     }
 
-    /// Bytes of tables the engine allocates with these parameters.
+    /// Bytes of tables the engine allocates for a block of any length: the
+    /// largest [`memory_needed_for`](Order2Params::memory_needed_for).
     pub fn memory_needed(&self) -> u64 {
-        let per_context = 4 * NODES_PER_CONTEXT as u64;
-        let mut total = 65536 * per_context;
+        self.memory_needed_for(usize::MAX)
+    }
+
+    /// Bytes of tables the engine allocates for a block of `len` bytes.
+    ///
+    /// A block of `len` bytes visits at most `len` order-2 and `len` order-1
+    /// contexts, so the tables hold no more (see the engine's documentation):
+    /// about 1 KiB per byte for short blocks, about 70 MB from 64 KiB on.
+    /// The value never decreases as `len` grows, so a container can bound
+    /// every block by its block size.
+    ///
+    /// # Example
+    ///
+    /// ```
+    /// use subrange::model::cm::Order2Params;
+    ///
+    /// let p = Order2Params::default();
+    /// assert!(p.memory_needed_for(300) < 1 << 20);
+    /// assert!(p.memory_needed_for(300) <= p.memory_needed_for(301));
+    /// assert_eq!(p.memory_needed_for(1 << 20), p.memory_needed());
+    /// ```
+    pub fn memory_needed_for(&self, len: usize) -> u64 {
+        let (t2, t1) = Self::groups_for(len);
+        let mut total = GroupArena::<u32>::memory_needed(65536, NODES_PER_CONTEXT, t2);
         if self.order1 {
-            total += 256 * per_context;
+            total += GroupArena::<u32>::memory_needed(256, NODES_PER_CONTEXT, t1);
+        } else {
+            total += GroupArena::<u32>::memory_needed(0, 0, 0);
         }
         total
+    }
+
+    /// Context groups of the order-2 and order-1 tables for a block of `len`
+    /// bytes (one context of each order per byte).
+    pub(crate) fn groups_for(len: usize) -> (usize, usize) {
+        (groups_for(len, 65536), groups_for(len, 256))
     }
 
     /// The parameters as three bytes: flags (bit 0: `order1`) and `limit`
@@ -171,6 +208,19 @@ impl MixParams {
     /// APM contexts of the second refinement stage (order 1 and partial byte).
     pub(crate) const APM2_CONTEXTS: usize = 1 << 16;
 
+    /// The second stage's curves come in groups of 16 contexts (the partial
+    /// bytes `16 k ..= 16 k + 15` after one previous byte).
+    pub(crate) const APM2_GROUP_LOG2: u32 = 0;
+
+    /// Groups of the second stage a block of `len` bytes can visit: the
+    /// partial bytes of one byte fall in five groups (`1 ..= 15`, `16 ..= 31`,
+    /// one of `32 ..= 63`, of `64 ..= 127` and of `128 ..= 255`).
+    pub(crate) fn apm2_groups_for(len: usize) -> usize {
+        let k = Self::APM2_GROUP_LOG2 as usize;
+        len.saturating_mul(8 - k + usize::from(k > 0))
+            .min(Self::APM2_CONTEXTS >> Self::APM2_GROUP_LOG2)
+    }
+
     /// Checks every field against its documented range.
     ///
     /// # Errors
@@ -233,21 +283,54 @@ impl MixParams {
     /// Log2 of the match model's entries for a block of `len` bytes: no more
     /// entries than twice the block has positions, at least 2^10.
     pub(crate) fn match_bits_for(&self, len: usize) -> u32 {
-        let positions = (len as u64).max(1 << 9).next_power_of_two();
-        (positions.trailing_zeros() + 1).min(self.match_bits())
+        let positions = (len as u64)
+            .max(1 << 9)
+            .checked_next_power_of_two()
+            .map_or(64, u64::trailing_zeros);
+        (positions + 1).min(self.match_bits())
     }
 
-    /// Bytes of tables the engine allocates with these parameters.
+    /// Bytes of tables the engine allocates for a block of any length: the
+    /// largest [`memory_needed_for`](MixParams::memory_needed_for).
     pub fn memory_needed(&self) -> u64 {
-        let mut total = SlotTable::memory_needed(self.table_bytes())
+        self.memory_needed_for(usize::MAX)
+    }
+
+    /// Bytes of tables the engine allocates for a block of `len` bytes.
+    ///
+    /// The hashed context tables and the match model are sized to the
+    /// block; the order-1 table and the second refinement stage hold only
+    /// the contexts a block of `len` bytes can visit. The value never
+    /// decreases as `len` grows, so a container can bound every block by its
+    /// block size.
+    ///
+    /// # Example
+    ///
+    /// ```
+    /// use subrange::model::cm::MixParams;
+    ///
+    /// let p = MixParams::default();
+    /// assert!(p.memory_needed_for(300) < 1 << 20);
+    /// assert!(p.memory_needed_for(300) <= p.memory_needed_for(301));
+    /// assert_eq!(p.memory_needed_for(64 << 20), p.memory_needed());
+    /// ```
+    pub fn memory_needed_for(&self, len: usize) -> u64 {
+        let order1_keys = if self.orders & 1 == 1 { 256 } else { 0 };
+        let mut total = SlotTable::memory_needed(self.table_bytes_for(len))
             + Mixer::memory_needed(self.inputs(), Self::SETS)
             + Apm::memory_needed(256)
-            + Apm::memory_needed(Self::APM2_CONTEXTS);
-        if self.orders & 1 == 1 {
-            total += 256 * 4 * NODES_PER_CONTEXT as u64;
-        }
+            + Apm::memory_needed_grouped(
+                Self::APM2_CONTEXTS,
+                Self::APM2_GROUP_LOG2,
+                Self::apm2_groups_for(len),
+            )
+            + GroupArena::<u32>::memory_needed(
+                order1_keys,
+                NODES_PER_CONTEXT,
+                groups_for(len, 256),
+            );
         if self.matcher {
-            total += MatchModel::memory_needed(self.match_bits());
+            total += MatchModel::memory_needed(self.match_bits_for(len));
         }
         total
     }

@@ -28,12 +28,12 @@
 //! evolves identically; all indices are derived from masked hashes or
 //! bounded node numbers, so no input can index out of range.
 
-use alloc::vec;
 use alloc::vec::Vec;
 
 use crate::coder::{Decoder, Encoder, IdealCost};
 use crate::error::Result;
 use crate::model::apm::Apm;
+use crate::model::cm::arena::{groups_for, GroupArena};
 use crate::model::cm::fast::update_stored;
 use crate::model::cm::io::BitIo;
 use crate::model::cm::params::{MixParams, NODES_PER_CONTEXT};
@@ -60,7 +60,7 @@ const TAG_COLUMN: u64 = 0x101;
 
 struct MixModel {
     slots: SlotTable,
-    order1: Vec<u32>,
+    order1: GroupArena<u32>,
     use_order1: bool,
     orders: Vec<u8>,
     word: Option<WordContext>,
@@ -84,7 +84,7 @@ struct MixModel {
 
 impl MixModel {
     /// A model for a block of `len` bytes (tables sized to the block, see
-    /// [`MixParams::table_bytes_for`]).
+    /// [`MixParams::memory_needed_for`]).
     fn new(params: &MixParams, len: usize) -> Result<Self> {
         params.validate()?;
         let orders = (2..=6u8)
@@ -93,11 +93,11 @@ impl MixModel {
         let use_order1 = params.orders & 1 != 0;
         let mut m = MixModel {
             slots: SlotTable::new(params.table_bytes_for(len)),
-            order1: if use_order1 {
-                vec![0; 256 * NODES_PER_CONTEXT]
-            } else {
-                Vec::new()
-            },
+            order1: GroupArena::new(
+                if use_order1 { 256 } else { 0 },
+                NODES_PER_CONTEXT,
+                groups_for(len, 256),
+            ),
             use_order1,
             orders,
             word: params.word.then(WordContext::default),
@@ -110,7 +110,12 @@ impl MixModel {
             bases: [0; MAX_HASHED],
             mixer: Mixer::new(params.inputs(), MixParams::SETS, u32::from(params.rate))?,
             apm1: Apm::new(256, 7)?,
-            apm2: Apm::new(MixParams::APM2_CONTEXTS, 7)?,
+            apm2: Apm::grouped(
+                MixParams::APM2_CONTEXTS,
+                7,
+                MixParams::APM2_GROUP_LOG2,
+                MixParams::apm2_groups_for(len),
+            )?,
             gain: 1 << 16,
             gain_st: 0,
             p: 32768,
@@ -187,7 +192,7 @@ impl MixModel {
             self.mixer.add(stretch(counter_p16(words[base + node])));
         }
         if self.use_order1 {
-            let c = self.order1[g1 + node] ^ COUNTER_INIT;
+            let c = self.order1.table()[g1 + node] ^ COUNTER_INIT;
             self.mixer.add(stretch(counter_p16(c)));
         }
         let mut state = 0;
@@ -220,7 +225,7 @@ impl MixModel {
             counter_update(&mut words[base + node], bit, HASHED_LIMIT);
         }
         if self.use_order1 {
-            update_stored(&mut self.order1[g1 + node], bit, ORDER1_LIMIT);
+            update_stored(&mut self.order1.table_mut()[g1 + node], bit, ORDER1_LIMIT);
         }
         if let Some(m) = &mut self.matcher {
             m.update_bit(bit);
@@ -231,7 +236,11 @@ impl MixModel {
     #[inline]
     fn code_byte<I: BitIo>(&mut self, io: &mut I, byte: u8) -> Result<u8> {
         let mut c0 = 1usize;
-        let mut g1 = (self.c8 & 0xFF) as usize * NODES_PER_CONTEXT;
+        let mut g1 = if self.use_order1 {
+            self.order1.base((self.c8 & 0xFF) as usize)
+        } else {
+            0
+        };
         for half in 0..2 {
             let mut node = 1usize;
             for k in (0..4).rev() {
@@ -274,7 +283,7 @@ impl MixModel {
 ///
 /// The output is a bare range-coded stream; the decoder needs the length of
 /// `data` and the same parameters. The engine allocates
-/// [`MixParams::memory_needed`] bytes of tables.
+/// [`MixParams::memory_needed_for`]`(data.len())` bytes of tables.
 ///
 /// # Errors
 ///
@@ -328,8 +337,8 @@ fn mix_encoder(data: &[u8], params: &MixParams, meter: bool) -> Result<Encoder> 
 /// Decompresses `raw_len` bytes coded by [`encode_mix`] with the same
 /// parameters.
 ///
-/// Allocates `raw_len` bytes for the output and [`MixParams::memory_needed`]
-/// bytes of tables, nothing that depends on `coded`; the caller bounds both.
+/// Allocates `raw_len` bytes for the output and
+/// [`MixParams::memory_needed_for`]`(raw_len)` bytes of tables, nothing that depends on `coded`; the caller bounds both.
 /// Damaged input gives an error or wrong bytes (a container's checksum
 /// catches those), never a panic.
 ///
