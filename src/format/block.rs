@@ -85,10 +85,10 @@ impl EncodedBlock {
 /// Codes block `index` (non-empty `raw`) with `preset`, storing it when
 /// coding does not make it shorter.
 pub(crate) fn encode_block(preset: &Preset, index: u64, raw: &[u8]) -> Result<EncodedBlock> {
-    let coded = preset.encode_block(raw)?;
+    let coded = preset.encode_or_store(raw)?.filter(|c| c.len() < raw.len());
     let raw_crc = crc32fast::hash(raw);
     let mut frame = Vec::with_capacity(24);
-    let coded = if coded.len() < raw.len() {
+    let coded = if let Some(coded) = coded {
         frame.push(KIND_CODED);
         put_vint(&mut frame, raw.len() as u64);
         put_vint(&mut frame, coded.len() as u64);

@@ -83,6 +83,12 @@ pub(crate) fn encode_mx(raw: &[u8], params: &[u32]) -> Result<Vec<u8>> {
     encode_mix(raw, &mix_params(params)?)
 }
 
+/// As [`encode_mx`]; `None` when the block does not shrink (see
+/// `encode_mix_or_store`).
+pub(crate) fn encode_mx_or_store(raw: &[u8], params: &[u32]) -> Result<Option<Vec<u8>>> {
+    crate::model::cm::encode_mix_or_store(raw, &mix_params(params)?)
+}
+
 pub(crate) fn decode_mx(payload: &[u8], params: &[u32], out: &mut [u8]) -> Result<()> {
     let back = decode_mix(payload, out.len(), &mix_params(params)?)?;
     copy_exact(&back, out)

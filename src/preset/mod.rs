@@ -18,7 +18,9 @@
 //!   order-2 conditional entropy.
 //! - `mix` (id 4): the strongest model: hashed contexts of orders 1 to 6,
 //!   word and column contexts and a match model, logistically mixed and
-//!   refined; slowest, smallest output on text and records.
+//!   refined; slowest, smallest output on text and records. In a container,
+//!   a block whose first eighth (at least 64 KiB) does not shrink is stored
+//!   without coding the rest, so incompressible input stays fast.
 //!
 //! Invariant: [`Preset::decode_block`] with the parameters read back from a
 //! header inverts [`Preset::encode_block`] exactly, on every platform (no
@@ -488,6 +490,18 @@ impl Preset {
             PresetKind::Adaptive => adaptive_codec::encode(raw, self.params()),
             PresetKind::Order2 => cm_codec::encode_o2(raw, self.params()),
             PresetKind::Mix => cm_codec::encode_mx(raw, self.params()),
+        }
+    }
+
+    /// Codes one block for the container: the payload, or `None` when the
+    /// block should be stored because coding will not shrink it. The slow
+    /// `mix` preset decides that early (after an eighth of the block) instead
+    /// of coding all of it; the others code the block and let the container
+    /// compare lengths.
+    pub(crate) fn encode_or_store(&self, raw: &[u8]) -> Result<Option<Vec<u8>>> {
+        match self.kind {
+            PresetKind::Mix if !raw.is_empty() => cm_codec::encode_mx_or_store(raw, self.params()),
+            _ => self.encode_block(raw).map(Some),
         }
     }
 

@@ -29,7 +29,16 @@ pub const MAX_LEN: usize = 1024;
 fn gauge_text() -> Vec<u8> {
     let mut s = String::new();
     for i in 0..60u32 {
-        s += &format!("{} {}\n{} {}.{} {}.{}\n", 3 + i % 5, 1_714_521_600 + 600 * i, 200 + i % 7, 45 + i % 3, i % 10, 12, i % 9);
+        s += &format!(
+            "{} {}\n{} {}.{} {}.{}\n",
+            3 + i % 5,
+            1_714_521_600 + 600 * i,
+            200 + i % 7,
+            45 + i % 3,
+            i % 10,
+            12,
+            i % 9
+        );
     }
     s.into_bytes()
 }

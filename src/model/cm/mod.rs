@@ -51,4 +51,5 @@ mod strong;
 
 pub use fast::{decode_order2, encode_order2, ideal_cost_order2};
 pub use params::{check_memory, MixParams, Order2Params};
+pub(crate) use strong::encode_mix_or_store;
 pub use strong::{decode_mix, encode_mix, ideal_cost_mix};

@@ -321,17 +321,50 @@ pub fn ideal_cost_mix(data: &[u8], params: &MixParams) -> Result<IdealCost> {
     Ok(enc.ideal_cost().copied().unwrap_or_default())
 }
 
+/// Where [`encode_mix_or_store`] checks whether a block shrinks: after an
+/// eighth of it, and after at least this many bytes.
+pub(crate) const STORE_CHECK: usize = 64 << 10;
+
+/// As [`encode_mix`], but gives up (`None`: store the block) when the first
+/// eighth of the block (at least [`STORE_CHECK`] bytes) coded no smaller
+/// than it is: incompressible data (already compressed, encrypted, random)
+/// then costs an eighth of the engine's time, not all of it. A block that
+/// turns compressible after its first eighth is stored too; that is the
+/// price of the shortcut.
+pub(crate) fn encode_mix_or_store(data: &[u8], params: &MixParams) -> Result<Option<Vec<u8>>> {
+    let check = (data.len() / 8).max(STORE_CHECK);
+    match mix_encoder_until(data, params, false, Some(check))? {
+        Some(enc) => Ok(Some(enc.finish()?)),
+        None => Ok(None),
+    }
+}
+
 fn mix_encoder(data: &[u8], params: &MixParams, meter: bool) -> Result<Encoder> {
+    Ok(mix_encoder_until(data, params, meter, None)?.expect("no check, no giving up"))
+}
+
+/// The encoder after coding `data`, or `None` when, at byte `check`, the
+/// output was not shorter than the input so far.
+fn mix_encoder_until(
+    data: &[u8],
+    params: &MixParams,
+    meter: bool,
+    check: Option<usize>,
+) -> Result<Option<Encoder>> {
     let mut model = MixModel::new(params, data.len())?;
     let mut enc = Encoder::with_sink(Vec::with_capacity(data.len() / 3 + 16));
     if meter {
         enc.enable_cost_meter();
     }
+    let check = check.filter(|&c| c < data.len()).unwrap_or(usize::MAX);
     for (i, &byte) in data.iter().enumerate() {
+        if i == check && enc.len_estimate() >= i as u64 {
+            return Ok(None);
+        }
         model.code_byte(&mut enc, byte)?;
         model.byte_done(&data[..=i]);
     }
-    Ok(enc)
+    Ok(Some(enc))
 }
 
 /// Decompresses `raw_len` bytes coded by [`encode_mix`] with the same
@@ -360,4 +393,25 @@ pub fn decode_mix(coded: &[u8], raw_len: usize, params: &MixParams) -> Result<Ve
     }
     dec.finish()?;
     Ok(out)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn incompressible_blocks_are_given_up_early() {
+        let mut params = MixParams::default();
+        params.mem_log2 = 0;
+        // Random bytes: the first eighth does not shrink, so store.
+        let random = crate::corpus::random(3, 3 * STORE_CHECK / 2);
+        assert_eq!(encode_mix_or_store(&random, &params).unwrap(), None);
+        // Gauge telemetry: coded in full, the same bytes as `encode_mix`.
+        let csv = crate::corpus::gauge_csv(3, 3 * STORE_CHECK / 2);
+        let coded = encode_mix_or_store(&csv, &params).unwrap().unwrap();
+        assert_eq!(coded, encode_mix(&csv, &params).unwrap());
+        // Short blocks are never checked: coded even when random.
+        let short = crate::corpus::random(4, STORE_CHECK);
+        assert!(encode_mix_or_store(&short, &params).unwrap().is_some());
+    }
 }
