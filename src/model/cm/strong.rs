@@ -401,8 +401,10 @@ mod tests {
 
     #[test]
     fn incompressible_blocks_are_given_up_early() {
-        let mut params = MixParams::default();
-        params.mem_log2 = 0;
+        let params = MixParams {
+            mem_log2: 0,
+            ..MixParams::default()
+        };
         // Random bytes: the first eighth does not shrink, so store.
         let random = crate::corpus::random(3, 3 * STORE_CHECK / 2);
         assert_eq!(encode_mix_or_store(&random, &params).unwrap(), None);
