@@ -41,6 +41,8 @@ pub use sink::IoSink;
 #[cfg(feature = "std")]
 pub use source::IoSource;
 pub use source::{ByteSource, SliceSource};
+#[doc(hidden)]
+pub use table_lanes::decode_table_lanes_scalar;
 #[cfg(feature = "std")]
 pub(crate) use table_lanes::LANE_PAD;
 pub use table_lanes::{decode_table_lanes, encode_table_lanes};

@@ -509,6 +509,22 @@ pub fn decode_table_lanes(model: &TableModel, streams: &[&[u8]], out: &mut [u8])
     decode_with(model, streams, out, kernel)
 }
 
+/// [`decode_table_lanes`] on the scalar steps only, whatever the CPU: the
+/// reference the vector kernels are checked against (by the tests and the
+/// fuzz targets). Same results, slower.
+///
+/// # Errors
+///
+/// As for [`decode_table_lanes`].
+#[doc(hidden)]
+pub fn decode_table_lanes_scalar(
+    model: &TableModel,
+    streams: &[&[u8]],
+    out: &mut [u8],
+) -> Result<()> {
+    decode_with(model, streams, out, None)
+}
+
 /// The vector kernel a lane decoder may use (none off x86-64).
 #[cfg(target_arch = "x86_64")]
 type Vector = Option<super::table_simd::Kernel>;
