@@ -220,12 +220,11 @@ impl<S: ByteSource> Decoder<S> {
         let p1 = p1.clamp(1, 65535);
         let bound = (self.range >> 16) * p1;
         let bit = self.code < bound;
-        if bit {
-            self.range = bound;
-        } else {
-            self.code -= bound;
-            self.range -= bound;
-        }
+        // Branch-free: the bit is as unpredictable as the data, and the
+        // next prediction waits for it.
+        let keep = 0u32.wrapping_sub(u32::from(bit));
+        self.code -= bound & !keep;
+        self.range = (bound & keep) | (self.range.wrapping_sub(bound) & !keep);
         while self.range < TOP {
             self.range <<= 8;
             self.code = (self.code << 8) | u32::from(self.next_byte()?);
