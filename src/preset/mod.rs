@@ -155,10 +155,10 @@ const MIX_PARAMS: &[ParamSpec] = &[
     },
     ParamSpec {
         name: "orders",
-        default: 0b10_1011,
+        default: 0b00_0111,
         min: 0,
         max: 0b11_1111,
-        help: "context orders in use: bit k enables order k + 1 (default orders 1, 2, 4, 6)",
+        help: "context orders in use: bit k enables order k + 1 (default orders 1, 2, 3)",
     },
     ParamSpec {
         name: "word",
