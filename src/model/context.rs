@@ -126,8 +126,20 @@ impl Successors {
     }
 }
 
-/// An adaptive byte model over contexts of the previous 0 to 3 bytes (see the
-/// [module documentation](self)).
+/// An adaptive byte model over contexts of the previous 0 to 3 bytes.
+///
+/// Per order `k` and context (the `k` previous bytes) it counts the bytes
+/// that followed, and blends the orders from the highest down the way PPM's
+/// escape estimates do (Cleary & Witten, IEEE Trans. Communications 32(4),
+/// 1984; escape method C of Moffat, IEEE Trans. Communications 38(11), 1990):
+/// `P_k(s) = c_k(s) / (n_k + u_k) + u_k / (n_k + u_k) · P_{k-1}(s)`, with
+/// `n_k` the context's total count and `u_k` its number of distinct bytes,
+/// and 1/256 for every byte below order 0. The blend is computed in exact
+/// integers and scaled to a table of total at most 2^16 with every byte at
+/// least 1, so encoder and decoder agree on every platform. Rebuilding the
+/// table costs O(256) per byte: the model suits short messages started from
+/// a trained state ([`prime`](crate::prime)), and contexts are stored
+/// sparsely, so its snapshot stays small.
 ///
 /// # Example
 ///
