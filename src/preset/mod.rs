@@ -494,12 +494,16 @@ impl Preset {
     }
 
     /// Codes one block for the container: the payload, or `None` when the
-    /// block should be stored because coding will not shrink it. The slow
-    /// `mix` preset decides that early (after an eighth of the block) instead
-    /// of coding all of it; the others code the block and let the container
-    /// compare lengths.
+    /// block should be stored because coding will not shrink it. `static`
+    /// decides that exactly from the byte counts, without coding; the slow
+    /// `mix` preset early (after an eighth of the block) instead of coding
+    /// all of it; the others code the block and let the container compare
+    /// lengths.
     pub(crate) fn encode_or_store(&self, raw: &[u8]) -> Result<Option<Vec<u8>>> {
         match self.kind {
+            PresetKind::Static if !raw.is_empty() => {
+                static_codec::encode_or_store(raw, self.params())
+            }
             PresetKind::Mix if !raw.is_empty() => cm_codec::encode_mx_or_store(raw, self.params()),
             _ => self.encode_block(raw).map(Some),
         }

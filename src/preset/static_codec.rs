@@ -19,7 +19,7 @@
 
 use alloc::vec::Vec;
 
-use crate::coder::{decode_table_lanes, encode_table_lanes};
+use crate::coder::{decode_table_lanes, encode_table_lanes, log2_q32};
 use crate::error::{ErrorKind, Result};
 use crate::model::TableModel;
 use crate::preset::corrupt;
@@ -56,8 +56,45 @@ fn lanes_for(len: usize, max_lanes: u32) -> usize {
 pub(crate) fn encode(raw: &[u8], params: &[u32]) -> Result<Vec<u8>> {
     let (max_lanes, cap) = (params[0], params[1]);
     let model = TableModel::from_bytes_histogram(raw, table_log2(raw.len(), cap))?;
+    encode_with(raw, &model, lanes_for(raw.len(), max_lanes))
+}
+
+/// As [`encode`], or `None` when the payload cannot come out shorter than
+/// `raw` (the container then stores the block): decided from the byte
+/// counts alone, without coding. The decision is exact, never a guess: a
+/// lane's bytes are at least its ideal cost less one byte (the range stays
+/// at least 2^24, so all but 8 bits of the information leave as bytes), so
+/// when the ideal cost less one byte per lane, plus the table, already
+/// reaches the block's length, coding would be wasted work.
+pub(crate) fn encode_or_store(raw: &[u8], params: &[u32]) -> Result<Option<Vec<u8>>> {
+    let (max_lanes, cap) = (params[0], params[1]);
+    let mut counts = [0u64; 256];
+    for &b in raw {
+        counts[usize::from(b)] += 1;
+    }
+    let model = TableModel::from_counts(&counts, table_log2(raw.len(), cap))?;
     let lanes = lanes_for(raw.len(), max_lanes);
-    let streams = encode_table_lanes(&model, raw, lanes)?;
+    let total_log = u64::from(model.log2_total()) << 32;
+    let mut bits_q32: u128 = 0;
+    for (&c, &f) in counts.iter().zip(model.frequencies()) {
+        if c > 0 {
+            bits_q32 += u128::from(c) * u128::from(total_log - log2_q32(u64::from(f)));
+        }
+    }
+    // `log2_q32` interpolates a concave curve from below (256 points an
+    // octave), so each symbol's cost can read high by at most about
+    // 2.7e-6 bits, under 0.4 bytes a MiB; allow 8 bytes and 4 a MiB.
+    let margin = 8 + raw.len() as u64 / (1 << 18);
+    let floor = ((bits_q32 >> 32) as u64 / 8).saturating_sub(lanes as u64 + margin);
+    let table_len = model.to_bytes().len() as u64;
+    if 1 + table_len + floor >= raw.len() as u64 {
+        return Ok(None);
+    }
+    encode_with(raw, &model, lanes).map(Some)
+}
+
+fn encode_with(raw: &[u8], model: &TableModel, lanes: usize) -> Result<Vec<u8>> {
+    let streams = encode_table_lanes(model, raw, lanes)?;
     let table = model.to_bytes();
     let coded: usize = streams.iter().map(Vec::len).sum();
     let mut out = Vec::with_capacity(coded + table.len() + 8 * lanes);
@@ -148,6 +185,36 @@ mod tests {
         assert_eq!(lanes_for(10, 4), 1);
         assert_eq!(lanes_for(2048, 4), 2);
         assert_eq!(lanes_for(1 << 20, 4), 4);
+    }
+
+    /// Stores exactly the blocks coding could not shrink: the shortcut
+    /// agrees with coding and comparing lengths.
+    #[test]
+    fn store_decision_matches_coding() {
+        let params = [32u32, 12];
+        for (i, raw) in [
+            crate::corpus::random(1, 200_000),
+            crate::corpus::random(2, 5_000),
+            crate::corpus::gauge_csv(3, 100_000),
+            (0..=255u8).cycle().take(70_000).collect(),
+            crate::corpus::skewed(4, 50_000),
+        ]
+        .into_iter()
+        .enumerate()
+        {
+            let coded = encode(&raw, &params).unwrap();
+            match encode_or_store(&raw, &params).unwrap() {
+                Some(c) => assert_eq!(c, coded, "case {i}"),
+                None => assert!(
+                    coded.len() >= raw.len(),
+                    "case {i}: stored a block coding shrinks"
+                ),
+            }
+        }
+        // Random bytes take the shortcut.
+        assert!(encode_or_store(&crate::corpus::random(1, 200_000), &params)
+            .unwrap()
+            .is_none());
     }
 
     #[test]
