@@ -83,6 +83,12 @@ pub(crate) fn encode_mx(raw: &[u8], params: &[u32]) -> Result<Vec<u8>> {
     encode_mix(raw, &mix_params(params)?)
 }
 
+/// As [`encode_o2`]; `None` when the block does not shrink (see
+/// `encode_order2_or_store`).
+pub(crate) fn encode_o2_or_store(raw: &[u8], params: &[u32]) -> Result<Option<Vec<u8>>> {
+    crate::model::cm::encode_order2_or_store(raw, &order2_params(params)?)
+}
+
 /// As [`encode_mx`]; `None` when the block does not shrink (see
 /// `encode_mix_or_store`).
 pub(crate) fn encode_mx_or_store(raw: &[u8], params: &[u32]) -> Result<Option<Vec<u8>>> {

@@ -18,9 +18,12 @@
 //!   order-2 conditional entropy.
 //! - `mix` (id 4): the strongest model: hashed contexts of orders 1 to 6,
 //!   word and column contexts and a match model, logistically mixed and
-//!   refined; slowest, smallest output on text and records. In a container,
-//!   a block whose first eighth (at least 64 KiB) does not shrink is stored
-//!   without coding the rest, so incompressible input stays fast.
+//!   refined; slowest, smallest output on text and records.
+//!
+//! In a container, an `order2` or `mix` block whose first sixteenth (at least
+//! 64 KiB) does not shrink is stored without coding the rest, and a `static`
+//! block whose byte counts prove it cannot shrink is stored without coding,
+//! so incompressible input stays fast.
 //!
 //! Invariant: [`Preset::decode_block`] with the parameters read back from a
 //! header inverts [`Preset::encode_block`] exactly, on every platform (no
@@ -495,14 +498,17 @@ impl Preset {
 
     /// Codes one block for the container: the payload, or `None` when the
     /// block should be stored because coding will not shrink it. `static`
-    /// decides that exactly from the byte counts, without coding; the slow
-    /// `mix` preset early (after an eighth of the block) instead of coding
-    /// all of it; the others code the block and let the container compare
+    /// decides that exactly from the byte counts, without coding; `order2`
+    /// and `mix` early (after a sixteenth of the block) instead of coding all
+    /// of it; `adaptive` codes the block and lets the container compare
     /// lengths.
     pub(crate) fn encode_or_store(&self, raw: &[u8]) -> Result<Option<Vec<u8>>> {
         match self.kind {
             PresetKind::Static if !raw.is_empty() => {
                 static_codec::encode_or_store(raw, self.params())
+            }
+            PresetKind::Order2 if !raw.is_empty() => {
+                cm_codec::encode_o2_or_store(raw, self.params())
             }
             PresetKind::Mix if !raw.is_empty() => cm_codec::encode_mx_or_store(raw, self.params()),
             _ => self.encode_block(raw).map(Some),

@@ -164,16 +164,49 @@ pub fn ideal_cost_order2(data: &[u8], params: &Order2Params) -> Result<IdealCost
     Ok(enc.ideal_cost().copied().unwrap_or_default())
 }
 
+/// As [`encode_order2`], but gives up (`None`: store the block) when the
+/// first sixteenth of the block (at least
+/// [`STORE_CHECK`](crate::model::cm::strong::STORE_CHECK) bytes) coded no
+/// smaller than it is. On incompressible input every byte opens a new
+/// context, so each nibble misses the cache; giving up early keeps such
+/// blocks fast. A block that turns compressible after its first sixteenth is
+/// stored too.
+pub(crate) fn encode_order2_or_store(
+    data: &[u8],
+    params: &Order2Params,
+) -> Result<Option<Vec<u8>>> {
+    let check = (data.len() / 16).max(crate::model::cm::strong::STORE_CHECK);
+    match order2_encoder_until(data, params, false, Some(check))? {
+        Some(enc) => Ok(Some(enc.finish()?)),
+        None => Ok(None),
+    }
+}
+
 fn order2_encoder(data: &[u8], params: &Order2Params, meter: bool) -> Result<Encoder> {
+    Ok(order2_encoder_until(data, params, meter, None)?.expect("no check, no giving up"))
+}
+
+/// The encoder after coding `data`, or `None` when, at byte `check`, the
+/// output was not shorter than the input so far.
+fn order2_encoder_until(
+    data: &[u8],
+    params: &Order2Params,
+    meter: bool,
+    check: Option<usize>,
+) -> Result<Option<Encoder>> {
     let mut model = FastModel::new(params, data.len())?;
     let mut enc = Encoder::with_sink(Vec::with_capacity(data.len() / 2 + 16));
     if meter {
         enc.enable_cost_meter();
     }
-    for &byte in data {
+    let check = check.filter(|&c| c < data.len()).unwrap_or(usize::MAX);
+    for (i, &byte) in data.iter().enumerate() {
+        if i == check && enc.len_estimate() >= i as u64 {
+            return Ok(None);
+        }
         model.byte(&mut enc, byte)?;
     }
-    Ok(enc)
+    Ok(Some(enc))
 }
 
 /// Decompresses `raw_len` bytes coded by [`encode_order2`] with the same
@@ -230,6 +263,16 @@ mod tests {
                 assert_eq!(small, encode_with_room(&data, &p, 1 << 20), "{len}");
             }
         }
+    }
+
+    #[test]
+    fn incompressible_blocks_are_given_up_early() {
+        let p = Order2Params::default();
+        let random = crate::corpus::random(5, 200_000);
+        assert_eq!(encode_order2_or_store(&random, &p).unwrap(), None);
+        let csv = crate::corpus::gauge_csv(5, 200_000);
+        let coded = encode_order2_or_store(&csv, &p).unwrap().unwrap();
+        assert_eq!(coded, encode_order2(&csv, &p).unwrap());
     }
 
     #[test]

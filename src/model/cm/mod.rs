@@ -49,6 +49,7 @@ mod io;
 mod params;
 mod strong;
 
+pub(crate) use fast::encode_order2_or_store;
 pub use fast::{decode_order2, encode_order2, ideal_cost_order2};
 pub use params::{check_memory, MixParams, Order2Params};
 pub(crate) use strong::encode_mix_or_store;

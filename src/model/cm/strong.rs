@@ -321,18 +321,19 @@ pub fn ideal_cost_mix(data: &[u8], params: &MixParams) -> Result<IdealCost> {
     Ok(enc.ideal_cost().copied().unwrap_or_default())
 }
 
-/// Where [`encode_mix_or_store`] checks whether a block shrinks: after an
-/// eighth of it, and after at least this many bytes.
-pub(crate) const STORE_CHECK: usize = 64 << 10;
+/// Where [`encode_mix_or_store`] (and the order-2 engine's counterpart)
+/// checks whether a block shrinks: after a sixteenth of it, and after at
+/// least this many bytes.
+pub(crate) const STORE_CHECK: usize = 32 << 10;
 
 /// As [`encode_mix`], but gives up (`None`: store the block) when the first
-/// eighth of the block (at least [`STORE_CHECK`] bytes) coded no smaller
+/// sixteenth of the block (at least [`STORE_CHECK`] bytes) coded no smaller
 /// than it is: incompressible data (already compressed, encrypted, random)
-/// then costs an eighth of the engine's time, not all of it. A block that
-/// turns compressible after its first eighth is stored too; that is the
+/// then costs a sixteenth of the engine's time, not all of it. A block that
+/// turns compressible after its first sixteenth is stored too; that is the
 /// price of the shortcut.
 pub(crate) fn encode_mix_or_store(data: &[u8], params: &MixParams) -> Result<Option<Vec<u8>>> {
-    let check = (data.len() / 8).max(STORE_CHECK);
+    let check = (data.len() / 16).max(STORE_CHECK);
     match mix_encoder_until(data, params, false, Some(check))? {
         Some(enc) => Ok(Some(enc.finish()?)),
         None => Ok(None),
@@ -405,7 +406,7 @@ mod tests {
             mem_log2: 0,
             ..MixParams::default()
         };
-        // Random bytes: the first eighth does not shrink, so store.
+        // Random bytes: the first sixteenth does not shrink, so store.
         let random = crate::corpus::random(3, 3 * STORE_CHECK / 2);
         assert_eq!(encode_mix_or_store(&random, &params).unwrap(), None);
         // Gauge telemetry: coded in full, the same bytes as `encode_mix`.
