@@ -234,23 +234,30 @@ fn finish_lanes(mut outs: Vec<Vec<u8>>, low: &[u32], range: &[u32], pos: &[usize
     outs
 }
 
-/// Lane counts that are a multiple of 8 on CPUs with AVX2: for each chunk of
-/// rows, the vector kernel codes eight columns at a time. Same streams as
-/// the scalar steps.
-#[cfg(target_arch = "x86_64")]
-fn encode_vector(
+/// The states of one group of lanes during a pass: `low`, `range`, `pos`
+/// and the output buffers of columns `first .. first + low.len()`.
+struct GroupStates<'a> {
+    low: &'a mut [u32],
+    range: &'a mut [u32],
+    pos: &'a mut [usize],
+    bufs: &'a mut [Vec<u8>],
+}
+
+/// Many lanes, `group` at a time: for each chunk of whole rows, `pass`
+/// codes the rows' columns `first .. first + group` (given the chunk and
+/// `first`) for one group after another; the last, partial row is coded
+/// lane by lane. Same streams as coding the rows in order, since lanes are
+/// independent.
+#[allow(clippy::too_many_arguments)]
+fn encode_grouped(
     data: &[u8],
     entry: &[u64; 256],
     shift: u32,
     total: u32,
     lanes: usize,
+    group: usize,
+    mut pass: impl FnMut(GroupStates<'_>, &[u8], usize),
 ) -> Vec<Vec<u8>> {
-    use super::table_simd_enc::{encode_rows, Group};
-    // The kernel's packing: cum | (freq - 1) << 16 (every byte of `data` has
-    // a non-zero frequency, checked by the caller).
-    let packed: [u32; 256] = core::array::from_fn(|b| {
-        (entry[b] as u32) | ((entry[b] >> 32) as u32).wrapping_sub(1) << 16
-    });
     let mut outs = lane_buffers(data.len(), lanes);
     let mut low = alloc::vec![0u32; lanes];
     let mut range = alloc::vec![u32::MAX; lanes];
@@ -258,18 +265,15 @@ fn encode_vector(
     let rows = data.len() / lanes;
     let (body, tail) = data.split_at(rows * lanes);
     for chunk in body.chunks(CHUNK_ROWS * lanes) {
-        for first in (0..lanes).step_by(8) {
-            let cols = first..first + 8;
-            let mut group = Group {
-                low: low[cols.clone()].try_into().expect("eight lanes"),
-                range: range[cols.clone()].try_into().expect("eight lanes"),
-                pos: pos[cols.clone()].try_into().expect("eight lanes"),
-                bufs: &mut outs[cols.clone()],
+        for first in (0..lanes).step_by(group) {
+            let cols = first..first + group;
+            let states = GroupStates {
+                low: &mut low[cols.clone()],
+                range: &mut range[cols.clone()],
+                pos: &mut pos[cols.clone()],
+                bufs: &mut outs[cols],
             };
-            encode_rows(&mut group, chunk, lanes, first, &packed, shift, total);
-            low[cols.clone()].copy_from_slice(&group.low);
-            range[cols.clone()].copy_from_slice(&group.range);
-            pos[cols].copy_from_slice(&group.pos);
+            pass(states, chunk, first);
         }
     }
     for (k, &b) in tail.iter().enumerate() {
@@ -287,10 +291,38 @@ fn encode_vector(
     finish_lanes(outs, &low, &range, &pos)
 }
 
-/// Many lanes, `P` at a time: for each chunk of rows, a pass codes
-/// columns `first .. first + P` with their states in registers, then the
-/// next `P` columns. Same streams as coding the rows in order, since lanes
-/// are independent.
+/// Lane counts that are a multiple of 8 on CPUs with AVX2: the vector
+/// kernel codes eight columns at a time.
+#[cfg(target_arch = "x86_64")]
+fn encode_vector(
+    data: &[u8],
+    entry: &[u64; 256],
+    shift: u32,
+    total: u32,
+    lanes: usize,
+) -> Vec<Vec<u8>> {
+    use super::table_simd_enc::{encode_rows, Group};
+    // The kernel's packing: cum | (freq - 1) << 16 (every byte of `data` has
+    // a non-zero frequency, checked by the caller).
+    let packed: [u32; 256] = core::array::from_fn(|b| {
+        (entry[b] as u32) | ((entry[b] >> 32) as u32).wrapping_sub(1) << 16
+    });
+    encode_grouped(data, entry, shift, total, lanes, 8, |s, chunk, first| {
+        let mut group = Group {
+            low: (&*s.low).try_into().expect("eight lanes"),
+            range: (&*s.range).try_into().expect("eight lanes"),
+            pos: (&*s.pos).try_into().expect("eight lanes"),
+            bufs: s.bufs,
+        };
+        encode_rows(&mut group, chunk, lanes, first, &packed, shift, total);
+        s.low.copy_from_slice(&group.low);
+        s.range.copy_from_slice(&group.range);
+        s.pos.copy_from_slice(&group.pos);
+    })
+}
+
+/// Many lanes, `P` at a time, on the scalar steps with each group's states
+/// in registers.
 fn encode_passes<const P: usize>(
     data: &[u8],
     entry: &[u64; 256],
@@ -298,53 +330,30 @@ fn encode_passes<const P: usize>(
     total: u32,
     lanes: usize,
 ) -> Vec<Vec<u8>> {
-    let mut outs = lane_buffers(data.len(), lanes);
-    let mut low = alloc::vec![0u32; lanes];
-    let mut range = alloc::vec![u32::MAX; lanes];
-    let mut pos = alloc::vec![0usize; lanes];
-    let rows = data.len() / lanes;
-    let (body, tail) = data.split_at(rows * lanes);
-    for chunk in body.chunks(CHUNK_ROWS * lanes) {
-        for first in (0..lanes).step_by(P) {
-            let bufs: &mut [Vec<u8>; P] = (&mut outs[first..first + P])
-                .try_into()
-                .expect("lane count is a multiple of P");
-            let mut l: [u32; P] = core::array::from_fn(|k| low[first + k]);
-            let mut r: [u32; P] = core::array::from_fn(|k| range[first + k]);
-            let mut p: [usize; P] = core::array::from_fn(|k| pos[first + k]);
-            for row in chunk.chunks_exact(lanes) {
-                let cols = &row[first..first + P];
-                for k in 0..P {
-                    let e = entry[cols[k] as usize];
-                    encode_step(
-                        &mut l[k],
-                        &mut r[k],
-                        &mut bufs[k],
-                        &mut p[k],
-                        e,
-                        shift,
-                        total,
-                    );
-                }
+    encode_grouped(data, entry, shift, total, lanes, P, |s, chunk, first| {
+        let bufs: &mut [Vec<u8>; P] = s.bufs.try_into().expect("P lanes");
+        let mut l: [u32; P] = core::array::from_fn(|k| s.low[k]);
+        let mut r: [u32; P] = core::array::from_fn(|k| s.range[k]);
+        let mut p: [usize; P] = core::array::from_fn(|k| s.pos[k]);
+        for row in chunk.chunks_exact(lanes) {
+            let cols = &row[first..first + P];
+            for k in 0..P {
+                let e = entry[cols[k] as usize];
+                encode_step(
+                    &mut l[k],
+                    &mut r[k],
+                    &mut bufs[k],
+                    &mut p[k],
+                    e,
+                    shift,
+                    total,
+                );
             }
-            low[first..first + P].copy_from_slice(&l);
-            range[first..first + P].copy_from_slice(&r);
-            pos[first..first + P].copy_from_slice(&p);
         }
-    }
-    for (k, &b) in tail.iter().enumerate() {
-        let e = entry[b as usize];
-        encode_step(
-            &mut low[k],
-            &mut range[k],
-            &mut outs[k],
-            &mut pos[k],
-            e,
-            shift,
-            total,
-        );
-    }
-    finish_lanes(outs, &low, &range, &pos)
+        s.low.copy_from_slice(&l);
+        s.range.copy_from_slice(&r);
+        s.pos.copy_from_slice(&p);
+    })
 }
 
 fn encode_fixed_dyn(
