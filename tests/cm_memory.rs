@@ -5,47 +5,17 @@
 //! once) and that plus the output and a few small buffers.
 #![cfg(feature = "std")]
 
-use std::alloc::{GlobalAlloc, Layout, System};
-use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::Mutex;
 
 use subrange::model::cm::{
     decode_mix, decode_order2, encode_mix, encode_order2, MixParams, Order2Params,
 };
 
-struct Counting;
-
-static LIVE: AtomicUsize = AtomicUsize::new(0);
-static PEAK: AtomicUsize = AtomicUsize::new(0);
-
-unsafe impl GlobalAlloc for Counting {
-    unsafe fn alloc(&self, layout: Layout) -> *mut u8 {
-        // SAFETY: forwarded unchanged to the system allocator.
-        let p = unsafe { System.alloc(layout) };
-        if !p.is_null() {
-            let now = LIVE.fetch_add(layout.size(), Ordering::SeqCst) + layout.size();
-            PEAK.fetch_max(now, Ordering::SeqCst);
-        }
-        p
-    }
-    unsafe fn alloc_zeroed(&self, layout: Layout) -> *mut u8 {
-        // SAFETY: forwarded unchanged to the system allocator.
-        let p = unsafe { System.alloc_zeroed(layout) };
-        if !p.is_null() {
-            let now = LIVE.fetch_add(layout.size(), Ordering::SeqCst) + layout.size();
-            PEAK.fetch_max(now, Ordering::SeqCst);
-        }
-        p
-    }
-    unsafe fn dealloc(&self, ptr: *mut u8, layout: Layout) {
-        // SAFETY: forwarded unchanged to the system allocator.
-        unsafe { System.dealloc(ptr, layout) };
-        LIVE.fetch_sub(layout.size(), Ordering::SeqCst);
-    }
-}
+#[path = "fuzz_support/alloc.rs"]
+mod alloc;
 
 #[global_allocator]
-static GLOBAL: Counting = Counting;
+static GLOBAL: alloc::Counting = alloc::Counting;
 
 /// Tests of this file run one at a time, so that peaks are their own.
 static SERIAL: Mutex<()> = Mutex::new(());
@@ -57,10 +27,8 @@ static SERIAL: Mutex<()> = Mutex::new(());
 const SLACK: u64 = 64 << 10;
 
 fn peak_during<T>(f: impl FnOnce() -> T) -> (T, u64) {
-    let base = LIVE.load(Ordering::SeqCst);
-    PEAK.store(base, Ordering::SeqCst);
-    let r = f();
-    (r, (PEAK.load(Ordering::SeqCst) - base) as u64)
+    let (r, peak) = alloc::peak_during(f);
+    (r, peak as u64)
 }
 
 /// Synthetic river-gauge records (seeded): station, water level, flow and
