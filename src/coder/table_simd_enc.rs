@@ -16,9 +16,10 @@
 //!    which sit at and after the position.
 //!
 //! The output is byte-identical to the scalar steps (tested), whatever the
-//! CPU. Every buffer access is a bounds-checked slice operation; the only
-//! `unsafe` is the vector instructions and their loads and stores of the
-//! kernel's own arrays.
+//! CPU. Every output buffer access is a bounds-checked slice operation; the
+//! `unsafe` is the vector instructions: loads and stores of the kernel's
+//! own 32-byte arrays, an 8-byte load from a row slice checked to hold it,
+//! and a gather from the 256-entry table indexed by byte values.
 #![allow(unsafe_code)]
 
 use alloc::vec::Vec;
