@@ -77,30 +77,41 @@ impl FastModel {
     }
 
     /// Codes one nibble's four bits through the groups at `g2` / `g1`.
+    ///
+    /// Both children of each node are read before its bit is coded, so a
+    /// decoder, which learns the bit only from the coder, does not wait for
+    /// the next counter's load after it (the children sit in the same cache
+    /// line; the point is the dependency, not the miss).
     #[inline(always)]
     fn nibble<I: BitIo>(&mut self, io: &mut I, g2: usize, g1: usize, value: u32) -> Result<u32> {
         let mut node = 1usize;
+        let mut stored = self.t2.table()[g2 + 1];
         for k in (0..4).rev() {
             let bit = (value >> k) & 1 == 1;
             let i2 = g2 + node;
-            let mut c = self.t2.table()[i2] ^ COUNTER_INIT;
-            if self.order1 && counter_n(c) == 0 {
+            let children = if k > 0 {
+                let t = self.t2.table();
+                [t[g2 + 2 * node], t[g2 + 2 * node + 1]]
+            } else {
+                [0, 0]
+            };
+            let mut c = stored ^ COUNTER_INIT;
+            let bit = if self.order1 && counter_n(c) == 0 {
                 // A new order-2 node starts from what order 1 knows about
                 // new contexts, with a count of zero (the prior is not counted).
                 let i1 = g1 + node;
                 let c1 = self.t1.table()[i1] ^ COUNTER_INIT;
                 let bit = io.code(bit, counter_p16(c1).clamp(1, 65535))?;
                 c = c1 & !1023;
-                counter_update(&mut c, bit, self.limit);
-                self.t2.table_mut()[i2] = c ^ COUNTER_INIT;
                 update_stored(&mut self.t1.table_mut()[i1], bit, self.limit);
-                node = 2 * node + usize::from(bit);
-                continue;
-            }
-            let bit = io.code(bit, counter_p16(c).clamp(1, 65535))?;
+                bit
+            } else {
+                io.code(bit, counter_p16(c).clamp(1, 65535))?
+            };
             counter_update(&mut c, bit, self.limit);
             self.t2.table_mut()[i2] = c ^ COUNTER_INIT;
             node = 2 * node + usize::from(bit);
+            stored = children[usize::from(bit)];
         }
         Ok(node as u32 - 16)
     }
