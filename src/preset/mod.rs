@@ -151,7 +151,7 @@ const ORDER2_PARAMS: &[ParamSpec] = &[
 const MIX_PARAMS: &[ParamSpec] = &[
     ParamSpec {
         name: "memory_mib",
-        default: 32,
+        default: 4,
         min: 1,
         max: 1024,
         help: "context table memory in MiB, a power of two (the decoder needs the same)",
