@@ -36,6 +36,7 @@ use crate::error::Result;
 use crate::model::cm::arena::GroupArena;
 use crate::model::cm::io::BitIo;
 use crate::model::cm::params::{Order2Params, NODES_PER_CONTEXT};
+use crate::model::cm::shrink::{code_bytes, finish_or_store};
 use crate::model::counter::{counter_n, counter_p16, counter_update, COUNTER_INIT};
 
 /// Updates a counter stored as `counter ^ COUNTER_INIT` (so that zeroed
@@ -175,49 +176,35 @@ pub fn ideal_cost_order2(data: &[u8], params: &Order2Params) -> Result<IdealCost
     Ok(enc.ideal_cost().copied().unwrap_or_default())
 }
 
-/// As [`encode_order2`], but gives up (`None`: store the block) when the
-/// first sixteenth of the block (at least
-/// [`STORE_CHECK`](crate::model::cm::strong::STORE_CHECK) bytes) coded no
-/// smaller than it is. On incompressible input every byte opens a new
-/// context, so each nibble misses the cache; giving up early keeps such
-/// blocks fast. A block that turns compressible after its first sixteenth is
-/// stored too.
+/// As [`encode_order2`], but `None` (store the block) when its first
+/// sixteenth does not shrink (see `shrink`). On incompressible input every
+/// byte opens a new context, so each nibble misses the cache; giving up
+/// early keeps such blocks fast.
 pub(crate) fn encode_order2_or_store(
     data: &[u8],
     params: &Order2Params,
 ) -> Result<Option<Vec<u8>>> {
-    let check = (data.len() / 16).max(crate::model::cm::strong::STORE_CHECK);
-    match order2_encoder_until(data, params, false, Some(check))? {
-        Some(enc) => Ok(Some(enc.finish()?)),
-        None => Ok(None),
-    }
+    finish_or_store(order2_encoder_until(data, params, false, true)?)
 }
 
 fn order2_encoder(data: &[u8], params: &Order2Params, meter: bool) -> Result<Encoder> {
-    Ok(order2_encoder_until(data, params, meter, None)?.expect("no check, no giving up"))
+    Ok(order2_encoder_until(data, params, meter, false)?.expect("no check, no giving up"))
 }
 
-/// The encoder after coding `data`, or `None` when, at byte `check`, the
-/// output was not shorter than the input so far.
 fn order2_encoder_until(
     data: &[u8],
     params: &Order2Params,
     meter: bool,
-    check: Option<usize>,
+    check: bool,
 ) -> Result<Option<Encoder>> {
     let mut model = FastModel::new(params, data.len())?;
     let mut enc = Encoder::with_sink(Vec::with_capacity(data.len() / 2 + 16));
     if meter {
         enc.enable_cost_meter();
     }
-    let check = check.filter(|&c| c < data.len()).unwrap_or(usize::MAX);
-    for (i, &byte) in data.iter().enumerate() {
-        if i == check && enc.len_estimate() >= i as u64 {
-            return Ok(None);
-        }
-        model.byte(&mut enc, byte)?;
-    }
-    Ok(Some(enc))
+    code_bytes(data.len(), enc, check, |enc, i| {
+        model.byte(enc, data[i]).map(drop)
+    })
 }
 
 /// Decompresses `raw_len` bytes coded by [`encode_order2`] with the same

@@ -47,6 +47,7 @@ pub(crate) mod arena;
 mod fast;
 mod io;
 mod params;
+mod shrink;
 mod strong;
 
 pub(crate) use fast::encode_order2_or_store;

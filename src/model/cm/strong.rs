@@ -37,6 +37,7 @@ use crate::model::cm::arena::{groups_for, GroupArena};
 use crate::model::cm::fast::update_stored;
 use crate::model::cm::io::BitIo;
 use crate::model::cm::params::{MixParams, NODES_PER_CONTEXT};
+use crate::model::cm::shrink::{code_bytes, finish_or_store};
 use crate::model::column::ColumnContext;
 use crate::model::counter::{counter_p16, counter_update, COUNTER_INIT};
 use crate::model::hashed::{hash2, SlotTable, SLOT_WORDS};
@@ -321,51 +322,32 @@ pub fn ideal_cost_mix(data: &[u8], params: &MixParams) -> Result<IdealCost> {
     Ok(enc.ideal_cost().copied().unwrap_or_default())
 }
 
-/// Where [`encode_mix_or_store`] (and the order-2 engine's counterpart)
-/// checks whether a block shrinks: after a sixteenth of it, and after at
-/// least this many bytes.
-pub(crate) const STORE_CHECK: usize = 32 << 10;
-
-/// As [`encode_mix`], but gives up (`None`: store the block) when the first
-/// sixteenth of the block (at least [`STORE_CHECK`] bytes) coded no smaller
-/// than it is: incompressible data (already compressed, encrypted, random)
-/// then costs a sixteenth of the engine's time, not all of it. A block that
-/// turns compressible after its first sixteenth is stored too; that is the
-/// price of the shortcut.
+/// As [`encode_mix`], but `None` (store the block) when its first sixteenth
+/// does not shrink (see `shrink`).
 pub(crate) fn encode_mix_or_store(data: &[u8], params: &MixParams) -> Result<Option<Vec<u8>>> {
-    let check = (data.len() / 16).max(STORE_CHECK);
-    match mix_encoder_until(data, params, false, Some(check))? {
-        Some(enc) => Ok(Some(enc.finish()?)),
-        None => Ok(None),
-    }
+    finish_or_store(mix_encoder_until(data, params, false, true)?)
 }
 
 fn mix_encoder(data: &[u8], params: &MixParams, meter: bool) -> Result<Encoder> {
-    Ok(mix_encoder_until(data, params, meter, None)?.expect("no check, no giving up"))
+    Ok(mix_encoder_until(data, params, meter, false)?.expect("no check, no giving up"))
 }
 
-/// The encoder after coding `data`, or `None` when, at byte `check`, the
-/// output was not shorter than the input so far.
 fn mix_encoder_until(
     data: &[u8],
     params: &MixParams,
     meter: bool,
-    check: Option<usize>,
+    check: bool,
 ) -> Result<Option<Encoder>> {
     let mut model = MixModel::new(params, data.len())?;
     let mut enc = Encoder::with_sink(Vec::with_capacity(data.len() / 3 + 16));
     if meter {
         enc.enable_cost_meter();
     }
-    let check = check.filter(|&c| c < data.len()).unwrap_or(usize::MAX);
-    for (i, &byte) in data.iter().enumerate() {
-        if i == check && enc.len_estimate() >= i as u64 {
-            return Ok(None);
-        }
-        model.code_byte(&mut enc, byte)?;
+    code_bytes(data.len(), enc, check, |enc, i| {
+        model.code_byte(enc, data[i])?;
         model.byte_done(&data[..=i]);
-    }
-    Ok(Some(enc))
+        Ok(())
+    })
 }
 
 /// Decompresses `raw_len` bytes coded by [`encode_mix`] with the same
@@ -399,6 +381,7 @@ pub fn decode_mix(coded: &[u8], raw_len: usize, params: &MixParams) -> Result<Ve
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::model::cm::shrink::STORE_CHECK;
 
     #[test]
     fn incompressible_blocks_are_given_up_early() {
