@@ -111,6 +111,27 @@ impl IdealCost {
         self.count += 1;
     }
 
+    /// Adds the cost of `times` events of probability `freq / total` each
+    /// (as `times` calls of [`add`](Self::add), in one step).
+    ///
+    /// ```
+    /// use subrange::coder::IdealCost;
+    ///
+    /// let mut cost = IdealCost::new();
+    /// cost.add_repeated(1, 8, 5); // five events of p = 1/8
+    /// assert!((cost.bits() - 15.0).abs() < 1e-6);
+    /// assert_eq!(cost.events(), 5);
+    /// ```
+    #[inline]
+    pub fn add_repeated(&mut self, freq: u32, total: u32, times: u64) {
+        if freq == 0 || freq > total {
+            return;
+        }
+        let each = log2_q32(total.into()) - log2_q32(freq.into());
+        self.q32 += u128::from(each) * u128::from(times);
+        self.count += times;
+    }
+
     /// Adds the cost of one binary decision: `p1` is the probability of a 1
     /// scaled to 2^16, `bit` what was coded.
     #[inline]

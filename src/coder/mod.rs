@@ -22,7 +22,10 @@
 mod cost;
 mod decoder;
 mod encoder;
+mod lane_dec;
+mod lane_enc;
 mod lanes;
+mod refresh_lanes;
 mod sink;
 mod source;
 mod table_lanes;
@@ -34,7 +37,10 @@ mod table_simd_enc;
 pub use cost::{log2_q32, IdealCost};
 pub use decoder::Decoder;
 pub use encoder::Encoder;
+#[cfg(feature = "std")]
+pub(crate) use lane_dec::LANE_PAD;
 pub use lanes::{decode_interleaved, encode_interleaved, MAX_LANES};
+pub use refresh_lanes::{decode_refresh_lanes, encode_refresh_lanes};
 pub use sink::ByteSink;
 #[cfg(feature = "std")]
 pub use sink::IoSink;
@@ -43,6 +49,4 @@ pub use source::IoSource;
 pub use source::{ByteSource, SliceSource};
 #[doc(hidden)]
 pub use table_lanes::decode_table_lanes_scalar;
-#[cfg(feature = "std")]
-pub(crate) use table_lanes::LANE_PAD;
 pub use table_lanes::{decode_table_lanes, encode_table_lanes};

@@ -3,7 +3,7 @@
 //!
 //! Each vector holds the `range`, `code` and read position of eight lanes,
 //! and one pass decodes one symbol in each of them, exactly as the scalar
-//! step in `table_lanes` does:
+//! step in `lane_dec` does:
 //!
 //! 1. `r = range >> log2_total`; the slot `t = min(code / r, total - 1)`.
 //!    The quotient is estimated in `f32` and then corrected with integer
@@ -34,7 +34,7 @@
 
 use core::arch::x86_64::*;
 
-use crate::coder::table_lanes::{DecodeTables, LaneState};
+use crate::coder::lane_dec::{DecodeTables, LaneState};
 
 /// Which build of the kernel this CPU runs.
 #[derive(Clone, Copy, PartialEq, Eq, Debug)]

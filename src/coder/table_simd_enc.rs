@@ -1,7 +1,7 @@
 //! The AVX2 kernel of the byte-table lane encoder: eight lanes per vector.
 //!
 //! One pass codes one symbol in each of eight lanes, exactly as the scalar
-//! `encode_step` in `table_lanes` does:
+//! `encode_step` in `lane_enc` does:
 //!
 //! 1. A gather reads each byte's packed `cum | (freq - 1) << 16`.
 //! 2. `r = range >> log2_total`; `low += r * cum`, with the lanes whose
@@ -25,7 +25,7 @@
 use alloc::vec::Vec;
 use core::arch::x86_64::*;
 
-use crate::coder::table_lanes::propagate_carry;
+use crate::coder::lane_enc::propagate_carry;
 
 /// Whether the running CPU has AVX2.
 pub(crate) fn available() -> bool {

@@ -1,0 +1,346 @@
+//! The lane decoder: reads what [`LaneEncoder`](super::lane_enc) wrote,
+//! in pieces, each piece with its own byte table.
+//!
+//! All lane streams are copied back to back into one buffer, each followed
+//! by [`LANE_PAD`] zero bytes, so a step may read a few bytes ahead without
+//! a bounds branch. Byte `i` of the output comes from lane `i mod n`,
+//! counted across calls. A step finds the slot `code / (range >> log2_total)`
+//! in the table (one packed entry gives symbol, cumulative frequency and
+//! frequency), then narrows and renormalises exactly as the encoder did.
+//!
+//! Input checks are batched: rows are decoded in chunks of [`CHUNK_ROWS`],
+//! and before each chunk a lane that has read more than its stream plus the
+//! four implicit zero bytes is reported truncated (the padding covers the
+//! reads of one chunk). A lane whose `code` ever leaves its interval is
+//! corrupt; both verdicts come out of [`finish`](LaneDecoder::finish), so
+//! the work done is bounded by the output length whatever the input.
+//!
+//! Invariants are those of the plain coder: `2^24 <= range`, and
+//! `code < range` for a valid stream.
+
+use alloc::vec::Vec;
+
+use crate::error::{ErrorKind, Result};
+
+const TOP: u32 = 1 << 24;
+
+/// Rows decoded between two checks of the lanes' read positions.
+pub(crate) const CHUNK_ROWS: usize = 64;
+
+/// Zero bytes after each lane in the decoder's copy of the input: the four
+/// implicit zeros a lane may read, two bytes a step for a chunk of
+/// `CHUNK_ROWS` steps, and three for a four-byte read at the last position.
+pub(crate) const LANE_PAD: usize = 4 + 2 * CHUNK_ROWS + 4;
+
+/// One lane's decoding state; `pos` is an offset into the padded copy of all
+/// lanes.
+#[derive(Clone, Copy)]
+pub(crate) struct LaneState {
+    pub(crate) range: u32,
+    pub(crate) code: u32,
+    pub(crate) pos: usize,
+    pub(crate) bad: bool,
+}
+
+impl LaneState {
+    fn start(buffer: &[u8], at: usize) -> Self {
+        let mut code = 0u32;
+        for &b in &buffer[at..at + 4] {
+            code = code << 8 | u32::from(b);
+        }
+        LaneState {
+            range: u32::MAX,
+            code,
+            pos: at + 4,
+            bad: code == u32::MAX,
+        }
+    }
+}
+
+/// The decoding tables of one byte table, one entry per slot of the total.
+pub(crate) struct DecodeTables {
+    /// Per slot: `cum | (freq - 1) << 12 | symbol << 24` when `packed`
+    /// (totals up to 2^12), else `cum | (freq - 1) << 16`.
+    pub(crate) slots: Vec<u32>,
+    /// Per slot: its symbol; three zero bytes follow for four-byte reads.
+    pub(crate) symbols: Vec<u8>,
+    pub(crate) shift: u32,
+    pub(crate) total: u32,
+    pub(crate) packed: bool,
+}
+
+impl DecodeTables {
+    /// The tables of `freq` (at most 256 symbols, summing to `2^shift`,
+    /// `shift <= 16`) with cumulative frequencies `cum`.
+    pub(crate) fn new(freq: &[u32], cum: &[u32], shift: u32) -> Self {
+        let mut t = DecodeTables {
+            slots: Vec::new(),
+            symbols: Vec::new(),
+            shift,
+            total: 1 << shift,
+            packed: shift <= 12,
+        };
+        t.set(freq, cum, shift);
+        t
+    }
+
+    /// Replaces the tables' contents, reusing their storage.
+    pub(crate) fn set(&mut self, freq: &[u32], cum: &[u32], shift: u32) {
+        debug_assert!(freq.len() <= 256 && shift <= 16);
+        let total = 1usize << shift;
+        self.shift = shift;
+        self.total = total as u32;
+        self.packed = shift <= 12;
+        self.slots.resize(total, 0);
+        self.symbols.resize(total + 3, 0);
+        for (s, (&f, &c)) in freq.iter().zip(cum).enumerate() {
+            if f == 0 {
+                continue;
+            }
+            let entry = if self.packed {
+                c | (f - 1) << 12 | (s as u32) << 24
+            } else {
+                c | (f - 1) << 16
+            };
+            let span = c as usize..(c + f) as usize;
+            self.slots[span.clone()].fill(entry);
+            self.symbols[span].fill(s as u8);
+        }
+    }
+
+    /// The slot's cumulative frequency and frequency.
+    #[inline(always)]
+    fn span(&self, entry: u32) -> (u32, u32) {
+        if self.packed {
+            (entry & 0xFFF, (entry >> 12 & 0xFFF) + 1)
+        } else {
+            (entry & 0xFFFF, (entry >> 16) + 1)
+        }
+    }
+}
+
+/// One decoding step; returns the symbol. Positions stay inside the lane's
+/// padding (checked by the caller between chunks), where bytes read as zero.
+#[inline(always)]
+fn decode_step(lane: &mut LaneState, buffer: &[u8], tables: &DecodeTables) -> u8 {
+    let total = tables.total;
+    let r = (lane.range >> tables.shift).max(1);
+    let t = (lane.code / r).min(total - 1) as usize;
+    let e = tables.slots.get(t).copied().unwrap_or(0);
+    let sym = tables.symbols.get(t).copied().unwrap_or(0);
+    let (cum, freq) = tables.span(e);
+    let offset = r.wrapping_mul(cum);
+    lane.code = lane.code.wrapping_sub(offset);
+    lane.range = if cum + freq < total {
+        r.wrapping_mul(freq)
+    } else {
+        lane.range.wrapping_sub(offset)
+    };
+    // At most two bytes per symbol (see the encoder's step); branch-free.
+    for _ in 0..2 {
+        let step = u32::from(lane.range < TOP);
+        let byte = u32::from(buffer.get(lane.pos).copied().unwrap_or(0));
+        lane.code = (lane.code << (8 * step)) | (byte & 0u32.wrapping_sub(step));
+        lane.range <<= 8 * step;
+        lane.pos += step as usize;
+    }
+    lane.bad |= lane.code >= lane.range;
+    sym
+}
+
+/// The vector kernel a lane decoder may use (none off x86-64).
+#[cfg(target_arch = "x86_64")]
+pub(crate) type Vector = Option<super::table_simd::Kernel>;
+/// The vector kernel a lane decoder may use (none off x86-64).
+#[cfg(not(target_arch = "x86_64"))]
+pub(crate) type Vector = Option<core::convert::Infallible>;
+
+/// The best vector kernel for `lanes` lanes on this CPU, if any.
+pub(crate) fn best_kernel(lanes: usize) -> Vector {
+    #[cfg(target_arch = "x86_64")]
+    return super::table_simd::Kernel::for_lanes(lanes);
+    #[cfg(not(target_arch = "x86_64"))]
+    {
+        let _ = lanes;
+        None
+    }
+}
+
+/// `n` lane decoders over one padded copy of their streams (see the module
+/// docs).
+pub(crate) struct LaneDecoder {
+    buffer: Vec<u8>,
+    lanes: Vec<LaneState>,
+    starts: Vec<usize>,
+    lens: Vec<usize>,
+    /// The lane the next byte comes from.
+    next: usize,
+    #[cfg_attr(not(target_arch = "x86_64"), allow(dead_code))]
+    kernel: Vector,
+}
+
+impl LaneDecoder {
+    /// Decoders for `streams` (`1 ..= 32` of them), using `kernel` for whole
+    /// rows where it applies.
+    pub(crate) fn new(streams: &[&[u8]], kernel: Vector) -> Self {
+        let size: usize = streams.iter().map(|s| s.len() + LANE_PAD).sum();
+        let mut buffer = Vec::with_capacity(size);
+        let mut starts = Vec::with_capacity(streams.len());
+        for s in streams {
+            starts.push(buffer.len());
+            buffer.extend_from_slice(s);
+            buffer.resize(buffer.len() + LANE_PAD, 0);
+        }
+        let lanes = starts
+            .iter()
+            .map(|&at| LaneState::start(&buffer, at))
+            .collect();
+        #[cfg(target_arch = "x86_64")]
+        let kernel = kernel.filter(|_| size <= i32::MAX as usize);
+        LaneDecoder {
+            buffer,
+            lanes,
+            starts,
+            lens: streams.iter().map(|s| s.len()).collect(),
+            next: 0,
+            kernel,
+        }
+    }
+
+    /// A lane that has read past its stream and the four implicit zeros.
+    fn truncated(&self) -> Result<()> {
+        for ((lane, &at), &len) in self.lanes.iter().zip(&self.starts).zip(&self.lens) {
+            if lane.pos - at > len + 4 {
+                return Err(ErrorKind::Truncated { offset: len as u64 }.into());
+            }
+        }
+        Ok(())
+    }
+
+    /// Decodes the next `out.len()` bytes of the block with `tables`.
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::Truncated`] as soon as a lane has read past its end (the
+    /// bytes of `out` are then unspecified). Corrupt lanes are reported by
+    /// [`finish`](Self::finish).
+    pub(crate) fn decode(&mut self, tables: &DecodeTables, out: &mut [u8]) -> Result<()> {
+        let n = self.lanes.len();
+        let head = if self.next == 0 {
+            0
+        } else {
+            (n - self.next).min(out.len())
+        };
+        let (head, rest) = out.split_at_mut(head);
+        self.truncated()?;
+        for b in head {
+            *b = decode_step(&mut self.lanes[self.next], &self.buffer, tables);
+            self.next = (self.next + 1) % n;
+        }
+        let rows = rest.len() / n;
+        let (body, tail) = rest.split_at_mut(rows * n);
+        for chunk in body.chunks_mut(CHUNK_ROWS * n) {
+            // A lane past its four implicit zeros is truncated for good: stop
+            // before its reads could leave its padding.
+            self.truncated()?;
+            self.chunk(tables, chunk);
+        }
+        self.truncated()?;
+        for (lane, b) in self.lanes.iter_mut().zip(tail.iter_mut()) {
+            *b = decode_step(lane, &self.buffer, tables);
+        }
+        if !tail.is_empty() {
+            self.next = tail.len();
+        }
+        Ok(())
+    }
+
+    /// Checks that every lane was read exactly to its end, and none left its
+    /// interval.
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::Truncated`], [`ErrorKind::CorruptStream`] or
+    /// [`ErrorKind::TrailingBytes`], for the first lane that shows it.
+    pub(crate) fn finish(&self) -> Result<()> {
+        for ((lane, &at), &len) in self.lanes.iter().zip(&self.starts).zip(&self.lens) {
+            let used = lane.pos - at;
+            if used > len + 4 {
+                return Err(ErrorKind::Truncated { offset: len as u64 }.into());
+            }
+            if lane.bad {
+                return Err(ErrorKind::CorruptStream {
+                    offset: used.min(len) as u64,
+                    reason: "code value outside the coder interval",
+                }
+                .into());
+            }
+            if used < len {
+                return Err(ErrorKind::TrailingBytes {
+                    offset: used as u64,
+                    count: (len - used) as u64,
+                }
+                .into());
+            }
+        }
+        Ok(())
+    }
+
+    /// Decodes whole rows (one symbol from every lane each) into `chunk`.
+    fn chunk(&mut self, tables: &DecodeTables, chunk: &mut [u8]) {
+        let n = self.lanes.len();
+        let (lanes, buffer) = (&mut self.lanes[..], &self.buffer[..]);
+        #[cfg(target_arch = "x86_64")]
+        if let Some(kernel) = self.kernel {
+            // The kernels' quotient bound needs `r < 2^24`: totals of at
+            // least 2^8.
+            if tables.shift >= 8 {
+                return super::table_simd::decode_rows(kernel, lanes, buffer, tables, chunk);
+            }
+        }
+        match n {
+            4 => decode_fixed::<4>(lanes, buffer, tables, chunk),
+            8 => decode_fixed::<8>(lanes, buffer, tables, chunk),
+            _ => {
+                for row in chunk.chunks_exact_mut(n) {
+                    for (lane, b) in lanes.iter_mut().zip(row) {
+                        *b = decode_step(lane, buffer, tables);
+                    }
+                }
+            }
+        }
+    }
+}
+
+/// The scalar rows with the lane count fixed, so the states stay in registers.
+fn decode_fixed<const N: usize>(
+    lanes: &mut [LaneState],
+    buffer: &[u8],
+    tables: &DecodeTables,
+    chunk: &mut [u8],
+) {
+    let mut state: [LaneState; N] = core::array::from_fn(|l| lanes[l]);
+    for row in chunk.chunks_exact_mut(N) {
+        for l in 0..N {
+            row[l] = decode_step(&mut state[l], buffer, tables);
+        }
+    }
+    lanes.copy_from_slice(&state);
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use alloc::vec;
+
+    #[test]
+    fn tables_reuse_their_storage() {
+        let mut t = DecodeTables::new(&[1, 255], &[0, 1], 8);
+        assert_eq!(t.symbols[0], 0);
+        assert!(t.symbols[1..256].iter().all(|&s| s == 1));
+        t.set(&[200, 56], &[0, 200], 8);
+        assert!(t.symbols[..200].iter().all(|&s| s == 0));
+        assert!(t.symbols[200..256].iter().all(|&s| s == 1));
+        assert_eq!(vec![0u8; 3], t.symbols[256..]);
+    }
+}

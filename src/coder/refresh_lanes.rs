@@ -1,0 +1,230 @@
+//! The fast path for [`RefreshModel`] over interleaved lanes.
+//!
+//! A refreshed model's table is fixed for a whole segment, so a segment is
+//! coded exactly like a block with a static table: the [lane
+//! encoder](super::lane_enc) and [lane decoder](super::lane_dec) (vector
+//! kernels included) run over it, keeping their states from one segment to
+//! the next; between segments the model learns the segment's bytes in one
+//! step and the coding tables are rebuilt from its new frequencies.
+//!
+//! Invariant: [`encode_refresh_lanes`] writes exactly the streams of
+//! [`encode_interleaved`](super::encode_interleaved) with the same model
+//! and lane count, and both leave the model in the same state; the same
+//! holds for the decoders.
+
+use alloc::vec::Vec;
+
+use crate::coder::lane_dec::{best_kernel, DecodeTables, LaneDecoder, Vector};
+use crate::coder::lane_enc::{EncodeTable, LaneEncoder};
+use crate::coder::lanes::MAX_LANES;
+use crate::error::{ErrorKind, Result};
+use crate::model::{Model, RefreshModel};
+
+fn check_lanes(lanes: usize) -> Result<()> {
+    if lanes == 0 || lanes > MAX_LANES {
+        return Err(ErrorKind::InvalidParameter {
+            name: "lanes",
+            reason: "must be 1 ..= 32",
+        }
+        .into());
+    }
+    Ok(())
+}
+
+/// Codes `data` with `model` over `lanes` interleaved coders, a segment at
+/// a time; the model learns every byte.
+///
+/// Output is identical to [`encode_interleaved`](super::encode_interleaved)
+/// with the same model and lane count.
+///
+/// # Errors
+///
+/// [`ErrorKind::InvalidParameter`] for a lane count outside `1 ..= 32`;
+/// [`ErrorKind::UncodableSymbol`] for a byte the model cannot code (nothing
+/// is learnt then).
+///
+/// # Example
+///
+/// ```
+/// use subrange::coder::{decode_refresh_lanes, encode_refresh_lanes};
+/// use subrange::model::RefreshModel;
+///
+/// # fn main() -> Result<(), subrange::Error> {
+/// let data = b"G107,1440,212,1123,98\nG114,1440,208,1081,97\n".repeat(200);
+/// let mut model = RefreshModel::new(256)?;
+/// let lanes = encode_refresh_lanes(&mut model, &data, 8)?;
+/// let coded: usize = lanes.iter().map(Vec::len).sum();
+/// assert!(coded < data.len() / 2);
+///
+/// let views: Vec<&[u8]> = lanes.iter().map(Vec::as_slice).collect();
+/// let mut model = RefreshModel::new(256)?;
+/// let mut back = vec![0; data.len()];
+/// decode_refresh_lanes(&mut model, &views, &mut back)?;
+/// assert_eq!(back, data);
+/// # Ok(())
+/// # }
+/// ```
+pub fn encode_refresh_lanes(
+    model: &mut RefreshModel,
+    data: &[u8],
+    lanes: usize,
+) -> Result<Vec<Vec<u8>>> {
+    check_lanes(lanes)?;
+    let mut table = EncodeTable::new(model.frequencies(), model.cumulative(), model.log2_total());
+    // The set of codable symbols never changes, so the first table tells.
+    if let Some(b) = table.uncodable(data) {
+        return Err(ErrorKind::UncodableSymbol {
+            symbol: b.into(),
+            alphabet: model.alphabet_size(),
+        }
+        .into());
+    }
+    let mut enc = LaneEncoder::new(data.len(), lanes);
+    let mut rest = data;
+    while !rest.is_empty() {
+        let left = model.segment_left();
+        let (segment, next) = rest.split_at(left.min(rest.len() as u64) as usize);
+        enc.code(segment, &table);
+        model.update_run(segment);
+        if segment.len() as u64 == left {
+            table.set(model.frequencies(), model.cumulative(), model.log2_total());
+        }
+        rest = next;
+    }
+    Ok(enc.finish())
+}
+
+/// Decodes `out.len()` bytes coded by [`encode_refresh_lanes`] (or by
+/// [`encode_interleaved`](super::encode_interleaved) with a
+/// [`RefreshModel`]) with `streams.len()` lanes; the model learns every
+/// byte.
+///
+/// # Errors
+///
+/// [`ErrorKind::InvalidParameter`] for a lane count outside `1 ..= 32`;
+/// [`ErrorKind::Truncated`], [`ErrorKind::CorruptStream`] or
+/// [`ErrorKind::TrailingBytes`] when a lane's stream is damaged. The work
+/// done is bounded by `out.len()` whatever the input.
+pub fn decode_refresh_lanes(
+    model: &mut RefreshModel,
+    streams: &[&[u8]],
+    out: &mut [u8],
+) -> Result<()> {
+    decode_with(model, streams, out, best_kernel(streams.len()))
+}
+
+/// [`decode_refresh_lanes`] with the vector kernel chosen by the caller.
+pub(crate) fn decode_with(
+    model: &mut RefreshModel,
+    streams: &[&[u8]],
+    out: &mut [u8],
+    kernel: Vector,
+) -> Result<()> {
+    check_lanes(streams.len())?;
+    let mut tables = DecodeTables::new(model.frequencies(), model.cumulative(), model.log2_total());
+    let mut dec = LaneDecoder::new(streams, kernel);
+    let mut rest = out;
+    while !rest.is_empty() {
+        let left = model.segment_left();
+        let len = left.min(rest.len() as u64) as usize;
+        let (segment, next) = rest.split_at_mut(len);
+        dec.decode(&tables, segment)?;
+        model.update_run(segment);
+        if len as u64 == left {
+            tables.set(model.frequencies(), model.cumulative(), model.log2_total());
+        }
+        rest = next;
+    }
+    dec.finish()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::coder::{decode_interleaved, encode_interleaved};
+    use crate::model::RefreshParams;
+    use alloc::vec;
+
+    fn drifting(len: usize) -> Vec<u8> {
+        (0..len as u32)
+            .map(|i| {
+                let phase = i / 3000 % 5;
+                (i.wrapping_mul(2_654_435_761) >> 24) as u8 % (4 + 50 * phase as u8) + phase as u8
+            })
+            .collect()
+    }
+
+    #[test]
+    fn identical_to_the_generic_path() {
+        let data = drifting(70_001);
+        for log2_total in [8u32, 12, 15] {
+            let p = RefreshParams {
+                log2_total,
+                max_period: 4096,
+                limit: 1 << 14,
+                ..RefreshParams::default()
+            };
+            for lanes in [1usize, 3, 4, 8, 24, 32] {
+                let fresh = || RefreshModel::with_params(256, p).unwrap();
+                let (mut a, mut b) = (fresh(), fresh());
+                let fast = encode_refresh_lanes(&mut a, &data, lanes).unwrap();
+                let slow = encode_interleaved(&mut b, &data, lanes).unwrap();
+                assert_eq!(fast, slow, "log2_total={log2_total} lanes={lanes}");
+                assert_eq!(a, b);
+                let views: Vec<&[u8]> = fast.iter().map(Vec::as_slice).collect();
+                let (mut c, mut d) = (fresh(), fresh());
+                let mut out = vec![0u8; data.len()];
+                decode_refresh_lanes(&mut c, &views, &mut out).unwrap();
+                assert_eq!(out, data);
+                let mut out2 = vec![0u8; data.len()];
+                decode_interleaved(&mut d, &views, &mut out2).unwrap();
+                assert_eq!(out2, data);
+                assert_eq!(c, a);
+            }
+        }
+    }
+
+    /// The vector and scalar decoders agree on clean and damaged lanes.
+    #[test]
+    fn kernels_agree_with_the_scalar_steps() {
+        let data = drifting(40_000);
+        let fresh = || RefreshModel::new(256).unwrap();
+        let mut streams = encode_refresh_lanes(&mut fresh(), &data, 16).unwrap();
+        for damage in 0..3 {
+            match damage {
+                1 => streams[5][40] ^= 0x21,
+                2 => streams[9].truncate(100),
+                _ => {}
+            }
+            let views: Vec<&[u8]> = streams.iter().map(Vec::as_slice).collect();
+            let mut want = vec![0u8; data.len()];
+            let verdict = decode_with(&mut fresh(), &views, &mut want, None)
+                .map_err(|e| alloc::format!("{e:?}"));
+            let mut got = vec![0u8; data.len()];
+            let v = decode_refresh_lanes(&mut fresh(), &views, &mut got)
+                .map_err(|e| alloc::format!("{e:?}"));
+            assert_eq!(v, verdict, "damage {damage}");
+            if damage == 0 {
+                assert_eq!(got, data);
+            }
+            if v.is_ok() || damage == 1 {
+                assert_eq!(got, want);
+            }
+        }
+    }
+
+    #[test]
+    fn uncodable_bytes_and_bad_lane_counts() {
+        let mut m = RefreshModel::new(10).unwrap();
+        let err = encode_refresh_lanes(&mut m, &[1, 2, 200], 2).unwrap_err();
+        assert!(matches!(
+            err.kind(),
+            ErrorKind::UncodableSymbol { symbol: 200, .. }
+        ));
+        assert_eq!(m, RefreshModel::new(10).unwrap());
+        assert!(encode_refresh_lanes(&mut m, &[1], 0).is_err());
+        assert!(encode_refresh_lanes(&mut m, &[1], 33).is_err());
+        let mut out = [0u8; 4];
+        assert!(decode_refresh_lanes(&mut m, &[], &mut out).is_err());
+    }
+}

@@ -1,0 +1,503 @@
+//! The refreshed adaptive order-0 model.
+//!
+//! Counts learn from every coded symbol, as in any adaptive model, but the
+//! frequencies the coder uses change only at *refreshes*: the model codes a
+//! segment of symbols with one fixed table whose total is a power of two,
+//! then rebuilds the table from the counts. Segments start short (the table
+//! follows the first symbols closely) and double in length up to a longest
+//! period, so the rebuilding costs little per symbol. Between refreshes
+//! coding a symbol is a table lookup and a shift instead of a division and a
+//! tree walk, and — because the table does not depend on the symbols of the
+//! segment being coded — interleaved lanes can code a whole segment with
+//! the byte-table kernels of the static lanes (see
+//! [`encode_refresh_lanes`](crate::coder::encode_refresh_lanes)). Adapting
+//! per segment instead of per symbol costs a little on short inputs and
+//! next to nothing on long ones.
+//!
+//! At each refresh, counts whose sum exceeds `limit` are halved (rounding
+//! down) until it does not, so old statistics fade and the model follows
+//! drift. The new table gives every codable symbol a frequency of at least 1
+//! and shares the rest of the total in proportion to the counts, rounded to
+//! the nearest unit; the rounding surplus or deficit goes to the most
+//! frequent symbol (see [`RefreshModel::frequencies`]). Symbols can be
+//! excluded up front ([`RefreshModel::with_symbols`]): they get frequency
+//! 0 and leave their share to the others, which is how a block coder that
+//! knows its block's byte set avoids paying for absent bytes.
+//!
+//! Invariants: the frequencies of the codable symbols are all at least 1
+//! and sum to exactly `2^log2_total`; the table changes only after the last
+//! symbol of a segment; encoder and decoder that start from the same
+//! parameters and see the same symbols hold identical tables at every step.
+
+use alloc::vec;
+use alloc::vec::Vec;
+
+use crate::error::{ErrorKind, Result};
+use crate::model::{Model, Span};
+
+/// Largest alphabet of a [`RefreshModel`]: the byte values.
+pub const MAX_REFRESH_ALPHABET: u32 = 256;
+
+/// Parameters of a [`RefreshModel`].
+///
+/// # Example
+///
+/// ```
+/// use subrange::model::{RefreshModel, RefreshParams};
+///
+/// let mut params = RefreshParams::default();
+/// params.max_period = 1024; // refresh at least every 1024 symbols
+/// params.limit = 1 << 12; // forget faster
+/// let model = RefreshModel::with_params(256, params).unwrap();
+/// assert_eq!(model.params().max_period, 1024);
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[non_exhaustive]
+pub struct RefreshParams {
+    /// The table's total is `2^log2_total` (default 12; at most 16, and
+    /// at least enough for every codable symbol to have frequency 1).
+    pub log2_total: u32,
+    /// Symbols coded with the first table (default 32, at least 1); each
+    /// later segment is twice as long as the one before, up to `max_period`.
+    pub first_period: u32,
+    /// Longest segment between two refreshes (default 8192).
+    pub max_period: u32,
+    /// At a refresh, counts are halved while their sum exceeds this
+    /// (default 2^16, at least 1).
+    pub limit: u32,
+}
+
+impl Default for RefreshParams {
+    fn default() -> Self {
+        RefreshParams {
+            log2_total: 12,
+            first_period: 32,
+            max_period: 8192,
+            limit: 1 << 16,
+        }
+    }
+}
+
+/// An adaptive order-0 model over at most 256 symbols whose coding table
+/// is rebuilt from its counts at growing intervals (see the module docs).
+///
+/// # Example
+///
+/// ```
+/// use subrange::coder::{Decoder, Encoder};
+/// use subrange::model::RefreshModel;
+///
+/// # fn main() -> Result<(), subrange::Error> {
+/// let log = b"G107 level 212 cm, flow 1123 l/s\n".repeat(40);
+/// let mut model = RefreshModel::new(256)?;
+/// let mut enc = Encoder::new();
+/// for &b in &log {
+///     enc.encode(&mut model, b.into())?;
+/// }
+/// let bytes = enc.finish()?;
+/// assert!(bytes.len() < log.len() / 2);
+///
+/// let mut model = RefreshModel::new(256)?;
+/// let mut dec = Decoder::new(&bytes)?;
+/// for &b in &log {
+///     assert_eq!(dec.decode(&mut model)?, u32::from(b));
+/// }
+/// # Ok(())
+/// # }
+/// ```
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct RefreshModel {
+    params: RefreshParams,
+    /// Which symbols can be coded.
+    codable: Vec<bool>,
+    counts: Vec<u32>,
+    count_total: u64,
+    freq: Vec<u32>,
+    /// `cum[s]` is the sum of `freq[..s]`; one more entry holds the total.
+    cum: Vec<u32>,
+    /// Length of the current segment, and symbols left in it.
+    period: u64,
+    left: u64,
+}
+
+fn invalid(name: &'static str, reason: &'static str) -> crate::Error {
+    ErrorKind::InvalidParameter { name, reason }.into()
+}
+
+impl RefreshModel {
+    /// A model over `alphabet` symbols (`1 ..= 256`), default parameters.
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::InvalidParameter`] for an alphabet outside `1 ..= 256`.
+    pub fn new(alphabet: u32) -> Result<Self> {
+        Self::with_params(alphabet, RefreshParams::default())
+    }
+
+    /// A model over `alphabet` symbols with `params`.
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::InvalidParameter`] for an alphabet outside `1 ..= 256`
+    /// or parameters that break the rules of [`RefreshParams`].
+    pub fn with_params(alphabet: u32, params: RefreshParams) -> Result<Self> {
+        if alphabet == 0 || alphabet > MAX_REFRESH_ALPHABET {
+            return Err(invalid("alphabet", "must be 1 ..= 256"));
+        }
+        Self::with_symbols(&vec![true; alphabet as usize], params)
+    }
+
+    /// A model over `codable.len()` symbols of which only those marked
+    /// `true` can be coded; the others have frequency 0.
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::InvalidParameter`] for more than 256 symbols, none
+    /// codable, a total smaller than the number of codable symbols, or
+    /// parameters that break the rules of [`RefreshParams`].
+    ///
+    /// # Example
+    ///
+    /// ```
+    /// use subrange::model::{Model, RefreshModel, RefreshParams};
+    ///
+    /// let digits: Vec<bool> = (0..256).map(|b| (b'0'..=b'9').contains(&(b as u8))).collect();
+    /// let model = RefreshModel::with_symbols(&digits, RefreshParams::default()).unwrap();
+    /// assert!(model.span(u32::from(b'7')).is_some());
+    /// assert!(model.span(u32::from(b'x')).is_none());
+    /// ```
+    pub fn with_symbols(codable: &[bool], params: RefreshParams) -> Result<Self> {
+        if codable.is_empty() || codable.len() > MAX_REFRESH_ALPHABET as usize {
+            return Err(invalid("alphabet", "must be 1 ..= 256"));
+        }
+        let present = codable.iter().filter(|&&c| c).count();
+        if present == 0 {
+            return Err(invalid("symbols", "at least one symbol must be codable"));
+        }
+        if params.log2_total > 16 || present > 1 << params.log2_total {
+            return Err(invalid(
+                "log2_total",
+                "must be at most 16 and leave every codable symbol a unit",
+            ));
+        }
+        if params.first_period == 0 || params.max_period < params.first_period {
+            return Err(invalid(
+                "period",
+                "first_period must be at least 1 and max_period at least first_period",
+            ));
+        }
+        if params.limit == 0 {
+            return Err(invalid("limit", "must be at least 1"));
+        }
+        let n = codable.len();
+        let mut model = RefreshModel {
+            params,
+            codable: codable.to_vec(),
+            counts: vec![0; n],
+            count_total: 0,
+            freq: vec![0; n],
+            cum: vec![0; n + 1],
+            period: u64::from(params.first_period),
+            left: u64::from(params.first_period),
+        };
+        model.rebuild();
+        Ok(model)
+    }
+
+    /// The model's parameters.
+    pub fn params(&self) -> RefreshParams {
+        self.params
+    }
+
+    /// The current table's frequencies, one per symbol (0 for symbols that
+    /// cannot be coded).
+    ///
+    /// Each codable symbol `s` gets `1 + round(c_s · (2^k − m) / C)` where
+    /// `c_s` is its count, `C` the sum of the counts, `m` the number of
+    /// codable symbols and `2^k` the total; the difference to `2^k` left by
+    /// the rounding is given to (or, when negative, first taken from) the
+    /// most frequent symbol. With no counts yet the total is shared
+    /// equally.
+    pub fn frequencies(&self) -> &[u32] {
+        &self.freq
+    }
+
+    /// The current table's cumulative frequencies: `alphabet + 1` entries,
+    /// the last one the total.
+    pub fn cumulative(&self) -> &[u32] {
+        &self.cum
+    }
+
+    /// `log2` of the total.
+    pub fn log2_total(&self) -> u32 {
+        self.params.log2_total
+    }
+
+    /// Symbols still to be coded with the current table before it is
+    /// rebuilt (at least 1).
+    pub fn segment_left(&self) -> u64 {
+        self.left
+    }
+
+    /// Learns a run of coded symbols at once: the same as calling
+    /// [`update`](Model::update) for each, in order.
+    ///
+    /// # Panics
+    ///
+    /// When `symbols` is longer than [`segment_left`](Self::segment_left)
+    /// (a run must not cross a refresh).
+    pub fn update_run(&mut self, symbols: &[u8]) {
+        assert!(symbols.len() as u64 <= self.left, "a run crosses a refresh");
+        let mut histogram = [0u32; 256];
+        for &b in symbols {
+            histogram[usize::from(b)] += 1;
+        }
+        for (c, &h) in self.counts.iter_mut().zip(histogram.iter()) {
+            *c += h;
+        }
+        self.count_total += symbols.len() as u64;
+        self.left -= symbols.len() as u64;
+        if self.left == 0 {
+            self.refresh();
+        }
+    }
+
+    fn refresh(&mut self) {
+        while self.count_total > u64::from(self.params.limit) {
+            self.count_total = 0;
+            for c in &mut self.counts {
+                *c >>= 1;
+                self.count_total += u64::from(*c);
+            }
+        }
+        self.rebuild();
+        self.period = (self.period * 2).min(u64::from(self.params.max_period));
+        self.left = self.period;
+    }
+
+    /// Quantises the counts to the table (see [`frequencies`](Self::frequencies)).
+    fn rebuild(&mut self) {
+        let total = 1u32 << self.params.log2_total;
+        let present = self.codable.iter().filter(|&&c| c).count() as u32;
+        let counted: u64 = self
+            .counts
+            .iter()
+            .zip(&self.codable)
+            .filter(|(_, &c)| c)
+            .map(|(&n, _)| u64::from(n))
+            .sum();
+        let spare = u64::from(total - present);
+        if let Some(scale) = (spare << 32).checked_div(counted) {
+            let mut sum = 0u32;
+            let mut top: Option<(usize, u32)> = None;
+            for (s, (f, (&n, &c))) in self
+                .freq
+                .iter_mut()
+                .zip(self.counts.iter().zip(&self.codable))
+                .enumerate()
+            {
+                *f = 0;
+                if c {
+                    *f = 1 + ((u64::from(n) * scale + (1 << 31)) >> 32) as u32;
+                    sum += *f;
+                    if top.is_none_or(|(_, best)| n > best) {
+                        top = Some((s, n));
+                    }
+                }
+            }
+            let top = top.map_or(0, |(s, _)| s);
+            if sum <= total {
+                self.freq[top] += total - sum;
+            } else {
+                self.take(top, sum - total);
+            }
+        } else {
+            let (each, mut extra) = (total / present, total % present);
+            for (f, &c) in self.freq.iter_mut().zip(&self.codable) {
+                *f = 0;
+                if c {
+                    *f = each + u32::from(extra > 0);
+                    extra = extra.saturating_sub(1);
+                }
+            }
+        }
+        let mut acc = 0;
+        for (c, &f) in self.cum.iter_mut().zip(&self.freq) {
+            *c = acc;
+            acc += f;
+        }
+        self.cum[self.freq.len()] = acc;
+        debug_assert_eq!(acc, total);
+    }
+
+    /// Removes `excess` units: up to half of `top`'s frequency from it, the
+    /// rest one unit at a time from every symbol above 1, in symbol order.
+    fn take(&mut self, top: usize, mut excess: u32) {
+        let first = excess.min((self.freq[top] - 1) / 2);
+        self.freq[top] -= first;
+        excess -= first;
+        while excess > 0 {
+            for f in self.freq.iter_mut() {
+                if excess > 0 && *f > 1 {
+                    *f -= 1;
+                    excess -= 1;
+                }
+            }
+        }
+    }
+}
+
+impl Model for RefreshModel {
+    fn alphabet_size(&self) -> u32 {
+        self.freq.len() as u32
+    }
+
+    #[inline]
+    fn total(&self) -> u32 {
+        1 << self.params.log2_total
+    }
+
+    #[inline]
+    fn span(&self, symbol: u32) -> Option<Span> {
+        let s = symbol as usize;
+        let f = *self.freq.get(s)?;
+        (f > 0).then(|| Span::new(self.cum[s], f))
+    }
+
+    fn locate(&self, target: u32) -> (u32, Span) {
+        // The last symbol whose cumulative frequency is at most `target`
+        // and whose frequency is not 0.
+        let upper = self.cum[1..].partition_point(|&c| c <= target);
+        let s = upper.min(self.freq.len() - 1);
+        (s as u32, Span::new(self.cum[s], self.freq[s]))
+    }
+
+    #[inline]
+    fn update(&mut self, symbol: u32) {
+        if let Some(c) = self.counts.get_mut(symbol as usize) {
+            *c += 1;
+            self.count_total += 1;
+        }
+        self.left -= 1;
+        if self.left == 0 {
+            self.refresh();
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn check_table(m: &RefreshModel) {
+        let total: u32 = m.frequencies().iter().sum();
+        assert_eq!(total, m.total());
+        for (s, &f) in m.frequencies().iter().enumerate() {
+            assert_eq!(f > 0, m.codable[s], "symbol {s}");
+        }
+    }
+
+    #[test]
+    fn tables_stay_exact_through_skewed_and_flat_counts() {
+        let mut m = RefreshModel::new(256).unwrap();
+        check_table(&m);
+        assert!(m.frequencies().iter().all(|&f| f == 16));
+        // All one symbol, then all symbols equally: rounding in both
+        // directions.
+        for i in 0..100_000u32 {
+            let s = if i < 30_000 { 7 } else { i % 256 };
+            m.update(s);
+            if m.segment_left() == m.period {
+                check_table(&m);
+            }
+        }
+        check_table(&m);
+    }
+
+    #[test]
+    fn segments_double_up_to_the_longest_period() {
+        let p = RefreshParams {
+            first_period: 4,
+            max_period: 20,
+            ..RefreshParams::default()
+        };
+        let mut m = RefreshModel::with_params(3, p).unwrap();
+        let mut lengths = vec![];
+        let mut run = 0;
+        for _ in 0..100 {
+            run += 1;
+            m.update(1);
+            if m.segment_left() == m.period {
+                lengths.push(run);
+                run = 0;
+            }
+        }
+        assert_eq!(&lengths[..5], &[4, 8, 16, 20, 20]);
+    }
+
+    #[test]
+    fn halving_keeps_counts_under_the_limit() {
+        let p = RefreshParams {
+            limit: 100,
+            ..RefreshParams::default()
+        };
+        let mut m = RefreshModel::with_params(4, p).unwrap();
+        for i in 0..5000u32 {
+            m.update(i % 3);
+            assert!(m.count_total <= 100 + m.period);
+        }
+        // Symbol 3 was never seen: it keeps the floor of one unit.
+        assert_eq!(m.frequencies()[3], 1);
+    }
+
+    #[test]
+    fn update_run_equals_single_updates() {
+        let data: Vec<u8> = (0..20_000u32).map(|i| (i * i % 251) as u8).collect();
+        let mut a = RefreshModel::new(256).unwrap();
+        let mut b = a.clone();
+        for &x in &data {
+            a.update(u32::from(x));
+        }
+        let mut rest = &data[..];
+        while !rest.is_empty() {
+            let (run, next) = rest.split_at((b.segment_left() as usize).min(rest.len()));
+            b.update_run(run);
+            rest = next;
+        }
+        assert_eq!(a, b);
+    }
+
+    #[test]
+    fn locate_inverts_span() {
+        let codable: Vec<bool> = (0..40).map(|s| s % 3 != 1).collect();
+        let mut m = RefreshModel::with_symbols(&codable, RefreshParams::default()).unwrap();
+        for i in 0..3000u32 {
+            m.update((i * 7 % 40) / 3 * 3);
+        }
+        for t in 0..m.total() {
+            let (s, span) = m.locate(t);
+            assert_eq!(m.span(s), Some(span));
+            assert!(span.cum <= t && t < span.cum + span.freq);
+        }
+    }
+
+    #[test]
+    fn bad_parameters_are_refused() {
+        assert!(RefreshModel::new(0).is_err());
+        assert!(RefreshModel::new(257).is_err());
+        let mut p = RefreshParams {
+            log2_total: 7,
+            ..RefreshParams::default()
+        };
+        assert!(RefreshModel::with_params(256, p).is_err());
+        assert!(RefreshModel::with_params(128, p).is_ok());
+        p.log2_total = 17;
+        assert!(RefreshModel::with_params(2, p).is_err());
+        let p = RefreshParams {
+            max_period: 8,
+            ..RefreshParams::default()
+        };
+        assert!(RefreshModel::with_params(2, p).is_err());
+        assert!(RefreshModel::with_symbols(&[false; 4], RefreshParams::default()).is_err());
+    }
+}
