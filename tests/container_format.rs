@@ -250,7 +250,7 @@ fn decode_static(payload: &[u8], raw_len: usize, params: &[u64]) -> R<Vec<u8>> {
     Ok(out)
 }
 
-fn decode_adaptive(payload: &[u8], raw_len: usize, params: &[u64]) -> R<Vec<u8>> {
+fn decode_stepwise(payload: &[u8], raw_len: usize, params: &[u64]) -> R<Vec<u8>> {
     let (inc, limit) = (params[0] as u32, params[1] as u32);
     let mut freq = vec![1u32; 256];
     let mut d = RangeDecoder::new(payload)?;
@@ -266,6 +266,127 @@ fn decode_adaptive(payload: &[u8], raw_len: usize, params: &[u64]) -> R<Vec<u8>>
         freq[s] += inc;
     }
     d.end()?;
+    Ok(out)
+}
+
+/// Section 5.3: the byte set.
+fn byte_set(p: &mut Bytes<'_>) -> R<Vec<bool>> {
+    let m = usize::from(p.u8()?) + 1;
+    if m == 256 {
+        return Ok(vec![true; 256]);
+    }
+    let mut set = vec![false; 256];
+    if m <= 31 {
+        let mut last = None;
+        for _ in 0..m {
+            let v = p.u8()?;
+            if last.is_some_and(|l| v <= l) {
+                return Err("byte set order".into());
+            }
+            set[usize::from(v)] = true;
+            last = Some(v);
+        }
+    } else {
+        let map = p.take(32)?;
+        for v in 0..256 {
+            set[v] = (map[v / 8] >> (v % 8)) & 1 == 1;
+        }
+        if set.iter().filter(|&&x| x).count() != m {
+            return Err("byte set size".into());
+        }
+    }
+    Ok(set)
+}
+
+/// Section 5.3: the table built from the counts.
+fn refresh_table(counts: &[u64], set: &[bool], k: u32) -> Vec<u32> {
+    let total = 1u64 << k;
+    let m = set.iter().filter(|&&x| x).count() as u64;
+    let s: u64 = (0..256).filter(|&v| set[v]).map(|v| counts[v]).sum();
+    let mut f = vec![0u64; 256];
+    if s == 0 {
+        let mut extra = total % m;
+        for v in 0..256 {
+            if set[v] {
+                f[v] = total / m + u64::from(extra > 0);
+                extra = extra.saturating_sub(1);
+            }
+        }
+    } else {
+        let spare = total - m;
+        let sh = 31 + s.ilog2() - spare.max(1).ilog2();
+        let q = (u128::from(spare) << sh) / u128::from(s);
+        for v in 0..256 {
+            if set[v] {
+                let x = (u128::from(counts[v]) * q + (1u128 << (sh - 1))) >> sh;
+                f[v] = 1 + x as u64;
+            }
+        }
+        let top = (0..256)
+            .filter(|&v| set[v])
+            .max_by_key(|&v| (counts[v], std::cmp::Reverse(v)))
+            .unwrap();
+        let sum: u64 = f.iter().sum();
+        if sum <= total {
+            f[top] += total - sum;
+        } else {
+            let mut e = sum - total;
+            let first = e.min((f[top] - 1) / 2);
+            f[top] -= first;
+            e -= first;
+            while e > 0 {
+                for x in f.iter_mut() {
+                    if e > 0 && *x > 1 {
+                        *x -= 1;
+                        e -= 1;
+                    }
+                }
+            }
+        }
+    }
+    f.iter().map(|&x| x as u32).collect()
+}
+
+fn decode_adaptive(payload: &[u8], raw_len: usize, params: &[u64]) -> R<Vec<u8>> {
+    let (k, period, limit) = (params[1] as u32, params[2], params[3]);
+    let mut p = Bytes { b: payload, pos: 0 };
+    let n = p.u8()? as usize;
+    if n == 0 || n as u64 > params[0] {
+        return Err("lane count".into());
+    }
+    let set = byte_set(&mut p)?;
+    let mut lens = Vec::new();
+    for _ in 0..n - 1 {
+        lens.push(p.vint()?);
+    }
+    let mut lanes = Vec::new();
+    for &l in &lens {
+        lanes.push(RangeDecoder::new(p.take(l)?)?);
+    }
+    lanes.push(RangeDecoder::new(&payload[p.pos..])?);
+    let mut counts = vec![0u64; 256];
+    let mut freq = refresh_table(&counts, &set, k);
+    let (mut segment, mut left) = (32u64, 32u64);
+    let mut out = Vec::with_capacity(raw_len);
+    for j in 0..raw_len {
+        let v = lanes[j % n].symbol(&freq)?;
+        out.push(v as u8);
+        counts[v] += 1;
+        left -= 1;
+        if left == 0 {
+            while counts.iter().sum::<u64>() > limit {
+                for c in counts.iter_mut() {
+                    *c /= 2;
+                }
+            }
+            freq = refresh_table(&counts, &set, k);
+            segment = (2 * segment).min(period);
+            left = segment;
+        }
+    }
+    for l in &lanes {
+        l.end()?;
+    }
     Ok(out)
 }
 
@@ -329,7 +450,8 @@ fn decode_container(c: &[u8]) -> R<Vec<u8>> {
                         }
                         match id {
                             1 => decode_static(payload, raw_len as usize, &params)?,
-                            2 => decode_adaptive(payload, raw_len as usize, &params)?,
+                            2 => decode_stepwise(payload, raw_len as usize, &params)?,
+                            5 => decode_adaptive(payload, raw_len as usize, &params)?,
                             _ => return Err("unknown preset".into()),
                         }
                     }
@@ -355,7 +477,18 @@ fn bitwise_crc_matches_the_check_value() {
 /// The presets whose payloads docs/FORMAT.md specifies completely (the
 /// context-mixing presets are defined by their reference implementation).
 fn documented_presets() -> impl Iterator<Item = Preset> {
-    Preset::all().filter(|p| matches!(p.name(), "static" | "adaptive"))
+    // `adaptive` also at its extremes: a small total (rounding surplus and
+    // deficit at most rebuilds), short segments, fast halving.
+    let mut edge = Preset::from_name("adaptive").unwrap();
+    edge.set_param("log2_total", 8).unwrap();
+    edge.set_param("period", 32).unwrap();
+    edge.set_param("limit", 256).unwrap();
+    let mut wide = Preset::from_name("adaptive").unwrap();
+    wide.set_param("log2_total", 16).unwrap();
+    wide.set_param("lanes", 3).unwrap();
+    Preset::all()
+        .filter(|p| matches!(p.name(), "static" | "adaptive" | "stepwise"))
+        .chain([edge, wide])
 }
 
 #[test]

@@ -57,12 +57,18 @@ impl LaneState {
     }
 }
 
+/// Entries a table fill writes at once (see [`DecodeTables::set`]); also
+/// the padding after the last slot.
+const FILL: usize = 16;
+
 /// The decoding tables of one byte table, one entry per slot of the total.
 pub(crate) struct DecodeTables {
     /// Per slot: `cum | (freq - 1) << 12 | symbol << 24` when `packed`
-    /// (totals up to 2^12), else `cum | (freq - 1) << 16`.
+    /// (totals up to 2^12), else `cum | (freq - 1) << 16`; [`FILL`] more
+    /// entries of padding follow.
     pub(crate) slots: Vec<u32>,
-    /// Per slot: its symbol; three zero bytes follow for four-byte reads.
+    /// Per slot when not `packed`: its symbol; [`FILL`] bytes of padding
+    /// follow (covering four-byte reads at the last slot).
     pub(crate) symbols: Vec<u8>,
     pub(crate) shift: u32,
     pub(crate) total: u32,
@@ -85,15 +91,23 @@ impl DecodeTables {
     }
 
     /// Replaces the tables' contents, reusing their storage.
+    ///
+    /// Spans are filled a block of [`FILL`] entries at a time, in symbol
+    /// order, each block possibly running past its span into the next
+    /// symbol's (which then overwrites it) or into the padding after the
+    /// last slot. With totals up to 2^12 the symbol is part of the slot
+    /// entry and the separate symbol table is not filled.
     pub(crate) fn set(&mut self, freq: &[u32], cum: &[u32], shift: u32) {
         debug_assert!(freq.len() <= 256 && shift <= 16);
         let total = 1usize << shift;
         self.shift = shift;
         self.total = total as u32;
         self.packed = shift <= 12;
-        self.slots.resize(total, 0);
-        self.symbols.resize(total + 3, 0);
-        for (s, (&f, &c)) in freq.iter().zip(cum).enumerate() {
+        self.slots.resize(total + FILL, 0);
+        self.symbols.resize(total + FILL, 0);
+        let n = freq.len().min(cum.len());
+        for s in 0..n {
+            let (f, c) = (freq[s], cum[s]);
             if f == 0 {
                 continue;
             }
@@ -102,9 +116,21 @@ impl DecodeTables {
             } else {
                 c | (f - 1) << 16
             };
-            let span = c as usize..(c + f) as usize;
-            self.slots[span.clone()].fill(entry);
-            self.symbols[span].fill(s as u8);
+            let (start, end) = (c as usize, (c + f) as usize);
+            let block = [entry; FILL];
+            let mut at = start;
+            while at < end {
+                self.slots[at..at + FILL].copy_from_slice(&block);
+                at += FILL;
+            }
+            if !self.packed {
+                let block = [s as u8; FILL];
+                let mut at = start;
+                while at < end {
+                    self.symbols[at..at + FILL].copy_from_slice(&block);
+                    at += FILL;
+                }
+            }
         }
     }
 
@@ -127,7 +153,11 @@ fn decode_step(lane: &mut LaneState, buffer: &[u8], tables: &DecodeTables) -> u8
     let r = (lane.range >> tables.shift).max(1);
     let t = (lane.code / r).min(total - 1) as usize;
     let e = tables.slots.get(t).copied().unwrap_or(0);
-    let sym = tables.symbols.get(t).copied().unwrap_or(0);
+    let sym = if tables.packed {
+        (e >> 24) as u8
+    } else {
+        tables.symbols.get(t).copied().unwrap_or(0)
+    };
     let (cum, freq) = tables.span(e);
     let offset = r.wrapping_mul(cum);
     lane.code = lane.code.wrapping_sub(offset);
@@ -331,16 +361,26 @@ fn decode_fixed<const N: usize>(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use alloc::vec;
 
     #[test]
     fn tables_reuse_their_storage() {
-        let mut t = DecodeTables::new(&[1, 255], &[0, 1], 8);
-        assert_eq!(t.symbols[0], 0);
-        assert!(t.symbols[1..256].iter().all(|&s| s == 1));
-        t.set(&[200, 56], &[0, 200], 8);
-        assert!(t.symbols[..200].iter().all(|&s| s == 0));
-        assert!(t.symbols[200..256].iter().all(|&s| s == 1));
-        assert_eq!(vec![0u8; 3], t.symbols[256..]);
+        let symbol = |t: &DecodeTables, slot: usize| {
+            if t.packed {
+                (t.slots[slot] >> 24) as u8
+            } else {
+                t.symbols[slot]
+            }
+        };
+        for shift in [8, 13] {
+            let total = 1u32 << shift;
+            let mut t = DecodeTables::new(&[1, total - 1], &[0, 1], shift);
+            assert_eq!(symbol(&t, 0), 0);
+            assert!((1..total as usize).all(|s| symbol(&t, s) == 1));
+            t.set(&[200, 50, total - 250], &[0, 200, 250], shift);
+            assert!((0..200).all(|s| symbol(&t, s) == 0));
+            assert!((200..250).all(|s| symbol(&t, s) == 1));
+            assert!((250..total as usize).all(|s| symbol(&t, s) == 2));
+            assert_eq!(t.span(t.slots[249]), (200, 50));
+        }
     }
 }

@@ -60,12 +60,18 @@ impl EncodeTable {
     pub(crate) fn set(&mut self, freq: &[u32], cum: &[u32], shift: u32) {
         self.shift = shift;
         self.total = 1 << shift;
-        self.entry = [0; 256];
-        self.packed = [0; 256];
-        for (s, (&f, &c)) in freq.iter().zip(cum).enumerate() {
-            self.entry[s] = u64::from(c) | u64::from(f) << 32;
-            self.packed[s] = c | f.wrapping_sub(1) << 16;
+        let n = freq.len().min(256);
+        for ((e, p), (&f, &c)) in self
+            .entry
+            .iter_mut()
+            .zip(&mut self.packed)
+            .zip(freq.iter().zip(cum))
+        {
+            *e = u64::from(c) | u64::from(f) << 32;
+            *p = c | f.wrapping_sub(1) << 16;
         }
+        self.entry[n..].fill(0);
+        self.packed[n..].fill(0);
     }
 
     /// The first byte of `data` this table cannot code.

@@ -29,9 +29,6 @@
 //! symbol of a segment; encoder and decoder that start from the same
 //! parameters and see the same symbols hold identical tables at every step.
 
-use alloc::vec;
-use alloc::vec::Vec;
-
 use crate::error::{ErrorKind, Result};
 use crate::model::{Model, Span};
 
@@ -46,8 +43,8 @@ pub const MAX_REFRESH_ALPHABET: u32 = 256;
 /// use subrange::model::{RefreshModel, RefreshParams};
 ///
 /// let mut params = RefreshParams::default();
-/// params.max_period = 1024; // refresh at least every 1024 symbols
-/// params.limit = 1 << 12; // forget faster
+/// params.max_period = 1024; // rebuild the table less often: faster
+/// params.limit = 1 << 16; // remember longer: for stationary data
 /// let model = RefreshModel::with_params(256, params).unwrap();
 /// assert_eq!(model.params().max_period, 1024);
 /// ```
@@ -60,10 +57,10 @@ pub struct RefreshParams {
     /// Symbols coded with the first table (default 32, at least 1); each
     /// later segment is twice as long as the one before, up to `max_period`.
     pub first_period: u32,
-    /// Longest segment between two refreshes (default 8192).
+    /// Longest segment between two refreshes (default 256).
     pub max_period: u32,
     /// At a refresh, counts are halved while their sum exceeds this
-    /// (default 2^16, at least 1).
+    /// (default 4096, at least 1).
     pub limit: u32,
 }
 
@@ -72,8 +69,8 @@ impl Default for RefreshParams {
         RefreshParams {
             log2_total: 12,
             first_period: 32,
-            max_period: 8192,
-            limit: 1 << 16,
+            max_period: 256,
+            limit: 4096,
         }
     }
 }
@@ -88,14 +85,14 @@ impl Default for RefreshParams {
 /// use subrange::model::RefreshModel;
 ///
 /// # fn main() -> Result<(), subrange::Error> {
-/// let log = b"G107 level 212 cm, flow 1123 l/s\n".repeat(40);
+/// let log = b"G107 level 212 cm, flow 1123 l/s\n".repeat(100);
 /// let mut model = RefreshModel::new(256)?;
 /// let mut enc = Encoder::new();
 /// for &b in &log {
 ///     enc.encode(&mut model, b.into())?;
 /// }
 /// let bytes = enc.finish()?;
-/// assert!(bytes.len() < log.len() / 2);
+/// assert!(bytes.len() < log.len() * 2 / 3);
 ///
 /// let mut model = RefreshModel::new(256)?;
 /// let mut dec = Decoder::new(&bytes)?;
@@ -108,13 +105,17 @@ impl Default for RefreshParams {
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct RefreshModel {
     params: RefreshParams,
-    /// Which symbols can be coded.
-    codable: Vec<bool>,
-    counts: Vec<u32>,
+    alphabet: usize,
+    /// Per symbol: `u32::MAX` when it can be coded, else 0 (also for the
+    /// values past the alphabet).
+    mask: [u32; 256],
+    /// How many symbols can be coded.
+    present: u32,
+    counts: [u32; 256],
     count_total: u64,
-    freq: Vec<u32>,
-    /// `cum[s]` is the sum of `freq[..s]`; one more entry holds the total.
-    cum: Vec<u32>,
+    freq: [u32; 256],
+    /// `cum[s]` is the sum of `freq[..s]`; `cum[alphabet]` is the total.
+    cum: [u32; 257],
     /// Length of the current segment, and symbols left in it.
     period: u64,
     left: u64,
@@ -144,7 +145,7 @@ impl RefreshModel {
         if alphabet == 0 || alphabet > MAX_REFRESH_ALPHABET {
             return Err(invalid("alphabet", "must be 1 ..= 256"));
         }
-        Self::with_symbols(&vec![true; alphabet as usize], params)
+        Self::with_symbols(&[true; 256][..alphabet as usize], params)
     }
 
     /// A model over `codable.len()` symbols of which only those marked
@@ -189,14 +190,19 @@ impl RefreshModel {
         if params.limit == 0 {
             return Err(invalid("limit", "must be at least 1"));
         }
-        let n = codable.len();
+        let mut mask = [0u32; 256];
+        for (m, &c) in mask.iter_mut().zip(codable) {
+            *m = if c { u32::MAX } else { 0 };
+        }
         let mut model = RefreshModel {
             params,
-            codable: codable.to_vec(),
-            counts: vec![0; n],
+            alphabet: codable.len(),
+            mask,
+            present: present as u32,
+            counts: [0; 256],
             count_total: 0,
-            freq: vec![0; n],
-            cum: vec![0; n + 1],
+            freq: [0; 256],
+            cum: [0; 257],
             period: u64::from(params.first_period),
             left: u64::from(params.first_period),
         };
@@ -214,18 +220,19 @@ impl RefreshModel {
     ///
     /// Each codable symbol `s` gets `1 + round(c_s · (2^k − m) / C)` where
     /// `c_s` is its count, `C` the sum of the counts, `m` the number of
-    /// codable symbols and `2^k` the total; the difference to `2^k` left by
-    /// the rounding is given to (or, when negative, first taken from) the
-    /// most frequent symbol. With no counts yet the total is shared
-    /// equally.
+    /// codable symbols and `2^k` the total (the quotient `(2^k − m) / C` is
+    /// taken in fixed point with 32 significant bits); the difference to
+    /// `2^k` left by the rounding is given to (or, when negative, first
+    /// taken from) the most frequent symbol. With no counts yet the total
+    /// is shared equally.
     pub fn frequencies(&self) -> &[u32] {
-        &self.freq
+        &self.freq[..self.alphabet]
     }
 
     /// The current table's cumulative frequencies: `alphabet + 1` entries,
     /// the last one the total.
     pub fn cumulative(&self) -> &[u32] {
-        &self.cum
+        &self.cum[..=self.alphabet]
     }
 
     /// `log2` of the total.
@@ -248,12 +255,10 @@ impl RefreshModel {
     /// (a run must not cross a refresh).
     pub fn update_run(&mut self, symbols: &[u8]) {
         assert!(symbols.len() as u64 <= self.left, "a run crosses a refresh");
-        let mut histogram = [0u32; 256];
+        // Values past the alphabet (never coded) are counted but never
+        // used: the mask keeps them out of the table.
         for &b in symbols {
-            histogram[usize::from(b)] += 1;
-        }
-        for (c, &h) in self.counts.iter_mut().zip(histogram.iter()) {
-            *c += h;
+            self.counts[usize::from(b)] += 1;
         }
         self.count_total += symbols.len() as u64;
         self.left -= symbols.len() as u64;
@@ -264,11 +269,12 @@ impl RefreshModel {
 
     fn refresh(&mut self) {
         while self.count_total > u64::from(self.params.limit) {
-            self.count_total = 0;
+            let mut sum = 0;
             for c in &mut self.counts {
                 *c >>= 1;
-                self.count_total += u64::from(*c);
+                sum += u64::from(*c);
             }
+            self.count_total = sum;
         }
         self.rebuild();
         self.period = (self.period * 2).min(u64::from(self.params.max_period));
@@ -278,47 +284,46 @@ impl RefreshModel {
     /// Quantises the counts to the table (see [`frequencies`](Self::frequencies)).
     fn rebuild(&mut self) {
         let total = 1u32 << self.params.log2_total;
-        let present = self.codable.iter().filter(|&&c| c).count() as u32;
-        let counted: u64 = self
-            .counts
-            .iter()
-            .zip(&self.codable)
-            .filter(|(_, &c)| c)
-            .map(|(&n, _)| u64::from(n))
-            .sum();
-        let spare = u64::from(total - present);
-        if let Some(scale) = (spare << 32).checked_div(counted) {
-            let mut sum = 0u32;
-            let mut top: Option<(usize, u32)> = None;
-            for (s, (f, (&n, &c))) in self
-                .freq
-                .iter_mut()
-                .zip(self.counts.iter().zip(&self.codable))
-                .enumerate()
-            {
-                *f = 0;
-                if c {
-                    *f = 1 + ((u64::from(n) * scale + (1 << 31)) >> 32) as u32;
-                    sum += *f;
-                    if top.is_none_or(|(_, best)| n > best) {
-                        top = Some((s, n));
-                    }
-                }
+        let mut counted = 0u64;
+        for (&c, &m) in self.counts.iter().zip(&self.mask) {
+            counted += u64::from(c & m);
+        }
+        if counted == 0 {
+            let (each, extra) = (total / self.present, total % self.present);
+            let mut k = 0;
+            for (f, &m) in self.freq.iter_mut().zip(&self.mask) {
+                *f = (each + u32::from(k < extra)) & m;
+                k += m & 1;
             }
-            let top = top.map_or(0, |(s, _)| s);
+        } else {
+            // `spare / counted` with 32 significant bits: `scale < 2^32`,
+            // so each product is a 32 x 32 -> 64-bit multiplication.
+            let spare = u64::from(total - self.present);
+            let shift = 31 + counted.ilog2() - spare.max(1).ilog2();
+            let scale = ((spare << shift) / counted) as u32;
+            let half = 1u64 << (shift - 1);
+            let mut sum = 0u32;
+            for ((f, &c), &m) in self.freq.iter_mut().zip(&self.counts).zip(&self.mask) {
+                *f = (1 + ((u64::from(c) * u64::from(scale) + half) >> shift) as u32) & m;
+                sum += *f;
+            }
+            // The most frequent codable symbol (the first of equals; some
+            // codable symbol has a count, so `best > 0`).
+            let best = self
+                .counts
+                .iter()
+                .zip(&self.mask)
+                .fold(0, |best, (&c, &m)| best.max(c & m));
+            let top = self
+                .counts
+                .iter()
+                .zip(&self.mask)
+                .position(|(&c, &m)| c & m == best)
+                .unwrap_or(0);
             if sum <= total {
                 self.freq[top] += total - sum;
             } else {
                 self.take(top, sum - total);
-            }
-        } else {
-            let (each, mut extra) = (total / present, total % present);
-            for (f, &c) in self.freq.iter_mut().zip(&self.codable) {
-                *f = 0;
-                if c {
-                    *f = each + u32::from(extra > 0);
-                    extra = extra.saturating_sub(1);
-                }
             }
         }
         let mut acc = 0;
@@ -326,7 +331,7 @@ impl RefreshModel {
             *c = acc;
             acc += f;
         }
-        self.cum[self.freq.len()] = acc;
+        self.cum[256] = acc;
         debug_assert_eq!(acc, total);
     }
 
@@ -349,7 +354,7 @@ impl RefreshModel {
 
 impl Model for RefreshModel {
     fn alphabet_size(&self) -> u32 {
-        self.freq.len() as u32
+        self.alphabet as u32
     }
 
     #[inline]
@@ -360,22 +365,22 @@ impl Model for RefreshModel {
     #[inline]
     fn span(&self, symbol: u32) -> Option<Span> {
         let s = symbol as usize;
-        let f = *self.freq.get(s)?;
+        let f = *self.frequencies().get(s)?;
         (f > 0).then(|| Span::new(self.cum[s], f))
     }
 
     fn locate(&self, target: u32) -> (u32, Span) {
         // The last symbol whose cumulative frequency is at most `target`
         // and whose frequency is not 0.
-        let upper = self.cum[1..].partition_point(|&c| c <= target);
-        let s = upper.min(self.freq.len() - 1);
+        let upper = self.cum[1..=self.alphabet].partition_point(|&c| c <= target);
+        let s = upper.min(self.alphabet - 1);
         (s as u32, Span::new(self.cum[s], self.freq[s]))
     }
 
     #[inline]
     fn update(&mut self, symbol: u32) {
-        if let Some(c) = self.counts.get_mut(symbol as usize) {
-            *c += 1;
+        if (symbol as usize) < self.alphabet {
+            self.counts[symbol as usize] += 1;
             self.count_total += 1;
         }
         self.left -= 1;
@@ -388,12 +393,14 @@ impl Model for RefreshModel {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use alloc::vec;
+    use alloc::vec::Vec;
 
     fn check_table(m: &RefreshModel) {
         let total: u32 = m.frequencies().iter().sum();
         assert_eq!(total, m.total());
         for (s, &f) in m.frequencies().iter().enumerate() {
-            assert_eq!(f > 0, m.codable[s], "symbol {s}");
+            assert_eq!(f > 0, m.mask[s] != 0, "symbol {s}");
         }
     }
 

@@ -1,91 +1,322 @@
-//! The `adaptive` preset's block codec: an adaptive order-0 model over the
-//! 256 byte values, started afresh at every block, one coder lane.
+//! The `adaptive` preset's block codec: a [`RefreshModel`] over the bytes
+//! of the block, started afresh at every block, over interleaved lanes.
 //!
-//! Every byte value starts with count 1; after each coded byte its count
-//! grows by `increment`, and when the total would pass `limit` all counts are
-//! halved first (rounding up), as [`AdaptiveModel`] does with its escape
-//! turned off. Nothing but the parameters is needed to rebuild the model, so
-//! the payload is one range-coded stream.
+//! The encoder first reads the block once: its set of byte values (only
+//! those get a frequency, so absent bytes cost nothing) and, running the
+//! model over the block's segments with one histogram each, the exact ideal
+//! cost of coding it — a block that cannot come out shorter than it is is
+//! stored without being coded. Otherwise the block is coded a segment at a
+//! time with [`encode_refresh_lanes`] over `n` lanes, `n` being the `lanes`
+//! parameter reduced so that every lane has at least 1 KiB.
 //!
-//! Invariant: the decoder consumes the payload exactly; input left over after
-//! the block's last byte is an error.
+//! Payload: `lanes: u8`, the byte set (below), `lanes - 1` lane lengths as
+//! vints, then the lane streams back to back (the last lane takes the rest).
+//! The byte set is one byte `m` (its size less one), then nothing when all
+//! 256 values occur, the `m + 1` values in increasing order when `m < 31`,
+//! and otherwise a 32-byte bitmap (value `v` is bit `v mod 8` of byte
+//! `v / 8`).
+//!
+//! Invariant: the decoder accepts exactly the payloads the encoder can make
+//! for some block, up to the range coder's own slack: the byte set must be
+//! in its canonical form, the lane lengths must fit the payload, and every
+//! lane must be consumed exactly.
 
-#[cfg(test)]
-use alloc::vec;
 use alloc::vec::Vec;
 
-use crate::coder::{Decoder, Encoder};
+use crate::coder::{decode_refresh_lanes, encode_refresh_lanes, log2_q32, IdealCost};
 use crate::error::{ErrorKind, Result};
-use crate::model::{AdaptiveModel, AdaptiveParams};
+use crate::model::{RefreshModel, RefreshParams};
+use crate::preset::corrupt;
+use crate::vint::{put_vint, Cursor};
 
-fn model(params: &[u32]) -> Result<AdaptiveModel> {
-    let p = AdaptiveParams {
-        increment: params[0],
-        limit: params[1],
-        escape: Some(false),
-    };
-    AdaptiveModel::with_params(256, p)
+/// Symbols coded with a block's first table; later segments double.
+pub(crate) const FIRST_PERIOD: u32 = 32;
+
+/// Least bytes per lane before another lane is used.
+const LANE_MIN_BYTES: usize = 1024;
+
+/// Byte sets of fewer values than this are listed, larger ones mapped.
+const LIST_MAX: usize = 31;
+
+fn refresh_params(params: &[u32]) -> RefreshParams {
+    RefreshParams {
+        log2_total: params[1],
+        first_period: FIRST_PERIOD,
+        max_period: params[2],
+        limit: params[3],
+    }
 }
 
-/// Checks that `increment` and `limit` fit together.
-pub(crate) fn check(params: &[u32]) -> Result<()> {
-    model(params).map(drop).map_err(|_| {
-        ErrorKind::InvalidParameter {
-            name: "limit",
-            reason: "must be at least 257 + 4 x increment",
+fn lanes_for(len: usize, max_lanes: u32) -> usize {
+    (len / LANE_MIN_BYTES).clamp(1, max_lanes as usize)
+}
+
+fn byte_set(raw: &[u8]) -> [bool; 256] {
+    let mut seen = [false; 256];
+    for &b in raw {
+        seen[usize::from(b)] = true;
+    }
+    seen
+}
+
+fn put_byte_set(out: &mut Vec<u8>, set: &[bool; 256]) {
+    let count = set.iter().filter(|&&s| s).count();
+    out.push((count - 1) as u8);
+    if count == 256 {
+    } else if count <= LIST_MAX {
+        out.extend((0..=255u8).filter(|&b| set[usize::from(b)]));
+    } else {
+        let mut map = [0u8; 32];
+        for (v, _) in set.iter().enumerate().filter(|(_, &s)| s) {
+            map[v / 8] |= 1 << (v % 8);
         }
-        .into()
-    })
-}
-
-pub(crate) fn encode(raw: &[u8], params: &[u32]) -> Result<Vec<u8>> {
-    let mut m = model(params)?;
-    let mut enc = Encoder::with_sink(Vec::with_capacity(raw.len() / 2 + 16));
-    for &b in raw {
-        enc.encode(&mut m, u32::from(b))?;
+        out.extend_from_slice(&map);
     }
-    enc.finish()
 }
 
-pub(crate) fn decode(payload: &[u8], params: &[u32], out: &mut [u8]) -> Result<()> {
-    let mut m = model(params)?;
-    let mut dec = Decoder::new(payload)?;
-    for b in out.iter_mut() {
-        *b = dec.decode(&mut m)? as u8;
+fn read_byte_set(cur: &mut Cursor<'_>) -> Result<[bool; 256]> {
+    let at = cur.position();
+    let count = usize::from(cur.byte().ok_or_else(|| corrupt(at, "byte set missing"))?) + 1;
+    let mut set = [count == 256; 256];
+    if count == 256 {
+        return Ok(set);
     }
-    dec.finish()?;
-    Ok(())
+    let at = cur.position();
+    if count <= LIST_MAX {
+        let list = cur
+            .take(count as u64)
+            .ok_or_else(|| corrupt(at, "byte set runs past the payload"))?;
+        if list.windows(2).any(|w| w[0] >= w[1]) {
+            return Err(corrupt(at, "byte set is not in increasing order"));
+        }
+        for &b in list {
+            set[usize::from(b)] = true;
+        }
+    } else {
+        let map = cur
+            .take(32)
+            .ok_or_else(|| corrupt(at, "byte set runs past the payload"))?;
+        for (v, s) in set.iter_mut().enumerate() {
+            *s = map[v / 8] >> (v % 8) & 1 == 1;
+        }
+        if set.iter().filter(|&&s| s).count() != count {
+            return Err(corrupt(at, "byte set map does not match its size"));
+        }
+    }
+    Ok(set)
 }
 
-/// The ideal cost of a block under this preset's adaptive model.
-pub(crate) fn ideal(raw: &[u8], params: &[u32]) -> Result<crate::coder::IdealCost> {
-    let mut m = model(params)?;
-    let mut cost = crate::coder::IdealCost::new();
-    for &b in raw {
-        let s = u32::from(b);
-        cost.add(m.frequency(s), crate::model::Model::total(&m));
-        crate::model::Model::update(&mut m, s);
+/// Checks that the parameters fit together (the model's own rules).
+pub(crate) fn check(params: &[u32]) -> Result<()> {
+    RefreshModel::with_params(256, refresh_params(params)).map(drop)
+}
+
+/// The model's cost of `raw`, segment by segment, without coding it.
+fn cost(raw: &[u8], params: &[u32]) -> Result<IdealCost> {
+    let mut model = RefreshModel::with_symbols(&byte_set(raw), refresh_params(params))?;
+    let shift = model.log2_total();
+    let mut cost = IdealCost::new();
+    let mut rest = raw;
+    while !rest.is_empty() {
+        let (segment, next) = rest.split_at((model.segment_left() as usize).min(rest.len()));
+        let mut histogram = [0u64; 256];
+        for &b in segment {
+            histogram[usize::from(b)] += 1;
+        }
+        for (&h, &f) in histogram.iter().zip(model.frequencies()) {
+            cost.add_repeated(f, 1 << shift, h);
+        }
+        model.update_run(segment);
+        rest = next;
     }
     Ok(cost)
 }
 
-/// 257 counts in a Fenwick tree plus bookkeeping, rounded up.
-pub(crate) fn model_memory() -> u64 {
-    4096
+/// The ideal cost of a block under this preset's model.
+pub(crate) fn ideal(raw: &[u8], params: &[u32]) -> Result<IdealCost> {
+    cost(raw, params)
+}
+
+pub(crate) fn encode(raw: &[u8], params: &[u32]) -> Result<Vec<u8>> {
+    let set = byte_set(raw);
+    let lanes = lanes_for(raw.len(), params[0]);
+    let mut model = RefreshModel::with_symbols(&set, refresh_params(params))?;
+    let streams = encode_refresh_lanes(&mut model, raw, lanes)?;
+    let coded: usize = streams.iter().map(Vec::len).sum();
+    let mut out = Vec::with_capacity(coded + 34 + 8 * lanes);
+    out.push(lanes as u8);
+    put_byte_set(&mut out, &set);
+    for s in &streams[..lanes - 1] {
+        put_vint(&mut out, s.len() as u64);
+    }
+    for s in &streams {
+        out.extend_from_slice(s);
+    }
+    Ok(out)
+}
+
+/// As [`encode`], or `None` when the payload cannot come out shorter than
+/// `raw` (the container then stores the block), decided from the model's
+/// exact ideal cost without coding: a lane's bytes are at least its ideal
+/// cost less one byte (see the `static` preset's twin of this test).
+///
+/// Working out that cost runs the model over the block, so it is done only
+/// for blocks whose byte histogram is nearly flat (order-0 entropy of at
+/// least 7.875 bits a byte); other blocks are coded straight away, and the
+/// rare one of them that does not shrink is caught by the container's
+/// length check.
+pub(crate) fn encode_or_store(raw: &[u8], params: &[u32]) -> Result<Option<Vec<u8>>> {
+    let mut counts = [0u64; 256];
+    for &b in raw {
+        counts[usize::from(b)] += 1;
+    }
+    let n = raw.len() as u64;
+    let log_n = log2_q32(n);
+    let entropy_q32: u128 = counts
+        .iter()
+        .filter(|&&c| c > 0)
+        .map(|&c| u128::from(c) * u128::from(log_n - log2_q32(c)))
+        .sum();
+    if entropy_q32 < u128::from(n * 8 - n / 8) << 32 {
+        return encode(raw, params).map(Some);
+    }
+    let lanes = lanes_for(raw.len(), params[0]) as u64;
+    let bits_q32 = cost(raw, params)?.bits_q32();
+    // `log2_q32` reads high by at most about 2.7e-6 bits a symbol (see
+    // `static_codec`); allow 8 bytes and 4 a MiB.
+    let margin = 8 + raw.len() as u64 / (1 << 18);
+    let floor = ((bits_q32 >> 32) as u64 / 8).saturating_sub(lanes + margin);
+    if 2 + floor >= raw.len() as u64 {
+        return Ok(None);
+    }
+    encode(raw, params).map(Some)
+}
+
+pub(crate) fn decode(payload: &[u8], params: &[u32], out: &mut [u8]) -> Result<()> {
+    let mut cur = Cursor::new(payload);
+    let lanes = cur.byte().ok_or_else(|| corrupt(0, "payload is empty"))?;
+    if lanes == 0 || u32::from(lanes) > params[0] {
+        return Err(corrupt(0, "lane count outside 1 ..= the preset's lanes"));
+    }
+    let set = read_byte_set(&mut cur)?;
+    let mut model = RefreshModel::with_symbols(&set, refresh_params(params))
+        .map_err(|_| corrupt(1, "byte set does not fit the table total"))?;
+    let mut lens = [0u64; crate::coder::MAX_LANES];
+    for len in lens.iter_mut().take(usize::from(lanes) - 1) {
+        let at = cur.position();
+        *len = cur
+            .vint()
+            .map_err(|_| corrupt(at, "malformed lane length"))?;
+    }
+    let mut views: Vec<&[u8]> = Vec::with_capacity(usize::from(lanes));
+    for &len in &lens[..usize::from(lanes) - 1] {
+        let at = cur.position();
+        views.push(
+            cur.take(len)
+                .ok_or_else(|| corrupt(at, "lane runs past the payload"))?,
+        );
+    }
+    views.push(cur.rest());
+    decode_refresh_lanes(&mut model, &views, out).map_err(|e| match e.kind() {
+        ErrorKind::InvalidParameter { .. } => corrupt(0, "lane count"),
+        _ => e,
+    })
+}
+
+/// Working memory to decode a block of up to `block_size` bytes, beyond the
+/// payload and output buffers: the model (counts, frequencies and
+/// cumulative frequencies, about 4 KiB), the lane decoder's slot and symbol
+/// tables (5 bytes per unit of the total), rounded up, plus its padded copy
+/// of the lanes (the payload, shorter than the block, and its padding per
+/// lane).
+pub(crate) fn working_memory(params: &[u32], block_size: u64) -> u64 {
+    let tables = 8192 + (8u64 << params[1]);
+    let pad = crate::coder::LANE_PAD as u64 * crate::coder::MAX_LANES as u64;
+    tables.saturating_add(block_size.saturating_add(pad))
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+    use alloc::vec;
+
+    const PARAMS: [u32; 4] = [32, 12, 256, 4096];
 
     #[test]
-    fn trailing_payload_bytes_are_rejected() {
-        let raw = b"flow 1123 l/s, temperature 9.4 C".to_vec();
-        let mut payload = encode(&raw, &[24, 65_536]).unwrap();
+    fn byte_sets_round_trip_in_all_three_forms() {
+        for n in [1usize, 2, 30, 31, 32, 200, 255, 256] {
+            let raw: Vec<u8> = (0..n).map(|i| (i * 97 % 256) as u8).collect();
+            let set = byte_set(&raw);
+            let mut out = vec![];
+            put_byte_set(&mut out, &set);
+            let expected = match n {
+                256 => 1,
+                _ if n <= LIST_MAX => 1 + n,
+                _ => 33,
+            };
+            assert_eq!(out.len(), expected, "{n} values");
+            let mut cur = Cursor::new(&out);
+            assert_eq!(read_byte_set(&mut cur).unwrap(), set);
+            assert!(cur.rest().is_empty());
+        }
+    }
+
+    #[test]
+    fn non_canonical_byte_sets_are_rejected() {
+        for bad in [&[1u8, 7, 7][..], &[1, 9, 3], &[40, 0xFF]] {
+            let mut cur = Cursor::new(bad);
+            assert!(read_byte_set(&mut cur).is_err(), "{bad:?}");
+        }
+    }
+
+    #[test]
+    fn blocks_round_trip_and_trailing_bytes_are_rejected() {
+        let raw = crate::corpus::gauge_csv(5, 40_000);
+        let mut payload = encode(&raw, &PARAMS).unwrap();
         let mut out = vec![0u8; raw.len()];
-        decode(&payload, &[24, 65_536], &mut out).unwrap();
+        decode(&payload, &PARAMS, &mut out).unwrap();
         assert_eq!(out, raw);
         payload.extend_from_slice(&[1, 2, 3, 4, 5, 6]);
-        assert!(decode(&payload, &[24, 65_536], &mut out).is_err());
+        assert!(decode(&payload, &PARAMS, &mut out).is_err());
+    }
+
+    /// Stores exactly the blocks coding could not shrink.
+    #[test]
+    fn store_decision_matches_coding() {
+        for (i, raw) in [
+            crate::corpus::random(1, 200_000),
+            crate::corpus::random(2, 3_000),
+            crate::corpus::gauge_binary(3, 100_000),
+            (0..=255u8).cycle().take(70_000).collect(),
+            crate::corpus::skewed(4, 50_000),
+            vec![9u8; 10],
+        ]
+        .into_iter()
+        .enumerate()
+        {
+            let coded = encode(&raw, &PARAMS).unwrap();
+            match encode_or_store(&raw, &PARAMS).unwrap() {
+                Some(c) => assert_eq!(c, coded, "case {i}"),
+                None => assert!(
+                    coded.len() >= raw.len(),
+                    "case {i}: stored a block coding shrinks"
+                ),
+            }
+        }
+        assert!(encode_or_store(&crate::corpus::random(1, 200_000), &PARAMS)
+            .unwrap()
+            .is_none());
+    }
+
+    #[test]
+    fn ideal_cost_is_what_the_lanes_reach() {
+        let raw = crate::corpus::text_like(8, 300_000);
+        let ideal = ideal(&raw, &PARAMS).unwrap().bits() / 8.0;
+        let payload = encode(&raw, &PARAMS).unwrap().len() as f64;
+        // Header, byte set and lane lengths, and up to four flush bytes a lane.
+        assert!(
+            payload >= ideal && payload < ideal + 40.0 + 32.0 * 7.0,
+            "{payload} vs {ideal}"
+        );
     }
 }

@@ -10,9 +10,14 @@
 //!   block and the bytes are coded over interleaved lanes
 //!   ([`encode_interleaved`](crate::coder::encode_interleaved)). Fast in both
 //!   directions; wins on memoryless, skewed data.
-//! - `adaptive` (id 2): an [`AdaptiveModel`](crate::model::AdaptiveModel)
-//!   over 256 symbols, restarted at every block, one coder lane; no table to
-//!   store, follows drifting statistics.
+//! - `adaptive` (id 5): a [`RefreshModel`](crate::model::RefreshModel)
+//!   over the block's byte values, restarted at every block: its table is
+//!   rebuilt from the counts at growing intervals, and each stretch between
+//!   rebuilds is coded over interleaved lanes like a `static` block. No table
+//!   to store, follows drifting statistics, nearly as fast as `static`.
+//! - `stepwise` (id 2): an [`AdaptiveModel`](crate::model::AdaptiveModel)
+//!   over 256 symbols, restarted at every block, updated after every byte,
+//!   one coder lane; learns from the first byte on (small blocks), slower.
 //! - `order2` (id 3): the fast order-2 context model of
 //!   [`model::cm`](crate::model::cm), coded bit by bit; close to the data's
 //!   order-2 conditional entropy.
@@ -22,8 +27,8 @@
 //!
 //! In a container, an `order2` or `mix` block whose first sixteenth (at least
 //! 64 KiB) does not shrink is stored without coding the rest, and a `static`
-//! block whose byte counts prove it cannot shrink is stored without coding,
-//! so incompressible input stays fast.
+//! or `adaptive` block whose byte counts prove it cannot shrink is stored
+//! without coding, so incompressible input stays fast.
 //!
 //! Invariant: [`Preset::decode_block`] with the parameters read back from a
 //! header inverts [`Preset::encode_block`] exactly, on every platform (no
@@ -55,6 +60,7 @@
 mod adaptive_codec;
 mod cm_codec;
 mod static_codec;
+mod stepwise_codec;
 
 use alloc::vec::Vec;
 use core::fmt;
@@ -66,7 +72,8 @@ pub const MAX_PARAMS: usize = 8;
 
 /// Valid preset names, for messages (a unit test keeps it in step with
 /// [`PresetKind::ALL`]).
-const NAME_LIST: &str = "unknown preset name: expected one of static, adaptive, order2, mix";
+const NAME_LIST: &str =
+    "unknown preset name: expected one of static, adaptive, stepwise, order2, mix";
 
 /// One integer parameter of a preset: its name, default and valid range.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -89,8 +96,12 @@ pub struct ParamSpec {
 pub enum PresetKind {
     /// A table model per block, stored in the block, coded over lanes.
     Static,
-    /// An adaptive order-0 model restarted at each block.
+    /// A refreshed adaptive order-0 model restarted at each block, coded
+    /// over lanes.
     Adaptive,
+    /// An adaptive order-0 model updated after every byte, restarted at
+    /// each block, one lane.
+    Stepwise,
     /// The fast order-2 context model, restarted at each block.
     Order2,
     /// The strongest mixing model, restarted at each block.
@@ -115,6 +126,38 @@ const STATIC_PARAMS: &[ParamSpec] = &[
 ];
 
 const ADAPTIVE_PARAMS: &[ParamSpec] = &[
+    ParamSpec {
+        name: "lanes",
+        default: 32,
+        min: 1,
+        max: crate::coder::MAX_LANES as u32,
+        help: "interleaved coder lanes per block (blocks under 1 KiB per lane use fewer)",
+    },
+    ParamSpec {
+        name: "log2_total",
+        default: 12,
+        min: 8,
+        max: 16,
+        help: "table total, as a power of two",
+    },
+    ParamSpec {
+        name: "period",
+        default: 256,
+        min: 32,
+        max: 1 << 20,
+        help:
+            "most bytes coded between two rebuilds of the table (the first after 32, then doubling)",
+    },
+    ParamSpec {
+        name: "limit",
+        default: 4096,
+        min: 256,
+        max: 1 << 30,
+        help: "at a rebuild, counts are halved while their sum exceeds this",
+    },
+];
+
+const STEPWISE_PARAMS: &[ParamSpec] = &[
     ParamSpec {
         name: "increment",
         default: 24,
@@ -194,10 +237,11 @@ const MIX_PARAMS: &[ParamSpec] = &[
 ];
 
 impl PresetKind {
-    /// Every preset kind this release knows, in id order.
+    /// Every preset kind this release knows, fastest first.
     pub const ALL: &'static [PresetKind] = &[
         PresetKind::Static,
         PresetKind::Adaptive,
+        PresetKind::Stepwise,
         PresetKind::Order2,
         PresetKind::Mix,
     ];
@@ -206,9 +250,10 @@ impl PresetKind {
     pub fn id(self) -> u32 {
         match self {
             PresetKind::Static => 1,
-            PresetKind::Adaptive => 2,
+            PresetKind::Stepwise => 2,
             PresetKind::Order2 => 3,
             PresetKind::Mix => 4,
+            PresetKind::Adaptive => 5,
         }
     }
 
@@ -217,6 +262,7 @@ impl PresetKind {
         match self {
             PresetKind::Static => "static",
             PresetKind::Adaptive => "adaptive",
+            PresetKind::Stepwise => "stepwise",
             PresetKind::Order2 => "order2",
             PresetKind::Mix => "mix",
         }
@@ -228,7 +274,10 @@ impl PresetKind {
             PresetKind::Static => {
                 "table model per block from its byte histogram, interleaved lanes; fastest"
             }
-            PresetKind::Adaptive => "adaptive order-0 model per block; no stored table",
+            PresetKind::Adaptive => {
+                "adaptive order-0 model per block, table rebuilt as it learns, interleaved lanes"
+            }
+            PresetKind::Stepwise => "adaptive order-0 model updated after every byte; one lane",
             PresetKind::Order2 => "order-2 context model, bit by bit; fast, near order-2 entropy",
             PresetKind::Mix => {
                 "orders 1-6, word, column and match models, logistically mixed; smallest, slowest"
@@ -241,6 +290,7 @@ impl PresetKind {
         match self {
             PresetKind::Static => STATIC_PARAMS,
             PresetKind::Adaptive => ADAPTIVE_PARAMS,
+            PresetKind::Stepwise => STEPWISE_PARAMS,
             PresetKind::Order2 => ORDER2_PARAMS,
             PresetKind::Mix => MIX_PARAMS,
         }
@@ -289,13 +339,16 @@ impl PresetKind {
 ///
 /// # fn main() -> Result<(), subrange::Error> {
 /// let mut preset = Preset::from_name("adaptive")?;
-/// preset.set_param("increment", 32)?;
+/// preset.set_param("period", 4096)?;
 /// let reading = b"G107,1440,212,1123,94\nG107,1450,213,1134,94\n";
 /// let payload = preset.encode_block(reading)?;
 /// let mut back = Vec::new();
 /// preset.decode_block(&payload, reading.len(), &mut back)?;
 /// assert_eq!(back, reading);
-/// assert_eq!(preset.to_string(), "adaptive(increment=32, limit=65536)");
+/// assert_eq!(
+///     preset.to_string(),
+///     "adaptive(lanes=32, log2_total=12, period=4096, limit=4096)"
+/// );
 /// # Ok(())
 /// # }
 /// ```
@@ -471,6 +524,7 @@ impl Preset {
         match self.kind {
             PresetKind::Static => Ok(()),
             PresetKind::Adaptive => adaptive_codec::check(self.params()),
+            PresetKind::Stepwise => stepwise_codec::check(self.params()),
             PresetKind::Order2 => cm_codec::order2_params(self.params()).map(drop),
             PresetKind::Mix => cm_codec::mix_params(self.params()).map(drop),
         }
@@ -491,6 +545,7 @@ impl Preset {
         match self.kind {
             PresetKind::Static => static_codec::encode(raw, self.params()),
             PresetKind::Adaptive => adaptive_codec::encode(raw, self.params()),
+            PresetKind::Stepwise => stepwise_codec::encode(raw, self.params()),
             PresetKind::Order2 => cm_codec::encode_o2(raw, self.params()),
             PresetKind::Mix => cm_codec::encode_mx(raw, self.params()),
         }
@@ -498,14 +553,17 @@ impl Preset {
 
     /// Codes one block for the container: the payload, or `None` when the
     /// block should be stored because coding will not shrink it. `static`
-    /// decides that exactly from the byte counts, without coding; `order2`
-    /// and `mix` early (after a sixteenth of the block) instead of coding all
-    /// of it; `adaptive` codes the block and lets the container compare
-    /// lengths.
+    /// and `adaptive` decide that exactly from the byte counts (and the
+    /// model's ideal cost), without coding; `order2` and `mix` early (after
+    /// a sixteenth of the block) instead of coding all of it; `stepwise`
+    /// codes the block and lets the container compare lengths.
     pub(crate) fn encode_or_store(&self, raw: &[u8]) -> Result<Option<Vec<u8>>> {
         match self.kind {
             PresetKind::Static if !raw.is_empty() => {
                 static_codec::encode_or_store(raw, self.params())
+            }
+            PresetKind::Adaptive if !raw.is_empty() => {
+                adaptive_codec::encode_or_store(raw, self.params())
             }
             PresetKind::Order2 if !raw.is_empty() => {
                 cm_codec::encode_o2_or_store(raw, self.params())
@@ -569,6 +627,7 @@ impl Preset {
         match self.kind {
             PresetKind::Static => static_codec::decode(payload, self.params(), out),
             PresetKind::Adaptive => adaptive_codec::decode(payload, self.params(), out),
+            PresetKind::Stepwise => stepwise_codec::decode(payload, self.params(), out),
             PresetKind::Order2 => cm_codec::decode_o2(payload, self.params(), out),
             PresetKind::Mix => cm_codec::decode_mx(payload, self.params(), out),
         }
@@ -604,6 +663,7 @@ impl Preset {
         match self.kind {
             PresetKind::Static => static_codec::ideal(raw, self.params()),
             PresetKind::Adaptive => adaptive_codec::ideal(raw, self.params()),
+            PresetKind::Stepwise => stepwise_codec::ideal(raw, self.params()),
             PresetKind::Order2 => cm_codec::ideal_o2(raw, self.params()),
             PresetKind::Mix => cm_codec::ideal_mx(raw, self.params()),
         }
@@ -626,7 +686,8 @@ impl Preset {
         let buffers = block_size.saturating_mul(2);
         let model = match self.kind {
             PresetKind::Static => static_codec::working_memory(self.params(), block_size),
-            PresetKind::Adaptive => adaptive_codec::model_memory(),
+            PresetKind::Adaptive => adaptive_codec::working_memory(self.params(), block_size),
+            PresetKind::Stepwise => stepwise_codec::model_memory(),
             PresetKind::Order2 => cm_codec::order2_memory(self.params(), block_size),
             PresetKind::Mix => cm_codec::mix_memory(self.params(), block_size),
         };
@@ -715,8 +776,14 @@ mod tests {
         assert!(Preset::from_id(2, &[8192, 20_000]).is_err());
         assert_eq!(
             Preset::from_id(2, &[24, 65_536]).unwrap(),
+            Preset::new(PresetKind::Stepwise)
+        );
+        assert_eq!(
+            Preset::from_id(5, &[32, 12, 256, 4096]).unwrap(),
             Preset::new(PresetKind::Adaptive)
         );
+        // A period shorter than the first segment.
+        assert!(Preset::from_id(5, &[32, 12, 16, 65_536]).is_err());
     }
 
     #[test]
