@@ -9,8 +9,10 @@
 //!   or AVX-512, a static byte table decodes eight lanes per vector
 //!   instruction, to the same bytes); ideal-cost accounting.
 //! - [`model`]: the [`Model`](model::Model) trait and models: a static
-//!   [`TableModel`](model::TableModel), an adaptive order-0
-//!   [`AdaptiveModel`](model::AdaptiveModel), a
+//!   [`TableModel`](model::TableModel), adaptive order-0 models
+//!   ([`AdaptiveModel`](model::AdaptiveModel), updated after every symbol,
+//!   and [`RefreshModel`](model::RefreshModel), whose table is rebuilt at
+//!   intervals so it codes over the fast lanes), a
 //!   [`ContextModel`](model::ContextModel) over the previous bytes, bit
 //!   predictors, logistic mixing and the context-mixing engines of the
 //!   `order2` and `mix` presets.

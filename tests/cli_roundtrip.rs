@@ -207,3 +207,36 @@ fn an_empty_input_round_trips() {
     assert_eq!(code(&out), 0, "{}", stderr(&out));
     assert_eq!(fs::read(dir.join("empty")).unwrap(), b"");
 }
+
+#[test]
+fn preset_parameters_are_recorded_and_checked() {
+    let dir = Scratch::new("rt-params");
+    let data = subrange::corpus::gauge_binary(9, 30_000);
+    let out = run_in(
+        dir.path(),
+        &["compress", "-p", "adaptive:period=1024,lanes=4"],
+        Some(&data),
+    );
+    assert_eq!(code(&out), 0, "{}", stderr(&out));
+    let packed = out.stdout;
+    let preset = subrange::format::inspect(&packed[..])
+        .unwrap()
+        .header
+        .preset;
+    assert_eq!(preset.param("period"), Some(1024));
+    assert_eq!(preset.param("lanes"), Some(4));
+    let out = run_in(dir.path(), &["decompress", "-"], Some(&packed));
+    assert_eq!(out.stdout, data);
+    // A value out of range is a usage error naming the parameter's range.
+    let out = run_in(
+        dir.path(),
+        &["compress", "-p", "adaptive:period=8"],
+        Some(&data),
+    );
+    assert_eq!(code(&out), 2);
+    assert!(
+        stderr(&out).contains("period=32..1048576"),
+        "{}",
+        stderr(&out)
+    );
+}

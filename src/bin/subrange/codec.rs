@@ -8,7 +8,7 @@
 //! Presets also report their *ideal cost*: `Σ -log2(freq / total)` over every
 //! symbol their models code, measured with the encoder's cost meter in a
 //! separate, untimed pass that rebuilds the preset's models block by block
-//! (for the presets whose models it knows: `static` and `adaptive`). The
+//! ([`Preset::ideal_cost`]; stored blocks cost 8 bits a byte). The
 //! report then splits a preset's size into model quality (the ideal cost) and
 //! coding overhead (what the coder, tables, block frames and the header add).
 

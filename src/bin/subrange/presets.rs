@@ -4,7 +4,9 @@
 //! its header ([`subrange::preset::Preset`]). The command line accepts the
 //! names the library knows — every preset of [`Preset::all`], so presets
 //! added to the library appear here without change — and anything else is a
-//! usage error that lists them.
+//! usage error that lists them. Parameters follow the name after a colon,
+//! as `name=value` pairs separated by commas (`adaptive:period=1024,limit=65536`);
+//! they are checked by the library's rules and recorded in the container.
 
 use std::fmt;
 
@@ -20,7 +22,8 @@ impl PresetName {
         self.0.name()
     }
 
-    /// The preset, with default parameters.
+    /// The preset, with the parameters given on the command line (the
+    /// others at their defaults).
     pub fn preset(&self) -> Preset {
         self.0
     }
@@ -42,27 +45,68 @@ pub fn valid_names() -> String {
     Preset::names().collect::<Vec<_>>().join(", ")
 }
 
-/// Parses a preset name (clap value parser).
+/// The preset's parameters with their ranges and defaults, one a line.
+fn param_list(preset: &Preset) -> String {
+    preset
+        .param_specs()
+        .iter()
+        .map(|p| {
+            format!(
+                "\n  {}={}..{} (default {}): {}",
+                p.name, p.min, p.max, p.default, p.help
+            )
+        })
+        .collect()
+}
+
+/// Parses a preset name, optionally with parameters (clap value parser).
 ///
 /// # Errors
 ///
-/// A message listing the valid names.
+/// A message listing the valid names, or the preset's parameters when one
+/// is unknown, malformed, out of range or does not fit with the others.
 pub fn parse_name(text: &str) -> Result<PresetName, String> {
-    let wanted = text.trim();
-    Preset::all()
-        .find(|p| p.name().eq_ignore_ascii_case(wanted))
-        .map(PresetName)
-        .ok_or_else(|| format!("unknown preset '{text}'; valid presets: {}", valid_names()))
+    let (name, params) = match text.split_once(':') {
+        Some((name, params)) => (name.trim(), Some(params)),
+        None => (text.trim(), None),
+    };
+    let mut preset = Preset::all()
+        .find(|p| p.name().eq_ignore_ascii_case(name))
+        .ok_or_else(|| format!("unknown preset '{name}'; valid presets: {}", valid_names()))?;
+    for pair in params.into_iter().flat_map(|p| p.split(',')) {
+        let shown = preset;
+        let bad = |why: &str| {
+            format!(
+                "preset parameter '{pair}': {why}; {} takes:{}",
+                shown.name(),
+                param_list(&shown)
+            )
+        };
+        let (key, value) = pair
+            .split_once('=')
+            .ok_or_else(|| bad("expected name=value"))?;
+        let value: u32 = value
+            .trim()
+            .parse()
+            .map_err(|_| bad("the value is not a whole number"))?;
+        preset
+            .set_param(key.trim(), value)
+            .map_err(|e| bad(&e.to_string()))?;
+    }
+    Ok(PresetName(preset))
 }
 
 /// `--preset` long help: every name with a line about it.
 pub fn preset_help() -> String {
     let mut s = format!(
-        "Model preset (default: {}). Valid presets:",
+        "Model preset (default: {}), optionally with parameters: \
+         NAME:PARAM=VALUE,... (e.g. adaptive:period=1024). Valid presets:",
         Preset::default().name()
     );
     for p in Preset::all() {
         s.push_str(&format!("\n  {:<10} {}", p.name(), p.kind().summary()));
+        let params: Vec<&str> = p.param_specs().iter().map(|s| s.name).collect();
+        s.push_str(&format!("\n  {:<10} parameters: {}", "", params.join(", ")));
     }
     s
 }
@@ -78,6 +122,23 @@ mod tests {
         let err = parse_name("fastest").unwrap_err();
         for name in PresetName::all() {
             assert!(err.contains(name.as_str()), "{err}");
+        }
+        let p = parse_name("adaptive:period=1024, limit=65536")
+            .unwrap()
+            .preset();
+        assert_eq!(
+            (p.param("period"), p.param("limit")),
+            (Some(1024), Some(65_536))
+        );
+        assert_eq!(p.param("lanes"), Some(32));
+        for bad in [
+            "adaptive:period",
+            "adaptive:period=x",
+            "adaptive:speed=3",
+            "adaptive:period=1",
+        ] {
+            let err = parse_name(bad).unwrap_err();
+            assert!(err.contains("period=32.."), "{bad}: {err}");
         }
         let help = preset_help();
         for name in PresetName::all() {
