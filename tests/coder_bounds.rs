@@ -22,8 +22,10 @@ mod common;
 
 use common::lgamma::{ln_gamma, log2_factorial};
 use common::{encode_all, entropy_bits, SplitMix64, TableSampler};
-use subrange::coder::Encoder;
-use subrange::model::{AdaptiveModel, AdaptiveParams, Model, TableModel};
+use subrange::coder::{encode_refresh_lanes, Encoder};
+use subrange::model::{
+    AdaptiveModel, AdaptiveParams, Model, RefreshModel, RefreshParams, TableModel,
+};
 
 /// Worst-case finite-precision loss of one step with `total`, in bits.
 fn step_allowance(total: u32) -> f64 {
@@ -198,13 +200,27 @@ fn iid_source_converges_to_its_entropy() {
     let table_bps = 8.0 * encode_all(&mut table, &symbols).len() as f64 / len as f64;
     let mut adaptive = AdaptiveModel::new(40).unwrap();
     let adaptive_bps = 8.0 * encode_all(&mut adaptive, &symbols).len() as f64 / len as f64;
+    // The refreshed model with a long memory (its default forgets after a
+    // few thousand symbols, which costs a little on a stationary source).
+    let mut p = RefreshParams::default();
+    p.limit = 1 << 20;
+    p.max_period = 4096;
+    let mut refresh = RefreshModel::with_params(40, p).unwrap();
+    let refresh_bps = 8.0 * encode_all(&mut refresh, &symbols).len() as f64 / len as f64;
+    let mut quick = RefreshModel::new(40).unwrap();
+    let quick_bps = 8.0 * encode_all(&mut quick, &symbols).len() as f64 / len as f64;
     eprintln!(
-        "entropy {h:.5} bits/symbol; table {table_bps:.5} ({:+.4} %), adaptive {adaptive_bps:.5} ({:+.4} %)",
+        "entropy {h:.5} bits/symbol; table {table_bps:.5} ({:+.4} %), adaptive {adaptive_bps:.5} ({:+.4} %), \
+         refreshed {refresh_bps:.5} ({:+.4} %), refreshed with defaults {quick_bps:.5} ({:+.4} %)",
         100.0 * (table_bps / h - 1.0),
-        100.0 * (adaptive_bps / h - 1.0)
+        100.0 * (adaptive_bps / h - 1.0),
+        100.0 * (refresh_bps / h - 1.0),
+        100.0 * (quick_bps / h - 1.0)
     );
     assert!((table_bps / h - 1.0).abs() < 0.005);
     assert!((adaptive_bps / h - 1.0).abs() < 0.01);
+    assert!((refresh_bps / h - 1.0).abs() < 0.01);
+    assert!((quick_bps / h - 1.0).abs() < 0.02);
 }
 
 /// Coding overhead against the encoder's own ideal-cost meter, on 2^20
@@ -239,12 +255,29 @@ fn coding_overhead_against_the_cost_meter() {
         assert!((ti - ideal).abs() <= 1e-6 * ideal, "meter {ti} vs {ideal}");
         let mut adaptive = AdaptiveModel::new(n as u32).unwrap();
         let (aa, ai, a_over) = measure(&mut adaptive);
+        let mut refresh = RefreshModel::new(n as u32).unwrap();
+        let (ra, ri, r_over) = measure(&mut refresh);
+        // The same model over 32 lanes: each lane flushes on its own.
+        let bytes: Vec<u8> = symbols.iter().map(|&s| s as u8).collect();
+        let lanes =
+            encode_refresh_lanes(&mut RefreshModel::new(n as u32).unwrap(), &bytes, 32).unwrap();
+        let la = 8.0 * lanes.iter().map(Vec::len).sum::<usize>() as f64;
+        let l_over = (la - ri) / ri;
         eprintln!(
-            "{name}: table {ta} vs ideal {ti:.1} bits: {:.5} %; adaptive {aa} vs {ai:.1}: {:.5} %",
+            "{name}: table {ta} vs ideal {ti:.1} bits: {:.5} %; adaptive {aa} vs {ai:.1}: {:.5} %; \
+             refreshed {ra} vs {ri:.1}: {:.5} %, over 32 lanes {la}: {:.5} %",
             100.0 * t_over,
-            100.0 * a_over
+            100.0 * a_over,
+            100.0 * r_over,
+            100.0 * l_over
         );
         assert!(t_over <= 1e-4, "table overhead {:.5} %", 100.0 * t_over);
         assert!(a_over <= 1e-4, "adaptive overhead {:.5} %", 100.0 * a_over);
+        assert!(r_over <= 1e-4, "refreshed overhead {:.5} %", 100.0 * r_over);
+        assert!(
+            l_over <= 1e-4,
+            "refreshed lanes overhead {:.5} %",
+            100.0 * l_over
+        );
     }
 }

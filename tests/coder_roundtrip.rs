@@ -4,11 +4,16 @@
 
 mod common;
 
-use common::strategies::{adaptive_model, alphabet, power_of_two_frequencies, table_from_counts};
+use common::strategies::{
+    adaptive_model, alphabet, power_of_two_frequencies, refresh_model, table_from_counts,
+};
 use common::{decode_all, encode_all, SplitMix64};
 use proptest::prelude::*;
-use subrange::coder::{Decoder, Encoder};
-use subrange::model::{AdaptiveModel, Model, Span, TableModel};
+use subrange::coder::{
+    decode_interleaved, decode_refresh_lanes, encode_interleaved, encode_refresh_lanes, Decoder,
+    Encoder,
+};
+use subrange::model::{AdaptiveModel, Model, RefreshModel, Span, TableModel};
 
 /// The symbols of `model` that can be coded directly.
 fn present(model: &TableModel) -> Vec<u32> {
@@ -70,6 +75,79 @@ proptest! {
         let mut enc_model = model;
         encode_all(&mut enc_model, &symbols);
         prop_assert_eq!(enc_model, dec_model);
+    }
+
+    /// A refreshed model of any shape: one stream round-trips, both sides
+    /// end in the same state, and the lane fast path writes exactly the
+    /// generic interleaved streams.
+    #[test]
+    fn refresh(model in refresh_model(), picks in prop::collection::vec(any::<u32>(), 0..1500), lanes in 1usize..=32) {
+        let codable: Vec<u32> = (0..model.alphabet_size()).filter(|&s| model.span(s).is_some()).collect();
+        let symbols: Vec<u32> = adaptive_symbols(codable.len() as u32, &picks)
+            .into_iter()
+            .map(|i| codable[i as usize])
+            .collect();
+        let bytes = encode_all(&mut model.clone(), &symbols);
+        let mut dec_model = model.clone();
+        prop_assert_eq!(decode_all(&mut dec_model, &bytes, symbols.len()), symbols.clone());
+        let mut enc_model = model.clone();
+        prop_assert_eq!(encode_all(&mut enc_model, &symbols), bytes);
+        prop_assert_eq!(&enc_model, &dec_model);
+
+        let data: Vec<u8> = symbols.iter().map(|&s| s as u8).collect();
+        let mut fast_model = model.clone();
+        let fast = encode_refresh_lanes(&mut fast_model, &data, lanes).unwrap();
+        let mut slow_model = model.clone();
+        prop_assert_eq!(&encode_interleaved(&mut slow_model, &data, lanes).unwrap(), &fast);
+        prop_assert_eq!(&fast_model, &slow_model);
+        let views: Vec<&[u8]> = fast.iter().map(Vec::as_slice).collect();
+        let mut back = vec![0u8; data.len()];
+        let mut m = model.clone();
+        decode_refresh_lanes(&mut m, &views, &mut back).unwrap();
+        prop_assert_eq!(&back, &data);
+        prop_assert_eq!(&m, &fast_model);
+        let mut back2 = vec![0u8; data.len()];
+        decode_interleaved(&mut model.clone(), &views, &mut back2).unwrap();
+        prop_assert_eq!(back2, data);
+    }
+
+    /// Refreshed and per-symbol adaptive models and binary steps take turns
+    /// in one stream.
+    #[test]
+    fn refresh_among_other_models(
+        refresh in refresh_model(),
+        adaptive in adaptive_model(1u32..300),
+        ops in prop::collection::vec((0u8..3, any::<u32>()), 0..800),
+    ) {
+        let codable: Vec<u32> = (0..refresh.alphabet_size()).filter(|&s| refresh.span(s).is_some()).collect();
+        let plan: Vec<(u8, u32)> = ops
+            .iter()
+            .map(|&(k, v)| match k {
+                0 => (0, codable[v as usize % codable.len()]),
+                1 => (1, v % adaptive.alphabet_size()),
+                _ => (2, v),
+            })
+            .collect();
+        let (mut r, mut a) = (refresh.clone(), adaptive.clone());
+        let mut enc = Encoder::new();
+        for &(k, v) in &plan {
+            match k {
+                0 => enc.encode(&mut r, v).unwrap(),
+                1 => enc.encode(&mut a, v).unwrap(),
+                _ => enc.encode_bit(v & 1 == 1, v >> 15).unwrap(),
+            }
+        }
+        let bytes = enc.finish().unwrap();
+        let (mut r, mut a) = (refresh, adaptive);
+        let mut dec = Decoder::new(&bytes).unwrap();
+        for &(k, v) in &plan {
+            match k {
+                0 => prop_assert_eq!(dec.decode(&mut r).unwrap(), v),
+                1 => prop_assert_eq!(dec.decode(&mut a).unwrap(), v),
+                _ => prop_assert_eq!(dec.decode_bit(v >> 15).unwrap(), v & 1 == 1),
+            }
+        }
+        dec.finish().unwrap();
     }
 
     /// Several models interleaved in one stream, with binary steps and raw
@@ -179,6 +257,10 @@ fn large_seeded_streams() {
     let mut adaptive = AdaptiveModel::new(256).unwrap();
     let bytes = encode_all(&mut adaptive.clone(), &data);
     assert_eq!(decode_all(&mut adaptive, &bytes, data.len()), data);
+
+    let mut refresh = RefreshModel::new(256).unwrap();
+    let bytes = encode_all(&mut refresh.clone(), &data);
+    assert_eq!(decode_all(&mut refresh, &bytes, data.len()), data);
 
     let mut counts = [0u64; 256];
     data.iter().for_each(|&s| counts[s as usize] += 1);

@@ -90,3 +90,34 @@ pub fn power_of_two_frequencies(max_alphabet: usize) -> impl Strategy<Value = Ve
             freq
         })
 }
+
+/// A [`RefreshModel`](subrange::model::RefreshModel) of any valid shape:
+/// alphabet 1 ..= 256, some symbols excluded, short and long segments, slow
+/// and fast forgetting, small and large totals.
+pub fn refresh_model() -> impl Strategy<Value = subrange::model::RefreshModel> {
+    use subrange::model::{RefreshModel, RefreshParams};
+    (
+        1usize..=256,
+        any::<u64>(),
+        0u32..=16,
+        1u32..80,
+        0u32..2000,
+        prop_oneof![1u32..300, 300u32..100_000],
+    )
+        .prop_filter_map(
+            "the total must leave every codable symbol a unit",
+            |(n, mask, k, first, extra, limit)| {
+                // Every symbol codable, or a pattern from the mask bits
+                // (symbol 0 always codable).
+                let codable: Vec<bool> = (0..n)
+                    .map(|s| s == 0 || mask & 1 == 0 || mask >> (s % 64) & 1 == 1)
+                    .collect();
+                let mut p = RefreshParams::default();
+                p.log2_total = k;
+                p.first_period = first;
+                p.max_period = first + extra;
+                p.limit = limit;
+                RefreshModel::with_symbols(&codable, p).ok()
+            },
+        )
+}
