@@ -9,11 +9,11 @@ use std::hint::black_box;
 use std::io::{Read, Write};
 
 use subrange::coder::{
-    decode_interleaved, decode_table_lanes, encode_interleaved, encode_table_lanes, Decoder,
-    Encoder,
+    decode_interleaved, decode_refresh_lanes, decode_table_lanes, encode_interleaved,
+    encode_refresh_lanes, encode_table_lanes, Decoder, Encoder,
 };
 use subrange::corpus;
-use subrange::model::{AdaptiveModel, TableModel};
+use subrange::model::{AdaptiveModel, RefreshModel, TableModel};
 
 const SIZE: usize = 1 << 20;
 
@@ -63,6 +63,14 @@ fn bench_sets(c: &mut Criterion) {
                 e.finish().unwrap()
             })
         });
+        for lanes in [1usize, 8, 32] {
+            group.bench_with_input(BenchmarkId::new("refresh", lanes), &lanes, |b, &lanes| {
+                b.iter(|| {
+                    let mut m = RefreshModel::new(256).unwrap();
+                    encode_refresh_lanes(&mut m, black_box(data), lanes).unwrap()
+                })
+            });
+        }
         for level in [1u32, 6, 9] {
             group.bench_with_input(BenchmarkId::new("flate2", level), &level, |b, &level| {
                 b.iter(|| flate(black_box(data), level))
@@ -109,6 +117,18 @@ fn bench_sets(c: &mut Criterion) {
                 sum
             })
         });
+        for lanes in [1usize, 8, 32] {
+            let streams =
+                encode_refresh_lanes(&mut RefreshModel::new(256).unwrap(), data, lanes).unwrap();
+            let views: Vec<&[u8]> = streams.iter().map(|s| s.as_slice()).collect();
+            let mut out = vec![0u8; data.len()];
+            group.bench_with_input(BenchmarkId::new("refresh", lanes), &lanes, |b, _| {
+                b.iter(|| {
+                    let mut m = RefreshModel::new(256).unwrap();
+                    decode_refresh_lanes(&mut m, black_box(&views), &mut out).unwrap()
+                })
+            });
+        }
         let deflated = flate(data, 6);
         group.bench_function("flate2", |b| {
             b.iter(|| unflate(black_box(&deflated), data.len()))
