@@ -33,6 +33,8 @@ mod table_lanes;
 mod table_simd;
 #[cfg(target_arch = "x86_64")]
 mod table_simd_enc;
+#[cfg(target_arch = "x86_64")]
+mod table_simd_wide;
 
 pub use cost::{log2_q32, IdealCost};
 pub use decoder::Decoder;

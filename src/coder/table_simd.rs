@@ -39,6 +39,10 @@ use crate::coder::lane_dec::{DecodeTables, LaneState};
 /// Which build of the kernel this CPU runs.
 #[derive(Clone, Copy, PartialEq, Eq, Debug)]
 pub(crate) enum Kernel {
+    /// AVX-512 F and BW with 512-bit vectors: sixteen lanes a vector, two
+    /// vectors a pass (`table_simd_wide`); lane counts that are a multiple
+    /// of sixteen.
+    Avx512Wide,
     /// AVX-512 F and VL: 32 vector registers, four vectors a pass.
     Avx512,
     /// AVX2: 16 vector registers, two vectors a pass.
@@ -52,9 +56,18 @@ impl Kernel {
         if !lanes.is_multiple_of(8) {
             return None;
         }
-        [Kernel::Avx512, Kernel::Avx2]
+        [Kernel::Avx512Wide, Kernel::Avx512, Kernel::Avx2]
             .into_iter()
-            .find(|k| k.supported())
+            .find(|k| k.fits(lanes) && k.supported())
+    }
+
+    /// Whether the kernel decodes `lanes` lanes (a multiple of its vector
+    /// width).
+    pub(crate) fn fits(self, lanes: usize) -> bool {
+        match self {
+            Kernel::Avx512Wide => lanes.is_multiple_of(16),
+            _ => lanes.is_multiple_of(8),
+        }
     }
 
     /// Whether the running CPU has the kernel's instructions.
@@ -62,6 +75,7 @@ impl Kernel {
         #[cfg(feature = "std")]
         {
             match self {
+                Kernel::Avx512Wide => super::table_simd_wide::supported(),
                 Kernel::Avx512 => {
                     std::is_x86_feature_detected!("avx512f")
                         && std::is_x86_feature_detected!("avx512vl")
@@ -72,6 +86,7 @@ impl Kernel {
         #[cfg(not(feature = "std"))]
         {
             match self {
+                Kernel::Avx512Wide => super::table_simd_wide::supported(),
                 Kernel::Avx512 => {
                     cfg!(all(target_feature = "avx512f", target_feature = "avx512vl"))
                 }
@@ -99,7 +114,7 @@ pub(crate) fn decode_rows(
 ) {
     let n = lanes.len();
     assert!(kernel.supported());
-    assert!(n > 0 && n.is_multiple_of(8));
+    assert!(n > 0 && kernel.fits(n));
     let rows = chunk.len() / n;
     assert!(buffer.len() <= i32::MAX as usize);
     for lane in lanes.iter() {
@@ -109,6 +124,27 @@ pub(crate) fn decode_rows(
     assert!(tables.symbols.len() >= tables.total as usize + 3);
     assert!((8..=16).contains(&tables.shift));
     assert_eq!(tables.packed, tables.shift <= 12);
+    if kernel == Kernel::Avx512Wide {
+        let mut first = 0;
+        while first < n {
+            let vectors = if n - first >= 32 { 2 } else { 1 };
+            let group = &mut lanes[first..first + 16 * vectors];
+            // SAFETY: the CPU supports the kernel, `group` has `16 *
+            // vectors` lanes, and the asserts above are the bounds the
+            // kernel relies on (see `decode_rows` of the narrow build).
+            unsafe {
+                use super::table_simd_wide::rows;
+                match (vectors, tables.packed) {
+                    (2, true) => rows::<2, true>(group, first, n, buffer, tables, chunk),
+                    (2, false) => rows::<2, false>(group, first, n, buffer, tables, chunk),
+                    (_, true) => rows::<1, true>(group, first, n, buffer, tables, chunk),
+                    (_, false) => rows::<1, false>(group, first, n, buffer, tables, chunk),
+                }
+            }
+            first += 16 * vectors;
+        }
+        return;
+    }
     let mut first = 0;
     while first < n {
         // Vectors in this pass: as many as the register file holds.
@@ -139,8 +175,12 @@ pub(crate) fn decode_rows(
                 (Kernel::Avx512, _, false) => rows_avx512::<1, false>(group, &pass, chunk),
                 (Kernel::Avx2, 2, true) => rows_avx2::<2, true>(group, &pass, chunk),
                 (Kernel::Avx2, 2, false) => rows_avx2::<2, false>(group, &pass, chunk),
-                (Kernel::Avx2, _, true) => rows_avx2::<1, true>(group, &pass, chunk),
-                (Kernel::Avx2, _, false) => rows_avx2::<1, false>(group, &pass, chunk),
+                (Kernel::Avx2 | Kernel::Avx512Wide, _, true) => {
+                    rows_avx2::<1, true>(group, &pass, chunk)
+                }
+                (Kernel::Avx2 | Kernel::Avx512Wide, _, false) => {
+                    rows_avx2::<1, false>(group, &pass, chunk)
+                }
             }
         }
         first += 8 * vectors;
