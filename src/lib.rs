@@ -6,7 +6,7 @@
 //! - [`coder`]: [`Encoder`](coder::Encoder) and [`Decoder`](coder::Decoder)
 //!   narrow an integer interval by each symbol's span; a binary step codes
 //!   bits with 16-bit probabilities; interleaved lanes for speed (with AVX2
-//!   or AVX-512, a static byte table decodes eight lanes per vector
+//!   or AVX-512, byte tables decode eight or sixteen lanes per vector
 //!   instruction, to the same bytes); ideal-cost accounting.
 //! - [`model`]: the [`Model`](model::Model) trait and models: a static
 //!   [`TableModel`](model::TableModel), adaptive order-0 models
