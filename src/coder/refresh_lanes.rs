@@ -113,8 +113,24 @@ pub fn decode_refresh_lanes(
     decode_with(model, streams, out, best_kernel(streams.len()))
 }
 
+/// [`decode_refresh_lanes`] on the scalar steps only, whatever the CPU: the
+/// reference the vector kernels are checked against (by the tests and the
+/// fuzz targets). Same results, slower.
+///
+/// # Errors
+///
+/// As for [`decode_refresh_lanes`].
+#[doc(hidden)]
+pub fn decode_refresh_lanes_scalar(
+    model: &mut RefreshModel,
+    streams: &[&[u8]],
+    out: &mut [u8],
+) -> Result<()> {
+    decode_with(model, streams, out, None)
+}
+
 /// [`decode_refresh_lanes`] with the vector kernel chosen by the caller.
-pub(crate) fn decode_with(
+fn decode_with(
     model: &mut RefreshModel,
     streams: &[&[u8]],
     out: &mut [u8],
@@ -198,7 +214,7 @@ mod tests {
             }
             let views: Vec<&[u8]> = streams.iter().map(Vec::as_slice).collect();
             let mut want = vec![0u8; data.len()];
-            let verdict = decode_with(&mut fresh(), &views, &mut want, None)
+            let verdict = decode_refresh_lanes_scalar(&mut fresh(), &views, &mut want)
                 .map_err(|e| alloc::format!("{e:?}"));
             let mut got = vec![0u8; data.len()];
             let v = decode_refresh_lanes(&mut fresh(), &views, &mut got)

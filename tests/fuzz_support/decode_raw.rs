@@ -1,8 +1,13 @@
 //! Arbitrary bytes into the raw range decoder with arbitrary models, for a
 //! bounded number of symbols: errors are fine, panics and hangs are not.
 
-use subrange::coder::{decode_table_lanes, decode_table_lanes_scalar, Decoder};
-use subrange::model::{AdaptiveModel, AdaptiveParams, Model, TableModel};
+use subrange::coder::{
+    decode_refresh_lanes, decode_refresh_lanes_scalar, decode_table_lanes,
+    decode_table_lanes_scalar, Decoder,
+};
+use subrange::model::{
+    AdaptiveModel, AdaptiveParams, Model, RefreshModel, RefreshParams, TableModel,
+};
 
 /// Runs every check on one input; panics on the first broken promise.
 pub fn check(data: &[u8]) {
@@ -33,13 +38,33 @@ pub fn check(data: &[u8]) {
     params.escape = Some(mode & 1 == 1);
     let adaptive = AdaptiveModel::with_params(alphabet, params).ok();
 
+    // A refreshed model over the bytes the table leaves codable (or all of
+    // them), with short segments and fast forgetting from the mode bits.
+    let mut refresh_params = RefreshParams::default();
+    refresh_params.log2_total = log2_total.max(8);
+    refresh_params.first_period = 1 + u32::from(mode & 0x1F);
+    refresh_params.max_period = 32 + u32::from(mode) * 4;
+    refresh_params.limit = 256 << (mode >> 5);
+    let codable: Vec<bool> = match table.as_ref().filter(|t| t.alphabet_size() <= 256) {
+        Some(t) => (0..t.alphabet_size())
+            .map(|s| t.span(s).is_some())
+            .collect(),
+        None => vec![true; 256],
+    };
+    let refresh = RefreshModel::with_symbols(&codable, refresh_params).ok();
+
     let Ok(mut dec) = Decoder::new(stream) else {
         return;
     };
     let mut table = table;
     let mut adaptive = adaptive;
+    let mut stepped = refresh.clone();
     for i in 0..symbols {
-        let r = match (i + usize::from(mode)) % 3 {
+        let r = match (i + usize::from(mode)) % 4 {
+            3 => match stepped.as_mut() {
+                Some(m) => dec.decode(m).map(drop),
+                None => Ok(()),
+            },
             0 => match table.as_mut() {
                 Some(t) => dec.decode(t).map(|_| ()),
                 None => Ok(()),
@@ -73,5 +98,20 @@ pub fn check(data: &[u8]) {
             out == reference,
             "vector and scalar lane decoders wrote different bytes"
         );
+
+        // The refreshed model over the same lanes: a table per segment.
+        if let Some(m) = refresh.as_ref() {
+            let mut fast_model = m.clone();
+            let fast =
+                decode_refresh_lanes(&mut fast_model, &views, &mut out).map_err(|e| e.to_string());
+            let mut slow_model = m.clone();
+            let slow = decode_refresh_lanes_scalar(&mut slow_model, &views, &mut reference)
+                .map_err(|e| e.to_string());
+            assert_eq!(fast, slow, "vector and scalar refreshed lanes disagree");
+            assert!(
+                out == reference,
+                "vector and scalar refreshed lanes wrote different bytes"
+            );
+        }
     }
 }
