@@ -32,7 +32,7 @@ use std::io::Write;
 use std::path::{Path, PathBuf};
 
 use subrange::format::{inspect, MAGIC, VERSION};
-use subrange::preset::Preset;
+use subrange::preset::{Preset, PresetKind};
 use subrange::{compress, Compressor, Options};
 
 /// Block sizes the containers are cut with (16 is the smallest allowed;
@@ -72,7 +72,9 @@ fn options(preset: Preset, block_size: usize) -> Result<Options, Box<dyn Error>>
 fn preset_variants() -> Vec<(String, Preset)> {
     const DEFAULT_MEMORY_LIMIT: u64 = 256 << 20;
     let mut out = Vec::new();
-    for base in Preset::all() {
+    // The presets kept for reading older containers are fuzzed too.
+    let kept = PresetKind::KEPT_FOR_READING.iter().map(|&k| Preset::new(k));
+    for base in Preset::all().chain(kept) {
         out.push((base.name().to_string(), base));
         for spec in base.param_specs() {
             for v in [spec.min, spec.max] {

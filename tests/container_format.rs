@@ -486,9 +486,12 @@ fn documented_presets() -> impl Iterator<Item = Preset> {
     let mut wide = Preset::from_name("adaptive").unwrap();
     wide.set_param("log2_total", 16).unwrap();
     wide.set_param("lanes", 3).unwrap();
+    // `stepwise` is kept for reading older containers; the crate still
+    // writes it on request.
+    let stepwise = Preset::from_id(2, &[24, 65_536]).unwrap();
     Preset::all()
-        .filter(|p| matches!(p.name(), "static" | "adaptive" | "stepwise"))
-        .chain([edge, wide])
+        .filter(|p| matches!(p.name(), "static" | "adaptive"))
+        .chain([edge, wide, stepwise])
 }
 
 #[test]

@@ -15,9 +15,14 @@
 //!   rebuilt from the counts at growing intervals, and each stretch between
 //!   rebuilds is coded over interleaved lanes like a `static` block. No table
 //!   to store, follows drifting statistics, nearly as fast as `static`.
-//! - `stepwise` (id 2): an [`AdaptiveModel`](crate::model::AdaptiveModel)
-//!   over 256 symbols, restarted at every block, updated after every byte,
-//!   one coder lane; learns from the first byte on (small blocks), slower.
+//! - `stepwise` (id 2), kept for reading: an
+//!   [`AdaptiveModel`](crate::model::AdaptiveModel) over 256 symbols,
+//!   restarted at every block, updated after every byte, one coder lane. It
+//!   was the adaptive preset of earlier builds; containers that use it still
+//!   decode, and [`Preset::new`] still writes it, but it is not offered
+//!   among the presets ([`PresetKind::ALL`], the command line): `adaptive`
+//!   compresses about as well at several times its speed in both
+//!   directions.
 //! - `order2` (id 3): the fast order-2 context model of
 //!   [`model::cm`](crate::model::cm), coded bit by bit; close to the data's
 //!   order-2 conditional entropy.
@@ -72,8 +77,7 @@ pub const MAX_PARAMS: usize = 8;
 
 /// Valid preset names, for messages (a unit test keeps it in step with
 /// [`PresetKind::ALL`]).
-const NAME_LIST: &str =
-    "unknown preset name: expected one of static, adaptive, stepwise, order2, mix";
+const NAME_LIST: &str = "unknown preset name: expected one of static, adaptive, order2, mix";
 
 /// One integer parameter of a preset: its name, default and valid range.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -100,7 +104,8 @@ pub enum PresetKind {
     /// over lanes.
     Adaptive,
     /// An adaptive order-0 model updated after every byte, restarted at
-    /// each block, one lane.
+    /// each block, one lane; kept so that containers of earlier builds
+    /// decode (not among [`PresetKind::ALL`]).
     Stepwise,
     /// The fast order-2 context model, restarted at each block.
     Order2,
@@ -237,14 +242,16 @@ const MIX_PARAMS: &[ParamSpec] = &[
 ];
 
 impl PresetKind {
-    /// Every preset kind this release knows, fastest first.
+    /// Every preset kind this release offers for writing, fastest first.
     pub const ALL: &'static [PresetKind] = &[
         PresetKind::Static,
         PresetKind::Adaptive,
-        PresetKind::Stepwise,
         PresetKind::Order2,
         PresetKind::Mix,
     ];
+
+    /// Preset kinds kept only so that older containers decode.
+    pub const KEPT_FOR_READING: &'static [PresetKind] = &[PresetKind::Stepwise];
 
     /// The id recorded in a container header.
     pub fn id(self) -> u32 {
@@ -277,7 +284,9 @@ impl PresetKind {
             PresetKind::Adaptive => {
                 "adaptive order-0 model per block, table rebuilt as it learns, interleaved lanes"
             }
-            PresetKind::Stepwise => "adaptive order-0 model updated after every byte; one lane",
+            PresetKind::Stepwise => {
+                "adaptive order-0 model updated after every byte, one lane (read only)"
+            }
             PresetKind::Order2 => "order-2 context model, bit by bit; fast, near order-2 entropy",
             PresetKind::Mix => {
                 "orders 1-6, word, column and match models, logistically mixed; smallest, slowest"
@@ -304,6 +313,7 @@ impl PresetKind {
     pub fn from_id(id: u32) -> Result<Self> {
         Self::ALL
             .iter()
+            .chain(Self::KEPT_FOR_READING)
             .copied()
             .find(|k| k.id() == id)
             .ok_or_else(|| ErrorKind::UnknownPreset { id }.into())
@@ -747,13 +757,18 @@ mod tests {
 
     #[test]
     fn ids_and_names_are_unique_and_params_fit() {
-        for (i, a) in PresetKind::ALL.iter().enumerate() {
+        let known: Vec<PresetKind> = PresetKind::ALL
+            .iter()
+            .chain(PresetKind::KEPT_FOR_READING)
+            .copied()
+            .collect();
+        for (i, a) in known.iter().enumerate() {
             assert!(a.param_specs().len() <= MAX_PARAMS);
             for spec in a.param_specs() {
                 assert!(spec.min <= spec.default && spec.default <= spec.max);
             }
             assert!(Preset::new(*a).check_params().is_ok());
-            for b in &PresetKind::ALL[i + 1..] {
+            for b in &known[i + 1..] {
                 assert_ne!(a.id(), b.id());
                 assert_ne!(a.name(), b.name());
             }
@@ -789,7 +804,8 @@ mod tests {
     #[test]
     fn every_preset_round_trips_small_blocks() {
         let data: Vec<u8> = (0..3000u32).map(|i| (i * i % 251) as u8).collect();
-        for p in Preset::all() {
+        let kept = PresetKind::KEPT_FOR_READING.iter().map(|&k| Preset::new(k));
+        for p in Preset::all().chain(kept) {
             for len in [0usize, 1, 2, 5, 100, 1023, 1024, 3000] {
                 let payload = p.encode_block(&data[..len]).unwrap();
                 let mut out = vec![9u8; 3];
