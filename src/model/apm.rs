@@ -169,7 +169,14 @@ impl Apm {
     /// [`update`](Apm::update).
     #[inline]
     pub fn refine(&mut self, p16: u32, context: usize) -> u32 {
-        let s = (stretch(p16) + 2048) as u32; // 1 ..= 4095
+        self.refine_stretched(stretch(p16), context)
+    }
+
+    /// [`refine`](Apm::refine) given `stretch(p16)`, for callers that refine
+    /// one probability in several maps.
+    #[inline(always)]
+    pub(crate) fn refine_stretched(&mut self, st: i32, context: usize) -> u32 {
+        let s = (st + 2048) as u32; // 1 ..= 4095
         let lo = ((s >> 7) as usize).min(POINTS - 2);
         let w = s & 127;
         let c = context.min(self.contexts - 1);
@@ -206,9 +213,14 @@ impl Apm {
         let target = if bit { 65535 } else { 0 };
         let shift = u32::from(self.rate) + 7;
         let w = self.weight as i32;
+        // A step moves a point at most `share / 2^shift <= 2^-rate` of the
+        // way to the target (rounding towards minus infinity never passes 0),
+        // so points stay in `0 ..= 65535` without clamping.
         for (i, share) in [(self.index, 128 - w), (self.index + 1, w)] {
             let t = i32::from(self.table[i]);
-            self.table[i] = (t + (((target - t) * share) >> shift)).clamp(0, 65535) as u16;
+            let next = t + (((target - t) * share) >> shift);
+            debug_assert!((0..=65535).contains(&next));
+            self.table[i] = next as u16;
         }
     }
 }
