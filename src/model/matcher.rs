@@ -40,6 +40,9 @@ pub(crate) const LEN_BUCKETS: usize = 24;
 /// Count limit of the confidence counters.
 const LIMIT: u32 = 1023;
 
+/// `MatchModel::active` when the last bit had no prediction.
+const IDLE: usize = usize::MAX;
+
 /// Length bucket: exact up to 15, then logarithmic.
 #[inline]
 fn bucket(len: u32) -> usize {
@@ -67,8 +70,8 @@ pub(crate) struct MatchModel {
     /// [`state`](MatchModel::state) while a match predicts.
     len_state: usize,
     counters: [u32; 2 * LEN_BUCKETS],
-    /// The counter of the last prediction, if there was one.
-    active: Option<usize>,
+    /// The counter of the last prediction, or [`IDLE`] when there was none.
+    active: usize,
 }
 
 impl MatchModel {
@@ -89,7 +92,7 @@ impl MatchModel {
             bucket2: 0,
             len_state: 0,
             counters: [COUNTER_INIT; 2 * LEN_BUCKETS],
-            active: None,
+            active: IDLE,
         }
     }
 
@@ -97,7 +100,7 @@ impl MatchModel {
     /// contradicted, then 1 to 3 for short, medium and long matches.
     #[inline]
     pub(crate) fn state(&self) -> usize {
-        if self.active.is_none() {
+        if self.active == IDLE {
             0
         } else {
             self.len_state
@@ -108,26 +111,27 @@ impl MatchModel {
     /// [`input`](MatchModel::input)).
     #[cfg(test)]
     pub(crate) fn expected_bit(&self) -> Option<bool> {
-        self.active.map(|i| i & 1 == 1)
+        (self.active != IDLE).then_some(self.active & 1 == 1)
     }
 
     /// The stretched prediction for the next bit (0 when there is none).
     #[inline]
     pub(crate) fn input(&mut self) -> i32 {
         if self.predicted == 0 {
-            self.active = None;
+            self.active = IDLE;
             return 0;
         }
         let bit = (self.predicted >> self.depth) & 1;
         let i = self.bucket2 + bit as usize;
-        self.active = Some(i);
+        self.active = i;
         stretch(counter_p16(self.counters[i]))
     }
 
     /// Learns the coded bit.
     #[inline]
     pub(crate) fn update_bit(&mut self, bit: bool) {
-        if let Some(i) = self.active {
+        let i = self.active;
+        if i != IDLE {
             counter_update(&mut self.counters[i], bit, LIMIT);
             if (i & 1 == 1) != bit {
                 // Contradicted: nothing more is predicted in this byte.

@@ -222,13 +222,15 @@ impl Mixer {
 
     /// [`select`](Mixer::select) `set`, then [`mix`](Mixer::mix) `inputs`.
     ///
-    /// `N` must be the stride; every input within ±2047 (as `add` would
-    /// clamp it) and the padding past the input count 0.
+    /// `N` must be the stride, `set` below the number of sets; every input
+    /// within ±2047 (as `add` would clamp it) and the padding past the input
+    /// count 0.
     #[inline(always)]
     pub(crate) fn mix_inputs<const N: usize>(&mut self, inputs: &[i32; N], set: usize) -> u32 {
         debug_assert_eq!(N, self.stride);
         debug_assert!(inputs.iter().all(|x| x.abs() <= STRETCH_MAX));
-        let start = set.min(self.sets - 1) * N;
+        debug_assert!(set < self.sets);
+        let start = set * N;
         self.set = start;
         let w: &[i32; N] = self.weights[start..start + N]
             .try_into()

@@ -49,6 +49,9 @@ use crate::model::word::WordContext;
 /// Most hashed contexts: orders 2 to 6, the word and the column context.
 const MAX_HASHED: usize = 7;
 
+/// Hashed contexts of the default parameters (orders 2 and 3, word, column).
+const DEFAULT_HASHED: usize = 4;
+
 /// Count limit of the hashed context counters.
 const HASHED_LIMIT: u32 = 60;
 
@@ -184,26 +187,34 @@ impl MixModel {
     fn code_byte<I: BitIo>(&mut self, io: &mut I, byte: u8) -> Result<u8> {
         // The mixer's inputs, padded to its stride: 8 for up to 8 inputs
         // (the defaults have 7), else 16.
-        if self.mixer.stride() == 8 {
-            self.code_byte_n::<I, 8>(io, byte)
+        // The default shape (four hashed contexts, order 1 and the match
+        // model: seven inputs) gets a loop compiled for it.
+        if self.hashed == DEFAULT_HASHED && self.use_order1 && self.matcher.is_some() {
+            self.code_byte_n::<I, 8, true>(io, byte)
+        } else if self.mixer.stride() == 8 {
+            self.code_byte_n::<I, 8, false>(io, byte)
         } else {
-            self.code_byte_n::<I, 16>(io, byte)
+            self.code_byte_n::<I, 16, false>(io, byte)
         }
     }
 
     #[inline(always)]
-    fn code_byte_n<I: BitIo, const N: usize>(&mut self, io: &mut I, byte: u8) -> Result<u8> {
+    fn code_byte_n<I: BitIo, const N: usize, const FIXED: bool>(
+        &mut self,
+        io: &mut I,
+        byte: u8,
+    ) -> Result<u8> {
         let c1 = (self.c8 & 0xFF) as usize;
         let g1 = if self.use_order1 {
             self.order1.base(c1)
         } else {
             0
         };
-        let high = self.nibble::<I, N>(io, byte >> 4, 1, g1, c1)?;
+        let high = self.nibble::<I, N, FIXED>(io, byte >> 4, 1, g1, c1)?;
         let h = (high & 15) as u64;
         self.find_low_slots(h);
         let g1 = g1 + 16 * (1 + h as usize);
-        let c0 = self.nibble::<I, N>(io, byte & 15, high, g1, c1)?;
+        let c0 = self.nibble::<I, N, FIXED>(io, byte & 15, high, g1, c1)?;
         Ok(c0 as u8)
     }
 
@@ -212,11 +223,12 @@ impl MixModel {
     /// leading 1, `c1` the previous byte. Returns the partial byte after it.
     ///
     /// Mixer inputs in order: the hashed contexts, order 1, the match model,
-    /// the bias; the rest of the `N` stay 0.
+    /// the bias; the rest of the `N` stay 0. With `FIXED` the shape is the
+    /// default one (see `code_byte`), so the compiler knows every index.
     ///
     /// Kept out of line, so encoder and decoder get the same optimisation.
     #[inline(never)]
-    fn nibble<I: BitIo, const N: usize>(
+    fn nibble<I: BitIo, const N: usize, const FIXED: bool>(
         &mut self,
         io: &mut I,
         value: u8,
@@ -224,8 +236,8 @@ impl MixModel {
         g1: usize,
         c1: usize,
     ) -> Result<usize> {
-        let bases = &self.bases[..self.hashed];
-        let use_order1 = self.use_order1;
+        let bases = &self.bases[..if FIXED { DEFAULT_HASHED } else { self.hashed }];
+        let use_order1 = FIXED || self.use_order1;
         let o1 = bases.len();
         let im = o1 + usize::from(use_order1);
         let ib = im + usize::from(self.matcher.is_some());
