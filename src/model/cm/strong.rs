@@ -23,8 +23,18 @@
 //! random input costs barely more than 8 bits a byte (the many small, noisy
 //! mixer weights alone would cost about 1 %).
 //!
-//! Invariants: encoder and decoder call `predict`, `update` and `byte_done`
-//! in the same order with the same bits and the same history, so every table
+//! The bit loop runs a nibble at a time over the slots found at the nibble's
+//! start, with the mixer's inputs in a fixed array; the default shape (four
+//! hashed contexts, order 1, the match model) has a loop compiled for it.
+//! After the coder returns the bit, the updates take one of two paths, one
+//! per bit value, with the bit a constant in each: a decoder, which learns
+//! the bit only from the coder, then does not wait for it before the next
+//! bit's loads — the processor follows the predicted branch, and only a
+//! mispredicted one costs the wait. (The order-2 engine reads both children
+//! instead; here that would add more work than the wait it saves.)
+//!
+//! Invariants: encoder and decoder run the same predictions and updates in
+//! the same order with the same bits and the same history, so every table
 //! evolves identically; all indices are derived from masked hashes or
 //! bounded node numbers, so no input can index out of range.
 
@@ -218,6 +228,37 @@ impl MixModel {
         Ok(c0 as u8)
     }
 
+    /// Learns coded bit `BIT` at tree node `node` of the slots in `bases`
+    /// (and of the order-1 counter at `order1`, if any), for a prediction
+    /// from inputs `xs` with final probability `p` and gain input `gain_st`.
+    #[inline(always)]
+    fn learn<const N: usize, const BIT: bool>(
+        &mut self,
+        xs: &[i32; N],
+        bases: &[usize],
+        order1: Option<usize>,
+        node: usize,
+        p: u32,
+        gain_st: i32,
+    ) {
+        self.mixer.learn_inputs(xs, BIT);
+        self.apm1.update(BIT);
+        self.apm2.update(BIT);
+        // Gain: w += x·err / 2^13 (a slow rate keeps its noise low).
+        let err = (if BIT { 65536 } else { 0 }) - p as i32;
+        self.gain = (self.gain + ((gain_st * (err >> 4)) >> 13)).clamp(0, 4 << 16);
+        let words = self.slots.words_mut();
+        for &base in bases {
+            counter_update(&mut words[base + node], BIT, HASHED_LIMIT);
+        }
+        if let Some(i) = order1 {
+            update_stored(&mut self.order1.table_mut()[i], BIT, ORDER1_LIMIT);
+        }
+        if let Some(m) = &mut self.matcher {
+            m.update_bit(BIT);
+        }
+    }
+
     /// Codes the four bits of `value` (one nibble) through the slots in
     /// `bases` and the order-1 group `g1`; `c0` is the partial byte with a
     /// leading 1, `c1` the previous byte. Returns the partial byte after it.
@@ -236,7 +277,8 @@ impl MixModel {
         g1: usize,
         c1: usize,
     ) -> Result<usize> {
-        let bases = &self.bases[..if FIXED { DEFAULT_HASHED } else { self.hashed }];
+        let all_bases = self.bases;
+        let bases = &all_bases[..if FIXED { DEFAULT_HASHED } else { self.hashed }];
         let use_order1 = FIXED || self.use_order1;
         let o1 = bases.len();
         let im = o1 + usize::from(use_order1);
@@ -267,26 +309,19 @@ impl MixModel {
             let gain_st = stretch(pf);
             let p = squash(((i64::from(self.gain) * i64::from(gain_st)) >> 16) as i32);
 
-            let bit = io.code(bit, p)?;
-
-            self.mixer.learn_inputs(&xs, bit);
-            self.apm1.update(bit);
-            self.apm2.update(bit);
-            // Gain: w += x·err / 2^13 (a slow rate keeps its noise low).
-            let err = (if bit { 65536 } else { 0 }) - p as i32;
-            self.gain = (self.gain + ((gain_st * (err >> 4)) >> 13)).clamp(0, 4 << 16);
-            let words = self.slots.words_mut();
-            for &base in bases {
-                counter_update(&mut words[base + node], bit, HASHED_LIMIT);
+            let order1 = use_order1.then_some(g1 + node);
+            // One path per bit value, each with its bit a constant: a
+            // decoder's processor then follows the predicted branch into the
+            // next bit's loads instead of waiting for the decoded bit.
+            if io.code(bit, p)? {
+                self.learn::<N, true>(&xs, bases, order1, node, p, gain_st);
+                node = 2 * node + 1;
+                c0 = 2 * c0 + 1;
+            } else {
+                self.learn::<N, false>(&xs, bases, order1, node, p, gain_st);
+                node *= 2;
+                c0 *= 2;
             }
-            if use_order1 {
-                update_stored(&mut self.order1.table_mut()[g1 + node], bit, ORDER1_LIMIT);
-            }
-            if let Some(m) = &mut self.matcher {
-                m.update_bit(bit);
-            }
-            node = 2 * node + usize::from(bit);
-            c0 = 2 * c0 + usize::from(bit);
         }
         Ok(c0)
     }
