@@ -195,10 +195,9 @@ impl MixModel {
     /// Codes one byte (the encoder passes it; the decoder passes anything).
     #[inline]
     fn code_byte<I: BitIo>(&mut self, io: &mut I, byte: u8) -> Result<u8> {
-        // The mixer's inputs, padded to its stride: 8 for up to 8 inputs
-        // (the defaults have 7), else 16.
-        // The default shape (four hashed contexts, order 1 and the match
-        // model: seven inputs) gets a loop compiled for it.
+        // The mixer's inputs are padded to its stride: 8 for up to 8 inputs,
+        // else 16. The default shape (four hashed contexts, order 1 and the
+        // match model: seven inputs) gets a loop compiled for it.
         if self.hashed == DEFAULT_HASHED && self.use_order1 && self.matcher.is_some() {
             self.code_byte_n::<I, 8, true>(io, byte)
         } else if self.mixer.stride() == 8 {
