@@ -169,20 +169,35 @@ impl Apm {
     /// [`update`](Apm::update).
     #[inline]
     pub fn refine(&mut self, p16: u32, context: usize) -> u32 {
-        let s = (stretch(p16) + 2048) as u32; // 1 ..= 4095
-        let lo = ((s >> 7) as usize).min(POINTS - 2);
+        self.refine_stretched(stretch(p16), context.min(self.contexts - 1))
+    }
+
+    /// [`refine`](Apm::refine) given `stretch(p16)` (in `-2047 ..= 2047`, as
+    /// [`stretch`] returns it), for callers that refine one probability in
+    /// several maps; `context` must be below the number of contexts.
+    #[inline(always)]
+    pub(crate) fn refine_stretched(&mut self, st: i32, context: usize) -> u32 {
+        debug_assert!(st.abs() <= 2047 && context < self.contexts);
+        let s = (st + 2048) as u32; // 1 ..= 4095, so `lo <= POINTS - 2`
+        let lo = (s >> 7) as usize;
         let w = s & 127;
-        let c = context.min(self.contexts - 1);
         let base = if self.whole {
-            c * POINTS
+            context * POINTS
         } else {
-            self.grouped_base(c)
+            self.grouped_base(context)
         } + lo;
-        let a = u32::from(self.table[base]);
-        let b = u32::from(self.table[base + 1]);
+        let [a, b] = *self.pair(base);
         self.index = base;
         self.weight = w;
-        ((a * (128 - w) + b * w) >> 7).clamp(1, 65535)
+        ((u32::from(a) * (128 - w) + u32::from(b) * w) >> 7).max(1)
+    }
+
+    /// The two points at `index` and `index + 1`.
+    #[inline(always)]
+    fn pair(&mut self, index: usize) -> &mut [u16; 2] {
+        (&mut self.table[index..index + 2])
+            .try_into()
+            .expect("a slice of two")
     }
 
     /// Where context `c`'s curve starts when curves are given on first use
@@ -206,9 +221,15 @@ impl Apm {
         let target = if bit { 65535 } else { 0 };
         let shift = u32::from(self.rate) + 7;
         let w = self.weight as i32;
-        for (i, share) in [(self.index, 128 - w), (self.index + 1, w)] {
-            let t = i32::from(self.table[i]);
-            self.table[i] = (t + (((target - t) * share) >> shift)).clamp(0, 65535) as u16;
+        // A step moves a point at most `share / 2^shift <= 2^-rate` of the
+        // way to the target (rounding towards minus infinity never passes 0),
+        // so points stay in `0 ..= 65535` without clamping.
+        let pair = self.pair(self.index);
+        for (point, share) in pair.iter_mut().zip([128 - w, w]) {
+            let t = i32::from(*point);
+            let next = t + (((target - t) * share) >> shift);
+            debug_assert!((0..=65535).contains(&next));
+            *point = next as u16;
         }
     }
 }

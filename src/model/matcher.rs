@@ -40,6 +40,9 @@ pub(crate) const LEN_BUCKETS: usize = 24;
 /// Count limit of the confidence counters.
 const LIMIT: u32 = 1023;
 
+/// `MatchModel::active` when the last bit had no prediction.
+const IDLE: usize = usize::MAX;
+
 /// Length bucket: exact up to 15, then logarithmic.
 #[inline]
 fn bucket(len: u32) -> usize {
@@ -57,12 +60,18 @@ pub(crate) struct MatchModel {
     shift: u32,
     ptr: usize,
     len: u32,
-    /// The predicted byte with a leading 1 (`0x100 | byte`); 0 when idle.
+    /// The predicted byte with a leading 1 (`0x100 | byte`) while every bit
+    /// of the current byte so far agreed with it; 0 when idle or contradicted.
     predicted: u32,
-    /// Bits of the current byte coded so far, with a leading 1.
-    partial: u32,
+    /// Position in `predicted` of the next bit (7 for the first bit).
+    depth: u32,
+    /// `2 * bucket(len)`: the counter pair of the current length.
+    bucket2: usize,
+    /// [`state`](MatchModel::state) while a match predicts.
+    len_state: usize,
     counters: [u32; 2 * LEN_BUCKETS],
-    active: Option<usize>,
+    /// The counter of the last prediction, or [`IDLE`] when there was none.
+    active: usize,
 }
 
 impl MatchModel {
@@ -79,9 +88,11 @@ impl MatchModel {
             ptr: 0,
             len: 0,
             predicted: 0,
-            partial: 1,
+            depth: 7,
+            bucket2: 0,
+            len_state: 0,
             counters: [COUNTER_INIT; 2 * LEN_BUCKETS],
-            active: None,
+            active: IDLE,
         }
     }
 
@@ -89,14 +100,10 @@ impl MatchModel {
     /// contradicted, then 1 to 3 for short, medium and long matches.
     #[inline]
     pub(crate) fn state(&self) -> usize {
-        if self.active.is_none() {
+        if self.active == IDLE {
             0
-        } else if self.len < 16 {
-            1
-        } else if self.len < 32 {
-            2
         } else {
-            3
+            self.len_state
         }
     }
 
@@ -104,41 +111,39 @@ impl MatchModel {
     /// [`input`](MatchModel::input)).
     #[cfg(test)]
     pub(crate) fn expected_bit(&self) -> Option<bool> {
-        self.active.map(|i| i & 1 == 1)
+        (self.active != IDLE).then_some(self.active & 1 == 1)
     }
 
     /// The stretched prediction for the next bit (0 when there is none).
     #[inline]
     pub(crate) fn input(&mut self) -> i32 {
         if self.predicted == 0 {
-            self.active = None;
+            self.active = IDLE;
             return 0;
         }
-        // The next bit of the predicted byte, if the bits so far agree.
-        let depth = 32 - self.partial.leading_zeros() - 1; // bits coded so far
-        let expected_prefix = self.predicted >> (8 - depth);
-        if expected_prefix != self.partial {
-            self.active = None;
-            return 0;
-        }
-        let bit = (self.predicted >> (7 - depth)) & 1;
-        let i = 2 * bucket(self.len) + bit as usize;
-        self.active = Some(i);
+        let bit = (self.predicted >> self.depth) & 1;
+        let i = self.bucket2 + bit as usize;
+        self.active = i;
         stretch(counter_p16(self.counters[i]))
     }
 
     /// Learns the coded bit.
     #[inline]
     pub(crate) fn update_bit(&mut self, bit: bool) {
-        if let Some(i) = self.active {
+        let i = self.active;
+        if i != IDLE {
             counter_update(&mut self.counters[i], bit, LIMIT);
+            if (i & 1 == 1) != bit {
+                // Contradicted: nothing more is predicted in this byte.
+                self.predicted = 0;
+            }
         }
-        self.partial = (self.partial << 1) | u32::from(bit);
+        self.depth = self.depth.wrapping_sub(1);
     }
 
     /// Takes in the byte just completed; `history` ends with it.
     pub(crate) fn byte_done(&mut self, history: &[u8]) {
-        self.partial = 1;
+        self.depth = 7;
         let pos = history.len();
         let Some(&last) = history.last() else {
             return;
@@ -179,6 +184,14 @@ impl MatchModel {
             0x100 | u32::from(history[self.ptr])
         } else {
             0
+        };
+        self.bucket2 = 2 * bucket(self.len);
+        self.len_state = if self.len < 16 {
+            1
+        } else if self.len < 32 {
+            2
+        } else {
+            3
         };
     }
 }

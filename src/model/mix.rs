@@ -209,6 +209,62 @@ impl Mixer {
     }
 }
 
+/// The engines' fast path: inputs live in the caller's array of `N` (the
+/// stride), so nothing is copied, counted or clamped per input. Each
+/// computes exactly what [`Mixer::add`], [`Mixer::select`], [`Mixer::mix`]
+/// and [`Mixer::update`] compute for the same inputs.
+impl Mixer {
+    /// Entries per weight set: the input count rounded up to a multiple of 8.
+    #[inline]
+    pub(crate) fn stride(&self) -> usize {
+        self.stride
+    }
+
+    /// [`select`](Mixer::select) `set`, then [`mix`](Mixer::mix) `inputs`.
+    ///
+    /// `N` must be the stride, `set` below the number of sets; every input
+    /// within ±2047 (as `add` would clamp it) and the padding past the input
+    /// count 0.
+    #[inline(always)]
+    pub(crate) fn mix_inputs<const N: usize>(&mut self, inputs: &[i32; N], set: usize) -> u32 {
+        debug_assert_eq!(N, self.stride);
+        debug_assert!(inputs.iter().all(|x| x.abs() <= STRETCH_MAX));
+        debug_assert!(set < self.sets);
+        let start = set * N;
+        self.set = start;
+        let w: &[i32; N] = self.weights[start..start + N]
+            .try_into()
+            .expect("a weight set holds N entries");
+        let mut acc = [0i32; LANES];
+        for (xs, ws) in inputs.chunks_exact(LANES).zip(w.chunks_exact(LANES)) {
+            for ((a, &x), &w) in acc.iter_mut().zip(xs).zip(ws) {
+                *a += (x * w) >> 8;
+            }
+        }
+        let dot: i32 = acc.iter().sum();
+        self.p = squash(dot >> 8);
+        self.p
+    }
+
+    /// [`update`](Mixer::update) for the inputs of the last
+    /// [`mix_inputs`](Mixer::mix_inputs).
+    #[inline(always)]
+    pub(crate) fn learn_inputs<const N: usize>(&mut self, inputs: &[i32; N], bit: bool) {
+        let target = if bit { 65536 } else { 0 };
+        let scale = ((target - self.p as i32) >> 4) * self.rate;
+        let start = self.set;
+        let w: &mut [i32; N] = (&mut self.weights[start..start + N])
+            .try_into()
+            .expect("a weight set holds N entries");
+        for (ws, xs) in w.chunks_exact_mut(LANES).zip(inputs.chunks_exact(LANES)) {
+            for (w, &x) in ws.iter_mut().zip(xs) {
+                let step = (x * scale + 512) >> 10;
+                *w = (*w + step).clamp(-WEIGHT_LIMIT, WEIGHT_LIMIT);
+            }
+        }
+    }
+}
+
 fn invalid(name: &'static str, reason: &'static str) -> crate::Error {
     ErrorKind::InvalidParameter { name, reason }.into()
 }

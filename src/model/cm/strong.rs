@@ -23,8 +23,18 @@
 //! random input costs barely more than 8 bits a byte (the many small, noisy
 //! mixer weights alone would cost about 1 %).
 //!
-//! Invariants: encoder and decoder call `predict`, `update` and `byte_done`
-//! in the same order with the same bits and the same history, so every table
+//! The bit loop runs a nibble at a time over the slots found at the nibble's
+//! start, with the mixer's inputs in a fixed array; the default shape (four
+//! hashed contexts, order 1, the match model) has a loop compiled for it.
+//! After the coder returns the bit, the updates take one of two paths, one
+//! per bit value, with the bit a constant in each: a decoder, which learns
+//! the bit only from the coder, then does not wait for it before the next
+//! bit's loads — the processor follows the predicted branch, and only a
+//! mispredicted one costs the wait. (The order-2 engine reads both children
+//! instead; here that would add more work than the wait it saves.)
+//!
+//! Invariants: encoder and decoder run the same predictions and updates in
+//! the same order with the same bits and the same history, so every table
 //! evolves identically; all indices are derived from masked hashes or
 //! bounded node numbers, so no input can index out of range.
 
@@ -48,6 +58,9 @@ use crate::model::word::WordContext;
 
 /// Most hashed contexts: orders 2 to 6, the word and the column context.
 const MAX_HASHED: usize = 7;
+
+/// Hashed contexts of the default parameters (orders 2 and 3, word, column).
+const DEFAULT_HASHED: usize = 4;
 
 /// Count limit of the hashed context counters.
 const HASHED_LIMIT: u32 = 60;
@@ -77,9 +90,6 @@ struct MixModel {
     /// slowly: it shrinks towards 0 when the predictions carry no information
     /// (random data), and stays near 1 otherwise.
     gain: i32,
-    /// The stretched input of the gain stage and its output, for the update.
-    gain_st: i32,
-    p: u32,
     c8: u64,
 }
 
@@ -118,8 +128,6 @@ impl MixModel {
                 MixParams::apm2_groups_for(len),
             )?,
             gain: 1 << 16,
-            gain_st: 0,
-            p: 32768,
             c8: 0,
         };
         m.set_contexts();
@@ -184,81 +192,137 @@ impl MixModel {
         }
     }
 
-    /// The probability of a 1 for the bit at `node` of the current nibble;
-    /// `c0` is the partial byte with a leading 1, `g1` the order-1 group.
-    #[inline(always)]
-    fn predict(&mut self, node: usize, c0: usize, g1: usize) -> u32 {
-        let words = self.slots.words();
-        for &base in &self.bases[..self.hashed] {
-            self.mixer.add(stretch(counter_p16(words[base + node])));
-        }
-        if self.use_order1 {
-            let c = self.order1.table()[g1 + node] ^ COUNTER_INIT;
-            self.mixer.add(stretch(counter_p16(c)));
-        }
-        let mut state = 0;
-        if let Some(m) = &mut self.matcher {
-            self.mixer.add(m.input());
-            state = m.state();
-        }
-        self.mixer.add(256);
-        self.mixer.select(state * 256 + c0);
-        let p = self.mixer.mix();
-        let c1 = (self.c8 & 0xFF) as usize;
-        let a1 = self.apm1.refine(p, c0);
-        let a2 = self.apm2.refine(p, c0 | (c1 << 8));
-        let p = ((2 * p + a1 + a2 + 2) >> 2).clamp(1, 65535);
-        self.gain_st = stretch(p);
-        self.p = squash(((i64::from(self.gain) * i64::from(self.gain_st)) >> 16) as i32);
-        self.p
-    }
-
-    #[inline(always)]
-    fn update(&mut self, bit: bool, node: usize, g1: usize) {
-        self.mixer.update(bit);
-        self.apm1.update(bit);
-        self.apm2.update(bit);
-        // Gain: w += x·err / 2^13 (a slow rate keeps its noise low).
-        let err = (if bit { 65536 } else { 0 }) - self.p as i32;
-        self.gain = (self.gain + ((self.gain_st * (err >> 4)) >> 13)).clamp(0, 4 << 16);
-        let words = self.slots.words_mut();
-        for &base in &self.bases[..self.hashed] {
-            counter_update(&mut words[base + node], bit, HASHED_LIMIT);
-        }
-        if self.use_order1 {
-            update_stored(&mut self.order1.table_mut()[g1 + node], bit, ORDER1_LIMIT);
-        }
-        if let Some(m) = &mut self.matcher {
-            m.update_bit(bit);
-        }
-    }
-
     /// Codes one byte (the encoder passes it; the decoder passes anything).
     #[inline]
     fn code_byte<I: BitIo>(&mut self, io: &mut I, byte: u8) -> Result<u8> {
-        let mut c0 = 1usize;
-        let mut g1 = if self.use_order1 {
-            self.order1.base((self.c8 & 0xFF) as usize)
+        // The mixer's inputs are padded to its stride: 8 for up to 8 inputs,
+        // else 16. The default shape (four hashed contexts, order 1 and the
+        // match model: seven inputs) gets a loop compiled for it.
+        if self.hashed == DEFAULT_HASHED && self.use_order1 && self.matcher.is_some() {
+            self.code_byte_n::<I, 8, true>(io, byte)
+        } else if self.mixer.stride() == 8 {
+            self.code_byte_n::<I, 8, false>(io, byte)
+        } else {
+            self.code_byte_n::<I, 16, false>(io, byte)
+        }
+    }
+
+    #[inline(always)]
+    fn code_byte_n<I: BitIo, const N: usize, const FIXED: bool>(
+        &mut self,
+        io: &mut I,
+        byte: u8,
+    ) -> Result<u8> {
+        let c1 = (self.c8 & 0xFF) as usize;
+        let g1 = if self.use_order1 {
+            self.order1.base(c1)
         } else {
             0
         };
-        for half in 0..2 {
-            let mut node = 1usize;
-            for k in (0..4).rev() {
-                let bit = (byte >> (4 * (1 - half) + k)) & 1 == 1;
-                let p = self.predict(node, c0, g1);
-                let bit = io.code(bit, p)?;
-                self.update(bit, node, g1);
-                node = 2 * node + usize::from(bit);
-                c0 = 2 * c0 + usize::from(bit);
+        let high = self.nibble::<I, N, FIXED>(io, byte >> 4, 1, g1, c1)?;
+        let h = (high & 15) as u64;
+        self.find_low_slots(h);
+        let g1 = g1 + 16 * (1 + h as usize);
+        let c0 = self.nibble::<I, N, FIXED>(io, byte & 15, high, g1, c1)?;
+        Ok(c0 as u8)
+    }
+
+    /// Learns coded bit `BIT` at tree node `node` of the slots in `bases`
+    /// (and of the order-1 counter at `order1`, if any), for a prediction
+    /// from inputs `xs` with final probability `p` and gain input `gain_st`.
+    #[inline(always)]
+    fn learn<const N: usize, const BIT: bool>(
+        &mut self,
+        xs: &[i32; N],
+        bases: &[usize],
+        order1: Option<usize>,
+        node: usize,
+        p: u32,
+        gain_st: i32,
+    ) {
+        self.mixer.learn_inputs(xs, BIT);
+        self.apm1.update(BIT);
+        self.apm2.update(BIT);
+        // Gain: w += x·err / 2^13 (a slow rate keeps its noise low).
+        let err = (if BIT { 65536 } else { 0 }) - p as i32;
+        self.gain = (self.gain + ((gain_st * (err >> 4)) >> 13)).clamp(0, 4 << 16);
+        let words = self.slots.words_mut();
+        for &base in bases {
+            counter_update(&mut words[base + node], BIT, HASHED_LIMIT);
+        }
+        if let Some(i) = order1 {
+            update_stored(&mut self.order1.table_mut()[i], BIT, ORDER1_LIMIT);
+        }
+        if let Some(m) = &mut self.matcher {
+            m.update_bit(BIT);
+        }
+    }
+
+    /// Codes the four bits of `value` (one nibble) through the slots in
+    /// `bases` and the order-1 group `g1`; `c0` is the partial byte with a
+    /// leading 1, `c1` the previous byte. Returns the partial byte after it.
+    ///
+    /// Mixer inputs in order: the hashed contexts, order 1, the match model,
+    /// the bias; the rest of the `N` stay 0. With `FIXED` the shape is the
+    /// default one (see `code_byte`), so the compiler knows every index.
+    ///
+    /// Kept out of line, so encoder and decoder get the same optimisation.
+    #[inline(never)]
+    fn nibble<I: BitIo, const N: usize, const FIXED: bool>(
+        &mut self,
+        io: &mut I,
+        value: u8,
+        mut c0: usize,
+        g1: usize,
+        c1: usize,
+    ) -> Result<usize> {
+        let all_bases = self.bases;
+        let bases = &all_bases[..if FIXED { DEFAULT_HASHED } else { self.hashed }];
+        let use_order1 = FIXED || self.use_order1;
+        let o1 = bases.len();
+        let im = o1 + usize::from(use_order1);
+        let ib = im + usize::from(self.matcher.is_some());
+        let mut xs = [0i32; N];
+        xs[ib] = 256;
+        let mut node = 1usize;
+        for k in (0..4).rev() {
+            let bit = (value >> k) & 1 == 1;
+            let words = self.slots.words();
+            for (x, &base) in xs.iter_mut().zip(bases) {
+                *x = stretch(counter_p16(words[base + node]));
             }
-            if half == 0 {
-                let high = (c0 & 15) as u64;
-                self.find_low_slots(high);
-                g1 += 16 * (1 + high as usize);
+            if use_order1 {
+                let c = self.order1.table()[g1 + node] ^ COUNTER_INIT;
+                xs[o1] = stretch(counter_p16(c));
+            }
+            let mut state = 0;
+            if let Some(m) = &mut self.matcher {
+                xs[im] = m.input();
+                state = m.state();
+            }
+            let pm = self.mixer.mix_inputs(&xs, state * 256 + c0);
+            let st = stretch(pm);
+            let a1 = self.apm1.refine_stretched(st, c0);
+            let a2 = self.apm2.refine_stretched(st, c0 | (c1 << 8));
+            let pf = ((2 * pm + a1 + a2 + 2) >> 2).clamp(1, 65535);
+            let gain_st = stretch(pf);
+            let p = squash(((i64::from(self.gain) * i64::from(gain_st)) >> 16) as i32);
+
+            let order1 = use_order1.then_some(g1 + node);
+            // One path per bit value, each with its bit a constant: a
+            // decoder's processor then follows the predicted branch into the
+            // next bit's loads instead of waiting for the decoded bit.
+            if io.code(bit, p)? {
+                self.learn::<N, true>(&xs, bases, order1, node, p, gain_st);
+                node = 2 * node + 1;
+                c0 = 2 * c0 + 1;
+            } else {
+                self.learn::<N, false>(&xs, bases, order1, node, p, gain_st);
+                node *= 2;
+                c0 *= 2;
             }
         }
-        Ok(c0 as u8)
+        Ok(c0)
     }
 
     /// Finishes a byte: `history` ends with it.

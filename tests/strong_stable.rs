@@ -1,0 +1,158 @@
+//! Streams the context-mixing engines wrote must keep decoding: both engines
+//! are deterministic, so the coded bytes for fixed inputs and parameters are
+//! pinned here by their length and CRC-32. A speed-up that changes one coded
+//! byte fails this test; a different model belongs behind a new parameter
+//! value, so that streams with the old values still decode.
+
+mod common;
+
+use common::gen;
+use subrange::model::cm::{
+    decode_mix, decode_order2, encode_mix, encode_order2, MixParams, Order2Params,
+};
+
+/// The inputs: seeded text and telemetry, a short record and a binary mix.
+fn inputs() -> Vec<(&'static str, Vec<u8>)> {
+    let mut binary = gen::telemetry(6000, 5);
+    binary.extend(gen::random(3000, 6));
+    binary.extend(gen::text(6000, 7));
+    vec![
+        ("text", gen::text(24_000, 1)),
+        ("telemetry", gen::telemetry(24_000, 2)),
+        ("short", gen::telemetry(300, 3)),
+        ("binary", binary),
+    ]
+}
+
+/// Checks `coded` against its pin.
+fn check(what: &str, coded: &[u8], pin: (usize, u32)) {
+    let got = (coded.len(), crc32fast::hash(coded));
+    assert_eq!(got, pin, "{what}: (length, CRC-32) of the coded bytes");
+}
+
+/// Per input of [`inputs`], the (length, CRC-32) of its coded bytes.
+type Pins = [(usize, u32); 4];
+
+/// `MixParams::to_bytes` of each parameter set, and its pins.
+const MIX_PINS: &[([u8; 4], Pins)] = &[
+    (
+        [2, 7, 7, 6],
+        [
+            (7389, 0xE24ED549),
+            (1954, 0xB1C103FF),
+            (133, 0xA5C54AFE),
+            (5964, 0x0A99A029),
+        ],
+    ),
+    (
+        [0, 63, 7, 6],
+        [
+            (7661, 0x07B981E2),
+            (1989, 0x4D1F0658),
+            (133, 0xAEC661B4),
+            (6018, 0x879CFA8E),
+        ],
+    ),
+    (
+        [1, 1, 0, 6],
+        [
+            (10022, 0xE333A06E),
+            (6999, 0x035B1B12),
+            (165, 0x809333C3),
+            (7624, 0xB38BF453),
+        ],
+    ),
+    (
+        [0, 0, 4, 3],
+        [
+            (10545, 0x23C1D3C1),
+            (4121, 0xE175FC69),
+            (181, 0x04C03D6E),
+            (7430, 0xD6A3D260),
+        ],
+    ),
+    (
+        [3, 42, 3, 20],
+        [
+            (7886, 0x0C6FF296),
+            (2281, 0xD67EABD0),
+            (126, 0x2F99167E),
+            (6123, 0xBBF77175),
+        ],
+    ),
+    (
+        [0, 2, 4, 64],
+        [
+            (9161, 0x26D0A998),
+            (4061, 0xDFCC9DDF),
+            (129, 0x691B6D6D),
+            (6894, 0xF6CA4A46),
+        ],
+    ),
+    (
+        [2, 4, 1, 1],
+        [
+            (8812, 0x0EC8BFD5),
+            (3180, 0x01D76198),
+            (169, 0xA8D817C6),
+            (6822, 0xE7097581),
+        ],
+    ),
+    (
+        [10, 3, 6, 6],
+        [
+            (7597, 0x37B5CEDF),
+            (1984, 0x56E9CCE3),
+            (135, 0xB9D79125),
+            (6021, 0xD7E3F55C),
+        ],
+    ),
+];
+
+/// `Order2Params::to_bytes` of each parameter set, and its pins.
+const ORDER2_PINS: &[([u8; 3], Pins)] = &[
+    (
+        [1, 60, 0],
+        [
+            (8544, 0x9CFA3A91),
+            (4282, 0xFAFDE069),
+            (158, 0x81A16349),
+            (7086, 0xE10B3D22),
+        ],
+    ),
+    (
+        [0, 255, 0],
+        [
+            (9342, 0x9103B105),
+            (4697, 0xFB8A61D5),
+            (186, 0x2D011E73),
+            (7380, 0x91119C55),
+        ],
+    ),
+];
+
+#[test]
+fn mix_streams_are_pinned() {
+    let inputs = inputs();
+    for &(bytes, pins) in MIX_PINS {
+        let p = MixParams::from_bytes(bytes).unwrap();
+        for ((name, data), pin) in inputs.iter().zip(pins) {
+            let coded = encode_mix(data, &p).unwrap();
+            check(&format!("mix {bytes:?} {name}"), &coded, pin);
+            assert_eq!(decode_mix(&coded, data.len(), &p).unwrap(), *data);
+        }
+    }
+}
+
+#[test]
+fn order2_streams_are_pinned() {
+    let inputs = inputs();
+    for &(bytes, pins) in ORDER2_PINS {
+        let p = Order2Params::from_bytes(bytes).unwrap();
+        for ((name, data), pin) in inputs.iter().zip(pins) {
+            let coded = encode_order2(data, &p).unwrap();
+            check(&format!("order2 {bytes:?} {name}"), &coded, pin);
+            assert_eq!(decode_order2(&coded, data.len(), &p).unwrap(), *data);
+        }
+    }
+}
