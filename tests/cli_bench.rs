@@ -168,3 +168,21 @@ fn a_missing_file_is_named() {
     assert_one_line_failure(&out, 1);
     assert!(stderr(&out).contains("absent.csv"));
 }
+
+#[test]
+fn cpu_clock_is_named_in_the_units() {
+    let dir = Scratch::new("bench-clock");
+    dir.write("levels.csv", &gauge_text(20_000));
+    let v = bench_json(&dir, &["levels.csv", "-p", "static", "--clock", "cpu"]);
+    let speed = v["units"]["speed"].as_str().unwrap();
+    assert!(speed.contains("CPU time"), "{speed}");
+    for r in v["inputs"][0]["results"].as_array().unwrap() {
+        assert!(r["decode_mb_per_s"].as_f64().unwrap() > 0.0, "{r}");
+    }
+    let out = run_in(
+        dir.path(),
+        &["bench", "--clock", "sundial", "levels.csv"],
+        None,
+    );
+    assert_eq!(code(&out), 2);
+}

@@ -161,6 +161,12 @@ pub struct BenchArgs {
     #[arg(short, long, value_name = "SIZE", value_parser = parse_size)]
     pub block_size: Option<u64>,
 
+    /// What a run's time is: 'wall' (elapsed time) or 'cpu' (the measuring
+    /// thread's CPU time, steadier on a busy machine; every codec runs on
+    /// that one thread).
+    #[arg(long, value_name = "CLOCK", default_value = "wall", value_parser = ["wall", "cpu"])]
+    pub clock: String,
+
     /// Overwrite the --plot file if it exists.
     #[arg(short, long)]
     pub force: bool,

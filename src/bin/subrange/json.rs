@@ -210,7 +210,15 @@ pub fn bench(report: &BenchReport) -> String {
                 ("ratio", Value::str("original size / compressed size")),
                 (
                     "speed",
-                    Value::str("1e6 bytes of uncompressed data per second, best run, one thread"),
+                    Value::str(match report.clock {
+                        crate::bench::Clock::Wall => {
+                            "1e6 bytes of uncompressed data per second, best run, one thread"
+                        }
+                        crate::bench::Clock::Cpu => {
+                            "1e6 bytes of uncompressed data per second of the measuring \
+                             thread's CPU time, best run, one thread"
+                        }
+                    }),
                 ),
                 (
                     "ideal_bytes",

@@ -211,7 +211,8 @@ pub fn bench(report: &BenchReport) -> String {
         "\nratio = original / compressed; bits/B = compressed bits per original byte\n\
 ideal = sum of -log2 p over the symbols the models coded (stored blocks: 8 bits a byte)\n\
 overhead = size above ideal: tables, headers, block frames, coder flushes\n\
-MB/s = 10^6 bytes of uncompressed data per second, best of {} run(s), one thread",
+MB/s = 10^6 bytes of uncompressed data per {}, best of {} run(s), one thread",
+        report.clock.describe(),
         report.runs
     );
     out
