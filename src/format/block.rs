@@ -222,6 +222,29 @@ pub(crate) fn decode_payload(
     check_raw(frame, out)
 }
 
+/// Checks the payload CRC-32 of a block whose payload was borrowed rather
+/// than read by [`read_payload`].
+pub(crate) fn check_payload(frame: &BlockFrame, payload: &[u8]) -> Result<()> {
+    if let Some(expected) = frame.payload_crc {
+        if crc32fast::hash(payload) != expected {
+            return Err(bad_block(frame.index, "payload checksum mismatch"));
+        }
+    }
+    Ok(())
+}
+
+/// Checks a stored block already copied to `out`: its length and raw
+/// CRC-32.
+pub(crate) fn check_stored(frame: &BlockFrame, out: &[u8]) -> Result<()> {
+    if frame.kind != BlockKind::Stored || out.len() as u64 != frame.raw_len {
+        return Err(bad_block(
+            frame.index,
+            "decoded length differs from the frame",
+        ));
+    }
+    check_raw(frame, out)
+}
+
 /// Decodes a block's payload into `out` (exactly `raw_len` bytes long) and
 /// checks the raw CRC-32.
 pub(crate) fn decode_payload_into(

@@ -195,7 +195,34 @@ impl<R: Read> Input<R> {
         }
         Ok(())
     }
+}
 
+impl<'a> Input<&'a [u8]> {
+    /// The next `len` bytes borrowed from the input instead of copied (not
+    /// captured), or `None` when a peeked byte stands before them (the
+    /// caller then reads them with [`fill`](Input::fill)).
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::Truncated`] at the offset where the input ends, when it
+    /// holds fewer than `len` bytes.
+    pub(crate) fn take_slice(&mut self, len: usize) -> Result<Option<&'a [u8]>> {
+        if self.peeked.is_some() {
+            return Ok(None);
+        }
+        if self.inner.len() < len {
+            self.offset += self.inner.len() as u64;
+            self.inner = &self.inner[self.inner.len()..];
+            return Err(self.truncated());
+        }
+        let (taken, rest) = self.inner.split_at(len);
+        self.inner = rest;
+        self.offset += len as u64;
+        Ok(Some(taken))
+    }
+}
+
+impl<R: Read> Input<R> {
     /// Counts the bytes left, reading at most `max` of them.
     pub(crate) fn count_rest(&mut self, max: u64) -> Result<u64> {
         let mut n = 0;

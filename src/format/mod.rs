@@ -34,10 +34,11 @@ pub use limits::{DecodeLimits, MAX_BLOCK_SIZE};
 pub use reader::TrailingData;
 
 pub(crate) use block::{
-    decode_payload, decode_payload_into, encode_block, end_record, BlockFrame, EncodedBlock,
+    check_stored, decode_payload, decode_payload_into, encode_block, end_record, BlockFrame,
+    BlockKind as Kind, EncodedBlock,
 };
 pub(crate) use header::encode_header;
-pub(crate) use reader::ContainerReader;
+pub(crate) use reader::{ContainerReader, Payload};
 
 /// The four bytes every container starts with.
 pub const MAGIC: [u8; 4] = [0xB7, 0x73, 0x72, 0x67];

@@ -16,7 +16,7 @@ use std::io::Read;
 use std::vec::Vec;
 
 use crate::error::{ErrorKind, Result};
-use crate::format::block::{read_frame, read_payload, BlockFrame, Frame};
+use crate::format::block::{check_payload, read_frame, read_payload, BlockFrame, Frame};
 use crate::format::header::read_header;
 use crate::format::input::Input;
 use crate::format::limits::{check, DecodeLimits};
@@ -105,6 +105,25 @@ impl<R: Read> ContainerReader<R> {
     /// Reads the next block's frame and payload (into `payload`, its
     /// checksum checked). `None` after the last block of the last container.
     pub(crate) fn next_block(&mut self, payload: &mut Vec<u8>) -> Result<Option<BlockFrame>> {
+        let Some(frame) = self.next_frame()? else {
+            return Ok(None);
+        };
+        read_payload(&mut self.input, &frame, payload)?;
+        self.count(&frame);
+        Ok(Some(frame))
+    }
+
+    /// Counts a block whose payload has been read.
+    fn count(&mut self, frame: &BlockFrame) {
+        self.index += 1;
+        self.total += frame.raw_len;
+        self.grand_total += frame.raw_len;
+    }
+
+    /// Reads the next block's frame (the payload is the caller's to read),
+    /// going past end records into concatenated containers. `None` after the
+    /// last block of the last container.
+    fn next_frame(&mut self) -> Result<Option<BlockFrame>> {
         loop {
             if self.done {
                 return Ok(None);
@@ -118,10 +137,6 @@ impl<R: Read> ContainerReader<R> {
                         self.grand_total.saturating_add(frame.raw_len),
                         self.limits.total_limit(),
                     )?;
-                    read_payload(&mut self.input, &frame, payload)?;
-                    self.index += 1;
-                    self.total += frame.raw_len;
-                    self.grand_total += frame.raw_len;
                     return Ok(Some(frame));
                 }
                 Frame::End {
@@ -170,5 +185,52 @@ impl<R: Read> ContainerReader<R> {
             }
         }
         Ok(())
+    }
+}
+
+impl<'a> ContainerReader<&'a [u8]> {
+    /// As [`next_block`](ContainerReader::next_block), with the payload
+    /// borrowed from the input instead of copied (its checksum checked).
+    /// Falls back to copying into `spare` when the input cannot lend it.
+    pub(crate) fn next_block_borrowed(
+        &mut self,
+        spare: &mut Vec<u8>,
+    ) -> Result<Option<(BlockFrame, Payload<'a>)>> {
+        let Some(frame) = self.next_frame()? else {
+            return Ok(None);
+        };
+        let payload = match self.input.take_slice(frame.payload_len as usize)? {
+            Some(slice) => {
+                check_payload(&frame, slice)?;
+                Payload::Borrowed(slice)
+            }
+            None => {
+                let mut buf = core::mem::take(spare);
+                read_payload(&mut self.input, &frame, &mut buf)?;
+                Payload::Owned(buf)
+            }
+        };
+        self.count(&frame);
+        Ok(Some((frame, payload)))
+    }
+}
+
+/// A block payload: borrowed from an in-memory container, or read into a
+/// buffer of its own.
+#[derive(Debug)]
+pub(crate) enum Payload<'a> {
+    /// A slice of the container.
+    Borrowed(&'a [u8]),
+    /// A copy.
+    Owned(Vec<u8>),
+}
+
+impl Payload<'_> {
+    /// The payload's bytes.
+    pub(crate) fn bytes(&self) -> &[u8] {
+        match self {
+            Payload::Borrowed(s) => s,
+            Payload::Owned(v) => v,
+        }
     }
 }

@@ -10,7 +10,9 @@ use std::io::{self, Read, Write};
 use std::vec::Vec;
 
 use crate::error::{Error, ErrorKind, Result};
-use crate::format::{decode_payload_into, BlockFrame, ContainerReader, DecodeLimits};
+use crate::format::{
+    check_stored, decode_payload_into, BlockFrame, ContainerReader, DecodeLimits, Kind, Payload,
+};
 use crate::preset::Preset;
 use crate::stream::engine::Engine;
 use crate::stream::workers::Workers;
@@ -106,8 +108,9 @@ pub fn decompress_with_options(data: &[u8], options: &DecodeOptions) -> Result<V
     let limits = *options.get_limits();
     let mut reader = ContainerReader::new(data, limits, options.get_trailing());
     let mut out = Vec::new();
-    // Payload buffers, reused from batch to batch.
-    let mut spare: Vec<Vec<u8>> = Vec::new();
+    // Payloads are borrowed from `data`; a buffer for the rare one that
+    // cannot be (see `ContainerReader::next_block_borrowed`).
+    let mut spare = Vec::new();
     loop {
         let header = reader.header()?;
         let need = header.preset.memory_needed(header.block_size).max(1);
@@ -115,16 +118,15 @@ pub fn decompress_with_options(data: &[u8], options: &DecodeOptions) -> Result<V
         // The output is in memory anyway: large batches keep all threads
         // busy, within the memory limit.
         let batch = (16 * workers.count()).min(fit).max(1);
-        let mut items: Vec<(Preset, BlockFrame, Vec<u8>)> = Vec::with_capacity(batch);
+        let mut items: Vec<(Preset, BlockFrame, Payload<'_>)> = Vec::with_capacity(batch);
         // A read error is reported after the blocks before it, so that the
         // first damage in stream order is the one reported.
         let mut stop = None;
         while items.len() < batch {
-            let mut buf = spare.pop().unwrap_or_default();
-            match reader.next_block(&mut buf) {
-                Ok(Some(frame)) => {
+            match reader.next_block_borrowed(&mut spare) {
+                Ok(Some((frame, payload))) => {
                     let preset = reader.header()?.preset;
-                    items.push((preset, frame, buf));
+                    items.push((preset, frame, payload));
                 }
                 Ok(None) => break,
                 Err(e) => {
@@ -137,10 +139,17 @@ pub fn decompress_with_options(data: &[u8], options: &DecodeOptions) -> Result<V
             return stop.map_or(Ok(out), Err);
         }
         // Blocks decode straight into their place in the output (their
-        // lengths passed the block size and total limits).
+        // lengths passed the block size and total limits); stored blocks
+        // are copied there at once, with no zero fill first.
         let start = out.len();
-        let len: u64 = items.iter().map(|(_, f, _)| f.raw_len).sum();
-        out.resize(start + len as usize, 0);
+        for (_, frame, payload) in &items {
+            match frame.kind {
+                Kind::Stored if payload.bytes().len() as u64 == frame.raw_len => {
+                    out.extend_from_slice(payload.bytes())
+                }
+                _ => out.resize(out.len() + frame.raw_len as usize, 0),
+            }
+        }
         let mut rest = &mut out[start..];
         let mut jobs = Vec::with_capacity(items.len());
         for (preset, frame, payload) in items {
@@ -149,10 +158,18 @@ pub fn decompress_with_options(data: &[u8], options: &DecodeOptions) -> Result<V
             jobs.push((preset, frame, payload, slot));
         }
         let results = workers.map(jobs, |(preset, frame, payload, slot)| {
-            decode_payload_into(&preset, &frame, &payload, slot).map(|()| payload)
+            let r = match frame.kind {
+                Kind::Stored if payload.bytes().len() as u64 == frame.raw_len => {
+                    check_stored(&frame, slot)
+                }
+                _ => decode_payload_into(&preset, &frame, payload.bytes(), slot),
+            };
+            r.map(|()| payload)
         });
         for r in results {
-            spare.push(r?);
+            if let Payload::Owned(buf) = r? {
+                spare = buf;
+            }
         }
         if let Some(e) = stop {
             return Err(e);
