@@ -180,6 +180,7 @@ pub fn ideal_cost_order2(data: &[u8], params: &Order2Params) -> Result<IdealCost
 /// sixteenth does not shrink (see `shrink`). On incompressible input every
 /// byte opens a new context, so each nibble misses the cache; giving up
 /// early keeps such blocks fast.
+#[cfg_attr(not(feature = "std"), allow(dead_code))]
 pub(crate) fn encode_order2_or_store(
     data: &[u8],
     params: &Order2Params,

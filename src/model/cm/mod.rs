@@ -50,8 +50,10 @@ mod params;
 mod shrink;
 mod strong;
 
+#[cfg(feature = "std")]
 pub(crate) use fast::encode_order2_or_store;
 pub use fast::{decode_order2, encode_order2, ideal_cost_order2};
 pub use params::{check_memory, MixParams, Order2Params};
+#[cfg(feature = "std")]
 pub(crate) use strong::encode_mix_or_store;
 pub use strong::{decode_mix, encode_mix, ideal_cost_mix};

@@ -40,6 +40,7 @@ pub(crate) fn code_bytes(
 }
 
 /// The finished stream, or `None` if the loop gave up.
+#[cfg_attr(not(feature = "std"), allow(dead_code))]
 pub(crate) fn finish_or_store(enc: Option<Encoder>) -> Result<Option<Vec<u8>>> {
     enc.map(Encoder::finish).transpose()
 }

@@ -388,6 +388,7 @@ pub fn ideal_cost_mix(data: &[u8], params: &MixParams) -> Result<IdealCost> {
 
 /// As [`encode_mix`], but `None` (store the block) when its first sixteenth
 /// does not shrink (see `shrink`).
+#[cfg_attr(not(feature = "std"), allow(dead_code))]
 pub(crate) fn encode_mix_or_store(data: &[u8], params: &MixParams) -> Result<Option<Vec<u8>>> {
     finish_or_store(mix_encoder_until(data, params, false, true)?)
 }
