@@ -112,20 +112,7 @@ impl<M: SnapshotState + Model + Clone> Primer<M> {
     /// [`ErrorKind::LimitExceeded`] when `data` is longer than `u32::MAX`
     /// bytes; the model's errors (none for this crate's models over bytes).
     pub fn encode_message(&self, data: &[u8]) -> Result<Vec<u8>> {
-        let len = u32::try_from(data.len()).map_err(|_| ErrorKind::LimitExceeded {
-            what: "message length",
-            declared: data.len() as u64,
-            limit: u32::MAX.into(),
-        })?;
-        let mut frame = Vec::with_capacity(ID_LEN + 5 + data.len() / 2 + 8);
-        frame.extend_from_slice(&self.id.to_le_bytes());
-        write_varint(&mut frame, len);
-        let mut model = self.model.clone();
-        let mut encoder = Encoder::with_sink(frame);
-        for &b in data {
-            encoder.encode(&mut model, b.into())?;
-        }
-        encoder.finish()
+        encode_with(self.id, || self.model.clone(), data)
     }
 
     /// Decodes a frame written by [`encode_message`](Primer::encode_message)
@@ -146,40 +133,82 @@ impl<M: SnapshotState + Model + Clone> Primer<M> {
     /// [`ErrorKind::Truncated`], [`ErrorKind::CorruptStream`] or
     /// [`ErrorKind::TrailingBytes`] for damaged coded bytes.
     pub fn decode_message(&self, frame: &[u8], max_len: usize) -> Result<Vec<u8>> {
-        let id = frame_snapshot_id(frame)?;
-        if id != self.id {
-            return Err(ErrorKind::Snapshot {
-                reason: "the message was coded with a different snapshot",
-            }
-            .into());
-        }
-        let mut rest = &frame[ID_LEN..];
-        let len = read_varint(&mut rest).map_err(|_| ErrorKind::CorruptStream {
-            offset: ID_LEN as u64,
-            reason: "damaged message length",
-        })? as usize;
-        if len > max_len {
-            return Err(ErrorKind::LimitExceeded {
-                what: "message length",
-                declared: len as u64,
-                limit: max_len as u64,
-            }
-            .into());
-        }
-        let mut model = self.model.clone();
-        let mut decoder = Decoder::new(rest)?;
-        let mut out = Vec::with_capacity(len);
-        for _ in 0..len {
-            let s = decoder.decode(&mut model)?;
-            let byte = u8::try_from(s).map_err(|_| ErrorKind::CorruptStream {
-                offset: decoder.bytes_read(),
-                reason: "decoded a symbol outside the byte range",
-            })?;
-            out.push(byte);
-        }
-        decoder.finish()?;
-        Ok(out)
+        decode_with(self.id, || self.model.clone(), frame, max_len)
     }
+
+    /// As [`encode_message`](Primer::encode_message), coding with the
+    /// primer's own model instead of a copy (for the one-call functions,
+    /// which restore a model for a single message).
+    fn into_encoded(self, data: &[u8]) -> Result<Vec<u8>> {
+        encode_with(self.id, || self.model, data)
+    }
+
+    /// As [`decode_message`](Primer::decode_message), decoding with the
+    /// primer's own model instead of a copy.
+    fn into_decoded(self, frame: &[u8], max_len: usize) -> Result<Vec<u8>> {
+        decode_with(self.id, || self.model, frame, max_len)
+    }
+}
+
+/// Codes `data` into a frame of snapshot `id`, with the model `model`
+/// gives (asked for once the length is known to fit).
+fn encode_with<M: Model>(id: u32, model: impl FnOnce() -> M, data: &[u8]) -> Result<Vec<u8>> {
+    let len = u32::try_from(data.len()).map_err(|_| ErrorKind::LimitExceeded {
+        what: "message length",
+        declared: data.len() as u64,
+        limit: u32::MAX.into(),
+    })?;
+    let mut frame = Vec::with_capacity(ID_LEN + 5 + data.len() / 2 + 8);
+    frame.extend_from_slice(&id.to_le_bytes());
+    write_varint(&mut frame, len);
+    let mut model = model();
+    let mut encoder = Encoder::with_sink(frame);
+    for &b in data {
+        encoder.encode(&mut model, b.into())?;
+    }
+    encoder.finish()
+}
+
+/// Decodes a frame of snapshot `id` with the model `model` gives (asked
+/// for once the identifier and the declared length have passed).
+fn decode_with<M: Model>(
+    id: u32,
+    model: impl FnOnce() -> M,
+    frame: &[u8],
+    max_len: usize,
+) -> Result<Vec<u8>> {
+    if frame_snapshot_id(frame)? != id {
+        return Err(ErrorKind::Snapshot {
+            reason: "the message was coded with a different snapshot",
+        }
+        .into());
+    }
+    let mut rest = &frame[ID_LEN..];
+    let len = read_varint(&mut rest).map_err(|_| ErrorKind::CorruptStream {
+        offset: ID_LEN as u64,
+        reason: "damaged message length",
+    })? as usize;
+    if len > max_len {
+        return Err(ErrorKind::LimitExceeded {
+            what: "message length",
+            declared: len as u64,
+            limit: max_len as u64,
+        }
+        .into());
+    }
+    let mut model = model();
+    let mut decoder = Decoder::new(rest)?;
+    let mut out = Vec::with_capacity(len);
+    for _ in 0..len {
+        let s = decoder.decode(&mut model)?;
+        let byte = u8::try_from(s).map_err(|_| ErrorKind::CorruptStream {
+            offset: decoder.bytes_read(),
+            reason: "decoded a symbol outside the byte range",
+        })?;
+        out.push(byte);
+    }
+    decoder.finish()?;
+    Ok(out)
 }
 
 /// The snapshot identifier a frame was coded with (its first four bytes),
@@ -240,13 +269,13 @@ pub fn frame_snapshot_id(frame: &[u8]) -> Result<u32> {
 pub fn encode_message(snapshot: &Snapshot, data: &[u8]) -> Result<Vec<u8>> {
     match snapshot.kind() {
         <AdaptiveModel as SnapshotState>::KIND => {
-            Primer::<AdaptiveModel>::new(snapshot)?.encode_message(data)
+            Primer::<AdaptiveModel>::new(snapshot)?.into_encoded(data)
         }
         <TableModel as SnapshotState>::KIND => {
-            Primer::<TableModel>::new(snapshot)?.encode_message(data)
+            Primer::<TableModel>::new(snapshot)?.into_encoded(data)
         }
         <ContextModel as SnapshotState>::KIND => {
-            Primer::<ContextModel>::new(snapshot)?.encode_message(data)
+            Primer::<ContextModel>::new(snapshot)?.into_encoded(data)
         }
         _ => Err(unknown_kind()),
     }
@@ -261,13 +290,13 @@ pub fn encode_message(snapshot: &Snapshot, data: &[u8]) -> Result<Vec<u8>> {
 pub fn decode_message(snapshot: &Snapshot, frame: &[u8], max_len: usize) -> Result<Vec<u8>> {
     match snapshot.kind() {
         <AdaptiveModel as SnapshotState>::KIND => {
-            Primer::<AdaptiveModel>::new(snapshot)?.decode_message(frame, max_len)
+            Primer::<AdaptiveModel>::new(snapshot)?.into_decoded(frame, max_len)
         }
         <TableModel as SnapshotState>::KIND => {
-            Primer::<TableModel>::new(snapshot)?.decode_message(frame, max_len)
+            Primer::<TableModel>::new(snapshot)?.into_decoded(frame, max_len)
         }
         <ContextModel as SnapshotState>::KIND => {
-            Primer::<ContextModel>::new(snapshot)?.decode_message(frame, max_len)
+            Primer::<ContextModel>::new(snapshot)?.into_decoded(frame, max_len)
         }
         _ => Err(unknown_kind()),
     }

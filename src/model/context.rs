@@ -237,18 +237,10 @@ impl ContextModel {
         self.refresh();
     }
 
-    fn key(&self, order: usize) -> u32 {
-        match order {
-            0 => 0,
-            4.. => self.history,
-            k => self.history & ((1u32 << (8 * k)) - 1),
-        }
-    }
-
     fn learn(&mut self, byte: u8) {
         let (increment, limit) = (self.params.increment, self.params.limit);
         for k in 0..self.orders.len() {
-            let key = self.key(k);
+            let key = context_key(self.history, k);
             self.orders[k]
                 .entry(key)
                 .or_default()
@@ -259,49 +251,130 @@ impl ContextModel {
 
     /// Rebuilds the cumulative table for the current history.
     fn refresh(&mut self) {
-        // The blend of byte s is (base + extra[s]) / denominator: `base` is
-        // the share every byte gets through the escapes (uniform below order
-        // 0), `extra` what the contexts' counts add. Only bytes some context
-        // has seen get an `extra`, so the wide arithmetic runs over those.
-        let mut extra = [0u128; 256];
-        let mut seen = [false; 256];
-        let mut touched: Vec<u8> = Vec::new();
-        let mut base: u128 = 1;
-        let mut denominator: u128 = 256;
-        for k in 0..self.orders.len() {
-            let Some(ctx) = self.orders[k].get(&self.key(k)) else {
-                continue;
-            };
-            let distinct = ctx.counts.len() as u128;
-            base *= distinct;
-            for &b in &touched {
-                extra[usize::from(b)] *= distinct;
-            }
-            for &(b, c) in &ctx.counts {
-                if !seen[usize::from(b)] {
-                    seen[usize::from(b)] = true;
-                    touched.push(b);
-                }
-                extra[usize::from(b)] += u128::from(c) * denominator;
-            }
-            denominator *= u128::from(ctx.total) + distinct;
+        blend(&self.orders, self.history, &mut self.cum);
+    }
+}
+
+/// The key of the order-`order` context after `history`: its `order`
+/// previous bytes.
+fn context_key(history: u32, order: usize) -> u32 {
+    match order {
+        0 => 0,
+        4.. => history,
+        k => history & ((1u32 << (8 * k)) - 1),
+    }
+}
+
+/// Writes the blend of the contexts after `history` into `cum` as 257
+/// cumulative frequencies.
+///
+/// The blend of byte `s` is `(base + extra[s]) / denominator`: `base` is the
+/// share every byte gets through the escapes (uniform below order 0),
+/// `extra[s]` what the contexts' counts add. With `u_k` distinct bytes and
+/// `n_k` counts in order `k`'s context (orders without a context for this
+/// history are left out) and `D_k = 256 · Π_{j<k} (n_j + u_j)`, the
+/// recurrence `P_k = c_k / (n_k + u_k) + u_k / (n_k + u_k) · P_{k-1}` unrolls
+/// to
+///
+/// ```text
+/// denominator = 256 · Π_k (n_k + u_k)      base = Π_k u_k
+/// extra[s]    = Σ_k c_k(s) · D_k · Π_{j>k} u_j
+/// ```
+///
+/// all exact in `u128` (the denominator is below 2^57), so the table does
+/// not depend on the order the terms are summed in. Only bytes some context
+/// has seen get an `extra`; the wide arithmetic and the scaling run over
+/// those, and every other byte gets the same share.
+fn blend(orders: &[BTreeMap<u32, Successors>], history: u32, cum: &mut [u32]) {
+    const ORDERS: usize = MAX_CONTEXT_ORDER as usize + 1;
+    static NONE: Successors = Successors {
+        counts: Vec::new(),
+        total: 0,
+    };
+    let mut present = [&NONE; ORDERS];
+    let mut used = 0;
+    for (k, order) in orders.iter().enumerate().take(ORDERS) {
+        if let Some(ctx) = order.get(&context_key(history, k)) {
+            present[used] = ctx;
+            used += 1;
         }
-        // Scale to a total of at most 2^16 with every byte at least 1.
-        let shift = (128 - denominator.leading_zeros()).saturating_sub(40);
-        let d = (denominator >> shift) as u64;
-        let room = u64::from(MAX_TOTAL) - 256;
-        let share = |n: u128| ((n >> shift) as u64 * room / d) as u32;
-        let common = 1 + share(base);
-        let mut sum = 0u32;
-        for s in 0..256 {
-            self.cum[s] = sum;
-            sum += if seen[s] {
-                1 + share(base + extra[s])
-            } else {
-                common
-            };
+    }
+    let present = &present[..used];
+    // D_k for each context, then its factor D_k · Π_{j>k} u_j.
+    let mut factor = [0u128; ORDERS];
+    let factor = &mut factor[..used];
+    let mut denominator: u128 = 256;
+    for (f, ctx) in factor.iter_mut().zip(present) {
+        *f = denominator;
+        denominator *= u128::from(ctx.total) + ctx.counts.len() as u128;
+    }
+    let mut base: u128 = 1;
+    for (f, ctx) in factor.iter_mut().zip(present).rev() {
+        *f *= base;
+        base *= ctx.counts.len() as u128;
+    }
+    let mut extra = [0u128; 256];
+    let mut seen = [0u64; 4];
+    for (&f, ctx) in factor.iter().zip(present) {
+        for &(b, c) in &ctx.counts {
+            extra[usize::from(b)] += u128::from(c) * f;
+            seen[usize::from(b >> 6)] |= 1 << (b & 63);
         }
-        self.cum[256] = sum;
+    }
+    // Scale to a total of at most 2^16 with every byte at least 1: a
+    // numerator `n <= denominator` gets `floor((n >> shift) · room / d)`.
+    let shift = (128 - denominator.leading_zeros()).saturating_sub(40);
+    let d = Reciprocal::new((denominator >> shift) as u64);
+    let room = u64::from(MAX_TOTAL) - 256;
+    let share = |n: u128| d.divide((n >> shift) as u64 * room) as u32;
+    let common = 1 + share(base);
+    let mut sum = 0u32;
+    let mut next = 0usize;
+    // Bytes no context has seen, `next .. end`, each `common` wide.
+    let unseen = |cum: &mut [u32], next: usize, end: usize, sum: &mut u32| {
+        for (i, c) in cum[next..end].iter_mut().enumerate() {
+            *c = *sum + i as u32 * common;
+        }
+        *sum += (end - next) as u32 * common;
+    };
+    for (w, &word) in seen.iter().enumerate() {
+        let mut bits = word;
+        while bits != 0 {
+            let s = 64 * w + bits.trailing_zeros() as usize;
+            bits &= bits - 1;
+            unseen(cum, next, s, &mut sum);
+            cum[s] = sum;
+            sum += 1 + share(base + extra[s]);
+            next = s + 1;
+        }
+    }
+    unseen(cum, next, 256, &mut sum);
+    cum[256] = sum;
+}
+
+/// Exact `floor(x / d)` for many `x` and one divisor `d >= 1`, by a
+/// multiplication with a reciprocal instead of a division.
+///
+/// With `m = floor((2^64 - 1) / d)`, `x · m / 2^64` lies in
+/// `(x / d - 1, x / d]` for every `x < 2^64` (`m` is short of `2^64 / d` by
+/// less than one, which costs less than `x / 2^64 < 1`), so its floor is
+/// the quotient or one less, and one comparison of the remainder settles
+/// which.
+#[derive(Debug, Clone, Copy)]
+struct Reciprocal {
+    d: u64,
+    m: u64,
+}
+
+impl Reciprocal {
+    fn new(d: u64) -> Self {
+        Reciprocal { d, m: u64::MAX / d }
+    }
+
+    #[inline]
+    fn divide(&self, x: u64) -> u64 {
+        let q = ((u128::from(x) * u128::from(self.m)) >> 64) as u64;
+        q + u64::from(x - q * self.d >= self.d)
     }
 }
 
@@ -510,6 +583,100 @@ mod tests {
             s[i] ^= 0x41;
             if let Ok(m) = ContextModel::read_state(&s) {
                 assert!(m.total() <= MAX_TOTAL);
+            }
+        }
+    }
+
+    /// The blend computed the plain way: orders from the lowest up, a
+    /// division per byte.
+    fn reference_table(m: &ContextModel) -> Vec<u32> {
+        let mut extra = [0u128; 256];
+        let mut seen = [false; 256];
+        let mut base: u128 = 1;
+        let mut denominator: u128 = 256;
+        for (k, order) in m.orders.iter().enumerate() {
+            let Some(ctx) = order.get(&context_key(m.history, k)) else {
+                continue;
+            };
+            let distinct = ctx.counts.len() as u128;
+            base *= distinct;
+            for e in extra.iter_mut() {
+                *e *= distinct;
+            }
+            for &(b, c) in &ctx.counts {
+                seen[usize::from(b)] = true;
+                extra[usize::from(b)] += u128::from(c) * denominator;
+            }
+            denominator *= u128::from(ctx.total) + distinct;
+        }
+        let shift = (128 - denominator.leading_zeros()).saturating_sub(40);
+        let d = (denominator >> shift) as u64;
+        let room = u64::from(MAX_TOTAL) - 256;
+        let share = |n: u128| ((n >> shift) as u64 * room / d) as u32;
+        let mut cum = alloc::vec![0u32; 257];
+        for s in 0..256 {
+            cum[s + 1] = cum[s]
+                + if seen[s] {
+                    1 + share(base + extra[s])
+                } else {
+                    1 + share(base)
+                };
+        }
+        cum
+    }
+
+    #[test]
+    fn table_is_the_plain_blend() {
+        let mut state = 0x2545_F491_4F6C_DD1Du64;
+        let mut next = move || {
+            state ^= state << 13;
+            state ^= state >> 7;
+            state ^= state << 17;
+            state
+        };
+        for (max_order, increment, limit) in [(3, 2, 1024), (3, 255, 4096), (2, 1, 2), (0, 7, 64)] {
+            for alphabet in [2u64, 20, 256] {
+                let params = ContextParams {
+                    max_order,
+                    increment,
+                    limit,
+                };
+                let mut m = ContextModel::new(params).unwrap();
+                assert_eq!(m.cum, reference_table(&m));
+                for i in 0..3000 {
+                    let b = if i % 7 == 0 {
+                        next() % 256
+                    } else {
+                        next() % alphabet
+                    };
+                    m.update(b as u32);
+                    assert_eq!(m.cum, reference_table(&m), "{params:?} step {i}");
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn reciprocal_division_is_exact() {
+        let mut state = 0x9E37_79B9_7F4A_7C15u64;
+        let mut next = move || {
+            state ^= state << 13;
+            state ^= state >> 7;
+            state ^= state << 17;
+            state
+        };
+        let mut divisors = alloc::vec![1u64, 2, 3, 255, 256, 257, (1 << 40) - 1, 1 << 39, u64::MAX];
+        divisors.extend((0..200).map(|_| next() >> (next() % 64)).filter(|&d| d > 0));
+        for d in divisors {
+            let r = Reciprocal::new(d);
+            let mut xs = alloc::vec![0u64, 1, d - 1, d, d.wrapping_add(1), u64::MAX, u64::MAX - 1];
+            for _ in 0..200 {
+                let x = next();
+                let q = x / d;
+                xs.extend([x, q * d, (q * d).wrapping_sub(1), x >> (next() % 64)]);
+            }
+            for x in xs {
+                assert_eq!(r.divide(x), x / d, "{x} / {d}");
             }
         }
     }

@@ -106,9 +106,7 @@ impl Mixer {
         let w0 = (65536 / inputs) as i32;
         let stride = inputs.div_ceil(LANES) * LANES;
         let mut weights = vec![0; stride * sets];
-        for set in weights.chunks_exact_mut(stride) {
-            set[..inputs].fill(w0);
-        }
+        fill_sets(&mut weights, stride, inputs, w0);
         Ok(Mixer {
             inputs: vec![0; stride],
             weights,
@@ -132,10 +130,7 @@ impl Mixer {
     /// to ±16.0).
     pub fn fill_weights(&mut self, weight: i32) {
         let w = weight.clamp(-WEIGHT_LIMIT, WEIGHT_LIMIT);
-        let n = self.n;
-        for set in self.weights.chunks_exact_mut(self.stride) {
-            set[..n].fill(w);
-        }
+        fill_sets(&mut self.weights, self.stride, self.n, w);
     }
 
     /// Number of inputs per step.
@@ -390,6 +385,24 @@ impl<P: BitPredictor> BitPredictor for MixedPredictor<P> {
     }
 }
 
+/// Sets the first `n` weights of every set of `stride` weights to `w` and
+/// the padding after them to 0: the first set by hand, the others by block
+/// copies of the sets already written (doubling), so that a mixer of many
+/// sets costs a few memory copies to start rather than a loop per set.
+fn fill_sets(weights: &mut [i32], stride: usize, n: usize, w: i32) {
+    let Some(first) = weights.get_mut(..stride) else {
+        return;
+    };
+    first[..n].fill(w);
+    first[n..].fill(0);
+    let mut done = stride;
+    while done < weights.len() {
+        let k = done.min(weights.len() - done);
+        weights.copy_within(..k, done);
+        done += k;
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -400,6 +413,19 @@ mod tests {
         assert!(Mixer::new(2, 0, 4).is_err());
         assert!(Mixer::new(2, 1, 0).is_err());
         assert!(Mixer::new(257, 1, 4).is_err());
+    }
+
+    #[test]
+    fn every_set_starts_the_same() {
+        for (inputs, sets) in [(1, 1), (3, 2), (9, 5), (16, 1024), (7, 1000)] {
+            let m = Mixer::new(inputs, sets, 4).unwrap();
+            let w0 = (65536 / inputs) as i32;
+            assert_eq!(m.weights.len(), m.stride * sets);
+            for set in m.weights.chunks_exact(m.stride) {
+                assert!(set[..inputs].iter().all(|&w| w == w0));
+                assert!(set[inputs..].iter().all(|&w| w == 0));
+            }
+        }
     }
 
     #[test]

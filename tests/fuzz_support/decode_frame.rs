@@ -6,7 +6,7 @@
 //! | --- | --- |
 //! | 0 | a snapshot (its length in bytes 1–2, little-endian), then a frame: the snapshot is parsed and, if valid, the frame is decoded with it |
 //! | 1 | a frame, decoded with each of three built-in snapshots (adaptive, table and context models trained on gauge text) |
-//! | 2 | byte 1 picks model parameters; the first half of the rest trains a model, whose snapshot is written, parsed and restored; the second half is a message coded from it and decoded back |
+//! | 2 | byte 1 picks model parameters; the last half of the rest (at most [`MAX_MESSAGE`] bytes) is a message, the bytes before it (at most the first [`MAX_SAMPLE`]) train a model; the model's snapshot is written, parsed and restored, and the message coded from it and decoded back |
 //!
 //! Promises checked: no panic; a decoded message is at most the length
 //! limit; a frame whose identifier names another snapshot is a snapshot
@@ -14,17 +14,36 @@
 //! the same model; a message round-trips. Allocation is bounded by the input
 //! and the length limit (snapshot readers check declared counts against the
 //! bytes left).
+//!
+//! Work bound: the context model costs a microsecond or two per coded byte
+//! in an instrumented build (its whole table is rebuilt after every byte),
+//! so the length limit ([`MAX_LEN`]) and the round-tripped message
+//! ([`MAX_MESSAGE`]) are a few dozen to a few hundred bytes, as primed
+//! messages are, and the training sample, which sets the size of the
+//! snapshot the checks write and restore, at most [`MAX_SAMPLE`]. The
+//! built-in snapshots are restored once per process, not per input.
 
+use std::fmt::Debug;
 use std::sync::OnceLock;
 
 use subrange::model::{
-    AdaptiveModel, ContextModel, ContextParams, Model, Snapshot, TableModel, MAX_CONTEXT_LIMIT,
+    AdaptiveModel, ContextModel, ContextParams, Model, Snapshot, SnapshotState, TableModel,
+    MAX_CONTEXT_LIMIT,
 };
 use subrange::prime::{decode_message, encode_message, frame_snapshot_id, Primer};
-use subrange::ErrorKind;
+use subrange::{ErrorKind, Result};
 
 /// Longest message a frame may declare here.
-pub const MAX_LEN: usize = 1024;
+pub const MAX_LEN: usize = 256;
+
+/// Longest message the round trip of mode 2 codes (three times: by the
+/// one-call functions, decoded back, and by a [`Primer`]).
+pub const MAX_MESSAGE: usize = 64;
+
+/// Most bytes mode 2 trains a model on: a context model trained on 256
+/// bytes of text holds some hundreds of contexts, and the checks restore
+/// its snapshot three times (parsing, allocating and freeing every context).
+pub const MAX_SAMPLE: usize = 256;
 
 fn gauge_text() -> Vec<u8> {
     let mut s = String::new();
@@ -43,10 +62,36 @@ fn gauge_text() -> Vec<u8> {
     s.into_bytes()
 }
 
-/// The built-in snapshots, trained once.
-fn built_in() -> &'static [Snapshot; 3] {
-    static SNAPSHOTS: OnceLock<[Snapshot; 3]> = OnceLock::new();
-    SNAPSHOTS.get_or_init(|| {
+/// A built-in snapshot's model, restored once.
+enum BuiltIn {
+    Adaptive(Primer<AdaptiveModel>),
+    Table(Primer<TableModel>),
+    Context(Primer<ContextModel>),
+}
+
+impl BuiltIn {
+    fn id(&self) -> u32 {
+        match self {
+            BuiltIn::Adaptive(p) => p.id(),
+            BuiltIn::Table(p) => p.id(),
+            BuiltIn::Context(p) => p.id(),
+        }
+    }
+
+    fn decode(&self, frame: &[u8]) -> Result<Vec<u8>> {
+        match self {
+            BuiltIn::Adaptive(p) => p.decode_message(frame, MAX_LEN),
+            BuiltIn::Table(p) => p.decode_message(frame, MAX_LEN),
+            BuiltIn::Context(p) => p.decode_message(frame, MAX_LEN),
+        }
+    }
+}
+
+/// The built-in snapshots (adaptive, table and context models trained on
+/// gauge text), trained and restored once.
+fn built_in() -> &'static [BuiltIn; 3] {
+    static MODELS: OnceLock<[BuiltIn; 3]> = OnceLock::new();
+    MODELS.get_or_init(|| {
         let text = gauge_text();
         let mut adaptive = AdaptiveModel::new(256).expect("valid alphabet");
         for &b in &text {
@@ -55,22 +100,29 @@ fn built_in() -> &'static [Snapshot; 3] {
         let table = TableModel::from_bytes_histogram(&text, 12).expect("non-empty text");
         let mut context = ContextModel::new(ContextParams::default()).expect("default parameters");
         context.train(&text);
+        let restore = "built-in snapshots restore";
         [
-            Snapshot::capture(&adaptive).expect("capturable"),
-            Snapshot::capture(&table).expect("capturable"),
-            Snapshot::capture(&context).expect("capturable"),
+            BuiltIn::Adaptive(
+                Primer::new(&Snapshot::capture(&adaptive).expect("capturable")).expect(restore),
+            ),
+            BuiltIn::Table(
+                Primer::new(&Snapshot::capture(&table).expect("capturable")).expect(restore),
+            ),
+            BuiltIn::Context(
+                Primer::new(&Snapshot::capture(&context).expect("capturable")).expect(restore),
+            ),
         ]
     })
 }
 
-/// Decodes `frame` with `snapshot`; checks the length limit and the
-/// identifier rule.
-fn decode_with(snapshot: &Snapshot, frame: &[u8]) {
-    match decode_message(snapshot, frame, MAX_LEN) {
+/// Checks the outcome of decoding `frame` with the snapshot `id`: the length
+/// limit and the identifier rule.
+fn check_decoded(id: u32, frame: &[u8], decoded: Result<Vec<u8>>) {
+    match decoded {
         Ok(message) => assert!(message.len() <= MAX_LEN, "message above its limit"),
         Err(e) => {
-            if let Ok(id) = frame_snapshot_id(frame) {
-                if id != snapshot.id() {
+            if let Ok(frame_id) = frame_snapshot_id(frame) {
+                if frame_id != id {
                     assert!(
                         matches!(e.kind(), ErrorKind::Snapshot { .. }),
                         "a frame of another snapshot gave {e}"
@@ -84,36 +136,41 @@ fn decode_with(snapshot: &Snapshot, frame: &[u8]) {
 /// Trains the model `pick` selects on `sample`, checks its snapshot, and
 /// round-trips `message` from it.
 fn round_trip(pick: u8, sample: &[u8], message: &[u8]) {
-    let snapshot = if pick & 1 == 0 {
+    if pick & 1 == 0 {
         let mut params = ContextParams::default();
         params.max_order = pick >> 1 & 3;
         params.increment = 1 + u32::from(pick >> 3 & 7);
         params.limit = [64, 255, 1024, MAX_CONTEXT_LIMIT][usize::from(pick >> 6)];
         let mut model = ContextModel::new(params).expect("parameters in range");
         model.train(sample);
-        let snapshot = Snapshot::capture(&model).expect("capturable");
-        let back: ContextModel = snapshot.restore().expect("own snapshot restores");
-        assert_eq!(back, model, "context model changed through its snapshot");
-        snapshot
+        check_primed(&model, message);
     } else {
         let mut model = AdaptiveModel::new(256).expect("valid alphabet");
         for &b in sample {
             model.update(b.into());
         }
-        let snapshot = Snapshot::capture(&model).expect("capturable");
-        let back: AdaptiveModel = snapshot.restore().expect("own snapshot restores");
-        assert_eq!(back, model, "adaptive model changed through its snapshot");
-        snapshot
-    };
+        check_primed(&model, message);
+    }
+}
+
+/// Captures `model`: its snapshot's bytes parse back to the same snapshot
+/// and restore to the same model; `message` coded from it by the one-call
+/// functions decodes back, and a [`Primer`] codes the same frame. (The
+/// primer's restore serves the model check: each restore parses and builds
+/// every context again.)
+fn check_primed<M>(model: &M, message: &[u8])
+where
+    M: SnapshotState + Model + Clone + PartialEq + Debug,
+{
+    let snapshot = Snapshot::capture(model).expect("capturable");
     let parsed = Snapshot::from_bytes(snapshot.as_bytes()).expect("own bytes parse");
     assert_eq!(parsed, snapshot);
+    let primer: Primer<M> = Primer::new(&parsed).expect("own snapshot restores");
+    assert_eq!(primer.model(), model, "model changed through its snapshot");
     let frame = encode_message(&snapshot, message).expect("any bytes code");
     let back = decode_message(&snapshot, &frame, message.len()).expect("own frame decodes");
     assert!(back == message, "primed message round trip differs");
-    if pick & 1 == 0 {
-        let primer: Primer<ContextModel> = Primer::new(&snapshot).expect("restores");
-        assert_eq!(primer.encode_message(message).expect("codes"), frame);
-    }
+    assert_eq!(primer.encode_message(message).expect("codes"), frame);
 }
 
 /// Runs every check on one input; panics on the first broken promise.
@@ -129,20 +186,21 @@ pub fn check(input: &[u8]) {
             let len = usize::from(u16::from_le_bytes(*len)).min(rest.len());
             let (snapshot, frame) = rest.split_at(len);
             if let Ok(snapshot) = Snapshot::from_bytes(snapshot) {
-                decode_with(&snapshot, frame);
+                let decoded = decode_message(&snapshot, frame, MAX_LEN);
+                check_decoded(snapshot.id(), frame, decoded);
             }
         }
         1 => {
-            for snapshot in built_in() {
-                decode_with(snapshot, rest);
+            for model in built_in() {
+                check_decoded(model.id(), rest, model.decode(rest));
             }
         }
         _ => {
             let Some((&pick, rest)) = rest.split_first() else {
                 return;
             };
-            let (sample, message) = rest.split_at(rest.len() / 2);
-            round_trip(pick, sample, message);
+            let (sample, message) = rest.split_at(rest.len() - (rest.len() / 2).min(MAX_MESSAGE));
+            round_trip(pick, &sample[..sample.len().min(MAX_SAMPLE)], message);
         }
     }
 }

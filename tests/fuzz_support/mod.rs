@@ -16,6 +16,7 @@ pub mod decode_frame;
 pub mod decode_raw;
 pub mod model_roundtrip;
 pub mod mq_decode;
+pub mod pool;
 pub mod roundtrip;
 
 /// A target's check: panics when a promise is broken.
