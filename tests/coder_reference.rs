@@ -33,6 +33,10 @@ enum Op {
         bit: bool,
         p1: u32,
     },
+    CoarseBit {
+        bit: bool,
+        p1: u32,
+    },
     Table {
         pick: u32,
     },
@@ -50,6 +54,7 @@ fn op() -> impl Strategy<Value = Op> {
         )
             .prop_map(|(freqs, full, pick)| Op::Raw { freqs, full, pick }),
         (any::<bool>(), any::<u32>()).prop_map(|(bit, p1)| Op::Bit { bit, p1 }),
+        (any::<bool>(), any::<u32>()).prop_map(|(bit, p1)| Op::CoarseBit { bit, p1 }),
         any::<u32>().prop_map(|pick| Op::Table { pick }),
         any::<u32>().prop_map(|pick| Op::Adaptive { pick }),
     ]
@@ -186,6 +191,10 @@ proptest! {
                     encoder.encode_bit(*bit, *p1).unwrap();
                     vec![RefStep::bit(*bit, *p1)]
                 }
+                Op::CoarseBit { bit, p1 } => {
+                    encoder.encode_bit_coarse(*bit, *p1).unwrap();
+                    vec![RefStep::coarse_bit(*bit, *p1)]
+                }
                 Op::Table { pick } => {
                     let s = present[*pick as usize % present.len()];
                     let steps = model_steps(&table, s);
@@ -218,6 +227,9 @@ proptest! {
         for op in &ops {
             match op {
                 Op::Bit { bit, p1 } => prop_assert_eq!(dec.decode_bit(*p1).unwrap(), *bit),
+                Op::CoarseBit { bit, p1 } => {
+                    prop_assert_eq!(dec.decode_bit_coarse(*p1).unwrap(), *bit)
+                }
                 Op::Raw { .. } => {
                     let RefStep::Choice { total, spans, chosen } = &steps[k] else { unreachable!() };
                     let t = dec.target(*total);
@@ -243,15 +255,16 @@ proptest! {
         dec.finish().unwrap();
     }
 
-    /// The binary step is the multi-symbol step with total 2^16: a 1 is the
-    /// span `0 .. p1`, a 0 the span `p1 .. 2^16` (which takes the remainder).
+    /// The coarse binary step is the multi-symbol step with total 2^16: a 1
+    /// is the span `0 .. p1`, a 0 the span `p1 .. 2^16` (which takes the
+    /// remainder).
     #[test]
-    fn bit_step_is_a_span_step_of_total_2_16(bits in prop::collection::vec((any::<bool>(), any::<u32>()), 0..300)) {
+    fn coarse_bit_step_is_a_span_step_of_total_2_16(bits in prop::collection::vec((any::<bool>(), any::<u32>()), 0..300)) {
         let mut a = Encoder::new();
         let mut b = Encoder::new();
         for &(bit, p1) in &bits {
-            a.encode_bit(bit, p1).unwrap();
-            let RefStep::Choice { total, spans, chosen } = RefStep::bit(bit, p1) else { unreachable!() };
+            a.encode_bit_coarse(bit, p1).unwrap();
+            let RefStep::Choice { total, spans, chosen } = RefStep::coarse_bit(bit, p1) else { unreachable!() };
             b.encode_span(spans[chosen], total).unwrap();
         }
         prop_assert_eq!(a.finish().unwrap(), b.finish().unwrap());

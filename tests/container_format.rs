@@ -532,3 +532,50 @@ fn the_document_and_the_crate_reject_the_same_flips() {
         }
     }
 }
+
+/// A container written before the `precise` parameter existed (its header
+/// stops after the older parameters) decodes with the coarse binary step,
+/// as it was written.
+#[test]
+fn headers_without_later_parameters_decode_as_written() {
+    let data = subrange::corpus::gauge_csv(46, 20_000);
+    for name in ["order2", "mix"] {
+        let mut preset = Preset::from_name(name).unwrap();
+        preset.set_param("precise", 0).unwrap();
+        let mut o = Options::new();
+        o.preset(preset).threads(1);
+        let packed = compress(&data, &o).unwrap();
+        // Rewrite the header without its last parameter (which is 0).
+        let mut b = Bytes { b: &packed, pos: 5 };
+        b.vint().unwrap(); // preset id
+        b.vint().unwrap(); // block size
+        let count_at = b.pos;
+        let count = b.u8().unwrap();
+        for _ in 0..count - 1 {
+            b.vint().unwrap();
+        }
+        let last_at = b.pos;
+        assert_eq!(b.vint().unwrap(), 0);
+        let crc_at = b.pos;
+        let mut old = packed[..last_at].to_vec();
+        old[count_at] = count - 1;
+        let crc = crc32(&old);
+        old.extend_from_slice(&crc.to_le_bytes());
+        old.extend_from_slice(&packed[crc_at + 4..]);
+        assert_eq!(subrange::decompress(&old).unwrap(), data, "{name}");
+        let header = subrange::format::inspect(&old[..]).unwrap().header;
+        assert_eq!(header.preset.param("precise"), Some(0));
+        // With the precise step the same data comes out no larger.
+        let fine = compress(
+            &data,
+            Options::new().preset(Preset::from_name(name).unwrap()),
+        )
+        .unwrap();
+        assert!(
+            fine.len() <= packed.len(),
+            "{name}: {} vs {}",
+            fine.len(),
+            packed.len()
+        );
+    }
+}

@@ -33,8 +33,19 @@ fn check(what: &str, coded: &[u8], pin: (usize, u32)) {
 /// Per input of [`inputs`], the (length, CRC-32) of its coded bytes.
 type Pins = [(usize, u32); 4];
 
-/// `MixParams::to_bytes` of each parameter set, and its pins.
+/// `MixParams::to_bytes` of each parameter set, and its pins. Flag bit 3
+/// selects the precise binary step (the default); the sets without it pin
+/// the coarse step of earlier streams.
 const MIX_PINS: &[([u8; 4], Pins)] = &[
+    (
+        [2, 7, 15, 6],
+        [
+            (7388, 0xE2E8A396),
+            (1951, 0xCC18714C),
+            (132, 0xCDD13125),
+            (5962, 0x2D3A98E7),
+        ],
+    ),
     (
         [2, 7, 7, 6],
         [
@@ -109,8 +120,18 @@ const MIX_PINS: &[([u8; 4], Pins)] = &[
     ),
 ];
 
-/// `Order2Params::to_bytes` of each parameter set, and its pins.
+/// `Order2Params::to_bytes` of each parameter set, and its pins (flag bit
+/// 1: the precise binary step, the default).
 const ORDER2_PINS: &[([u8; 3], Pins)] = &[
+    (
+        [3, 60, 0],
+        [
+            (8542, 0xD8F12AB5),
+            (4278, 0xEE21BF6E),
+            (158, 0x1E634EE3),
+            (7085, 0x62D8A066),
+        ],
+    ),
     (
         [1, 60, 0],
         [
@@ -130,6 +151,12 @@ const ORDER2_PINS: &[([u8; 3], Pins)] = &[
         ],
     ),
 ];
+
+#[test]
+fn defaults_use_the_precise_step() {
+    assert_eq!(MixParams::default().to_bytes(), [2, 7, 15, 6]);
+    assert_eq!(Order2Params::default().to_bytes(), [3, 60, 0]);
+}
 
 #[test]
 fn mix_streams_are_pinned() {

@@ -218,7 +218,26 @@ impl<S: ByteSource> Decoder<S> {
     #[inline(always)]
     pub fn decode_bit(&mut self, p1: u32) -> Result<bool> {
         let p1 = p1.clamp(1, 65535);
+        let bound = ((u64::from(self.range) * u64::from(p1)) >> 16) as u32;
+        self.bit_step(bound)
+    }
+
+    /// Decodes one binary decision coded by
+    /// [`Encoder::encode_bit_coarse`](crate::coder::Encoder::encode_bit_coarse).
+    ///
+    /// # Errors
+    ///
+    /// As for [`decode`](Decoder::decode).
+    #[inline(always)]
+    pub fn decode_bit_coarse(&mut self, p1: u32) -> Result<bool> {
+        let p1 = p1.clamp(1, 65535);
         let bound = (self.range >> 16) * p1;
+        self.bit_step(bound)
+    }
+
+    /// Takes the side of `bound` the code lies on.
+    #[inline(always)]
+    fn bit_step(&mut self, bound: u32) -> Result<bool> {
         let bit = self.code < bound;
         // Branch-free: the bit is as unpredictable as the data, and the
         // next prediction waits for it.

@@ -210,10 +210,35 @@ impl<S: ByteSink> Encoder<S> {
     #[inline(always)]
     pub fn encode_bit(&mut self, bit: bool, p1: u32) -> Result<()> {
         let p1 = p1.clamp(1, 65535);
+        // floor(range · p1 / 2^16): the split is exact to one unit of the
+        // range, so a bit costs its ideal length to within 2^-23 bits.
+        let bound = ((u64::from(self.range) * u64::from(p1)) >> 16) as u32;
+        self.bit_step(bit, p1, bound)
+    }
+
+    /// Codes one binary decision with the coarser split of streams written
+    /// by earlier builds: `bound = (range >> 16) · p1`, which drops the low
+    /// 16 bits of the range and so costs up to 2^-8 (typically 2^-12) of a
+    /// bit's share. Kept so that such streams (the `order2` and `mix`
+    /// containers with `precise` 0) still decode; new streams use
+    /// [`encode_bit`](Encoder::encode_bit).
+    ///
+    /// # Errors
+    ///
+    /// As for [`encode_bit`](Encoder::encode_bit).
+    #[inline(always)]
+    pub fn encode_bit_coarse(&mut self, bit: bool, p1: u32) -> Result<()> {
+        let p1 = p1.clamp(1, 65535);
+        let bound = (self.range >> 16) * p1;
+        self.bit_step(bit, p1, bound)
+    }
+
+    /// Narrows the range to the `bit` side of `bound`.
+    #[inline(always)]
+    fn bit_step(&mut self, bit: bool, p1: u32, bound: u32) -> Result<()> {
         if let Some(meter) = &mut self.meter {
             meter.add_bit(bit, p1);
         }
-        let bound = (self.range >> 16) * p1;
         if bit {
             self.range = bound;
         } else {

@@ -45,6 +45,7 @@ pub(crate) fn order2_params(params: &[u32]) -> Result<Order2Params> {
     let mut p = Order2Params::default();
     p.order1 = flag(params[0], "order1")?;
     p.limit = u16::try_from(params[1]).map_err(|_| invalid("limit", "must be in 1 ..= 1023"))?;
+    p.precise = flag(params[2], "precise")?;
     p.validate()?;
     Ok(p)
 }
@@ -66,6 +67,7 @@ pub(crate) fn mix_params(params: &[u32]) -> Result<MixParams> {
     p.column = flag(params[3], "column")?;
     p.matcher = flag(params[4], "matcher")?;
     p.rate = u8::try_from(params[5]).map_err(|_| invalid("rate", "out of range"))?;
+    p.precise = flag(params[6], "precise")?;
     p.validate()?;
     Ok(p)
 }
@@ -161,9 +163,11 @@ mod tests {
 
     #[test]
     fn bad_parameters_are_typed_errors() {
-        assert!(mix_params(&[3, 0b10_1011, 1, 1, 1, 6]).is_err()); // 3 MiB: not a power of two
-        assert!(mix_params(&[32, 0b10_1011, 2, 1, 1, 6]).is_err());
-        assert!(order2_params(&[1, 0]).is_err());
-        assert_eq!(mix_memory(&[3, 0, 0, 0, 0, 0], 1), u64::MAX);
+        assert!(mix_params(&[3, 0b10_1011, 1, 1, 1, 6, 1]).is_err()); // 3 MiB: not a power of two
+        assert!(mix_params(&[32, 0b10_1011, 2, 1, 1, 6, 1]).is_err());
+        assert!(mix_params(&[32, 0b10_1011, 1, 1, 1, 6, 2]).is_err());
+        assert!(order2_params(&[1, 0, 1]).is_err());
+        assert!(order2_params(&[1, 60, 2]).is_err());
+        assert_eq!(mix_memory(&[3, 0, 0, 0, 0, 0, 1], 1), u64::MAX);
     }
 }

@@ -92,6 +92,10 @@ pub struct ParamSpec {
     pub max: u32,
     /// What the parameter does, one line.
     pub help: &'static str,
+    /// The value a header written before this parameter existed implies
+    /// (such a header stops before it); `None` for parameters every header
+    /// records.
+    pub absent: Option<u32>,
 }
 
 /// Which preset: the part of a [`Preset`] that is not a parameter.
@@ -120,6 +124,7 @@ const STATIC_PARAMS: &[ParamSpec] = &[
         min: 1,
         max: crate::coder::MAX_LANES as u32,
         help: "interleaved coder lanes per block (blocks under 1 KiB per lane use fewer)",
+        absent: None,
     },
     ParamSpec {
         name: "log2_total",
@@ -127,6 +132,7 @@ const STATIC_PARAMS: &[ParamSpec] = &[
         min: 8,
         max: 16,
         help: "largest table total, as a power of two (small blocks use smaller totals)",
+        absent: None,
     },
 ];
 
@@ -137,6 +143,7 @@ const ADAPTIVE_PARAMS: &[ParamSpec] = &[
         min: 1,
         max: crate::coder::MAX_LANES as u32,
         help: "interleaved coder lanes per block (blocks under 1 KiB per lane use fewer)",
+        absent: None,
     },
     ParamSpec {
         name: "log2_total",
@@ -144,6 +151,7 @@ const ADAPTIVE_PARAMS: &[ParamSpec] = &[
         min: 8,
         max: 16,
         help: "table total, as a power of two",
+        absent: None,
     },
     ParamSpec {
         name: "period",
@@ -152,6 +160,7 @@ const ADAPTIVE_PARAMS: &[ParamSpec] = &[
         max: 1 << 20,
         help:
             "most bytes coded between two rebuilds of the table (the first after 32, then doubling)",
+        absent: None,
     },
     ParamSpec {
         name: "limit",
@@ -159,6 +168,7 @@ const ADAPTIVE_PARAMS: &[ParamSpec] = &[
         min: 256,
         max: 1 << 30,
         help: "at a rebuild, counts are halved while their sum exceeds this",
+        absent: None,
     },
 ];
 
@@ -169,6 +179,7 @@ const STEPWISE_PARAMS: &[ParamSpec] = &[
         min: 1,
         max: 8192,
         help: "added to a byte's count each time it is coded",
+        absent: None,
     },
     ParamSpec {
         name: "limit",
@@ -176,6 +187,7 @@ const STEPWISE_PARAMS: &[ParamSpec] = &[
         min: 261,
         max: 65_536,
         help: "counts are halved when the total would pass this (at least 257 + 4 x increment)",
+        absent: None,
     },
 ];
 
@@ -186,6 +198,7 @@ const ORDER2_PARAMS: &[ParamSpec] = &[
         min: 0,
         max: 1,
         help: "new order-2 contexts start from the order-1 prediction (1) or from even odds (0)",
+        absent: None,
     },
     ParamSpec {
         name: "limit",
@@ -193,6 +206,15 @@ const ORDER2_PARAMS: &[ParamSpec] = &[
         min: 1,
         max: 1023,
         help: "counter limit: higher suits long stationary data, lower adapts faster",
+        absent: None,
+    },
+    ParamSpec {
+        name: "precise",
+        default: 1,
+        min: 0,
+        max: 1,
+        help: "binary steps split the range exactly (1), or as earlier builds did (0)",
+        absent: Some(0),
     },
 ];
 
@@ -203,6 +225,7 @@ const MIX_PARAMS: &[ParamSpec] = &[
         min: 1,
         max: 1024,
         help: "context table memory in MiB, a power of two (the decoder needs the same)",
+        absent: None,
     },
     ParamSpec {
         name: "orders",
@@ -210,6 +233,7 @@ const MIX_PARAMS: &[ParamSpec] = &[
         min: 0,
         max: 0b11_1111,
         help: "context orders in use: bit k enables order k + 1 (default orders 1, 2, 3)",
+        absent: None,
     },
     ParamSpec {
         name: "word",
@@ -217,6 +241,7 @@ const MIX_PARAMS: &[ParamSpec] = &[
         min: 0,
         max: 1,
         help: "word context for text (1 on, 0 off)",
+        absent: None,
     },
     ParamSpec {
         name: "column",
@@ -224,6 +249,7 @@ const MIX_PARAMS: &[ParamSpec] = &[
         min: 0,
         max: 1,
         help: "column context for line-structured records (1 on, 0 off)",
+        absent: None,
     },
     ParamSpec {
         name: "matcher",
@@ -231,6 +257,7 @@ const MIX_PARAMS: &[ParamSpec] = &[
         min: 0,
         max: 1,
         help: "match model predicting from the longest earlier match (1 on, 0 off)",
+        absent: None,
     },
     ParamSpec {
         name: "rate",
@@ -238,6 +265,15 @@ const MIX_PARAMS: &[ParamSpec] = &[
         min: 1,
         max: 64,
         help: "mixer learning rate",
+        absent: None,
+    },
+    ParamSpec {
+        name: "precise",
+        default: 1,
+        min: 0,
+        max: 1,
+        help: "binary steps split the range exactly (1), or as earlier builds did (0)",
+        absent: Some(0),
     },
 ];
 
@@ -416,7 +452,10 @@ impl Preset {
     pub fn from_id(id: u32, params: &[u32]) -> Result<Self> {
         let kind = PresetKind::from_id(id)?;
         let specs = kind.param_specs();
-        if params.len() != specs.len() {
+        // Parameters added after a preset was first written come last and
+        // imply their `absent` value in headers that stop before them.
+        let required = specs.iter().filter(|s| s.absent.is_none()).count();
+        if params.len() < required || params.len() > specs.len() {
             return Err(ErrorKind::InvalidParameter {
                 name: "preset parameters",
                 reason: "wrong number of parameters for this preset",
@@ -424,6 +463,12 @@ impl Preset {
             .into());
         }
         let mut values = [0u32; MAX_PARAMS];
+        for (v, spec) in values[params.len()..]
+            .iter_mut()
+            .zip(&specs[params.len()..])
+        {
+            *v = spec.absent.unwrap_or(spec.default);
+        }
         for ((v, &p), spec) in values.iter_mut().zip(params).zip(specs) {
             if p > spec.max {
                 return Err(ErrorKind::LimitExceeded {
@@ -768,6 +813,13 @@ mod tests {
                 assert!(spec.min <= spec.default && spec.default <= spec.max);
             }
             assert!(Preset::new(*a).check_params().is_ok());
+            // Parameters a header may leave out come after all the others.
+            let specs = a.param_specs();
+            let required = specs.iter().filter(|s| s.absent.is_none()).count();
+            assert!(
+                specs[..required].iter().all(|s| s.absent.is_none()),
+                "{a:?}"
+            );
             for b in &known[i + 1..] {
                 assert_ne!(a.id(), b.id());
                 assert_ne!(a.name(), b.name());
@@ -797,6 +849,17 @@ mod tests {
             Preset::from_id(5, &[32, 12, 256, 4096]).unwrap(),
             Preset::new(PresetKind::Adaptive)
         );
+        // Headers written before `precise` existed code with the coarse
+        // binary step.
+        let old = Preset::from_id(4, &[4, 7, 1, 1, 1, 6]).unwrap();
+        assert_eq!(old.param("precise"), Some(0));
+        assert_eq!(
+            Preset::from_id(3, &[1, 60]).unwrap().param("precise"),
+            Some(0)
+        );
+        assert!(Preset::from_id(3, &[1]).is_err());
+        assert!(Preset::from_id(3, &[1, 60, 1, 0]).is_err());
+        assert_eq!(Preset::new(PresetKind::Mix).param("precise"), Some(1));
         // A period shorter than the first segment.
         assert!(Preset::from_id(5, &[32, 12, 16, 65_536]).is_err());
     }

@@ -8,6 +8,11 @@
 //! `[low, low + range) / 2^frame` exactly, so the bytes the real encoder
 //! writes can be checked against it as a base-256 fraction.
 //!
+//! The binary step (`Encoder::encode_bit`) splits the range exactly:
+//! `bound = floor(range · p1 / 2^16)`, a 1 taking `0 .. bound`; the coarse
+//! step of earlier streams (`encode_bit_coarse`) is a span step of total
+//! 2^16 ([`RefStep::coarse_bit`]).
+//!
 //! [`IdealReference`] is the textbook exact-rational interval coder: the
 //! interval `[low, low + width) / den` shrinks to the symbol's exact share
 //! `cum / total .. (cum + freq) / total` at every step, with no rounding.
@@ -37,13 +42,25 @@ pub enum RefStep {
     /// Symbol `symbol` of `0 .. total`, every symbol of frequency 1 (the
     /// payload after an escape).
     Uniform { total: u32, symbol: u32 },
+    /// A binary decision on the precise split: `p1` (clamped to
+    /// `1 ..= 65535`) of 2^16 for a 1, which takes the lower part.
+    Bit { bit: bool, p1: u32 },
 }
 
 impl RefStep {
-    /// A binary decision with `p1` (probability of a 1 in 2^-16 units,
-    /// clamped as the coder documents) as a two-entry step of total 2^16:
-    /// a 1 takes `0 .. p1`, a 0 takes `p1 .. 2^16`.
+    /// A binary decision on the precise split (`Encoder::encode_bit`).
     pub fn bit(bit: bool, p1: u32) -> RefStep {
+        RefStep::Bit {
+            bit,
+            p1: p1.clamp(1, 65535),
+        }
+    }
+
+    /// A binary decision on the coarse split (`Encoder::encode_bit_coarse`)
+    /// with `p1` (probability of a 1 in 2^-16 units, clamped as the coder
+    /// documents) as a two-entry step of total 2^16: a 1 takes `0 .. p1`, a
+    /// 0 takes `p1 .. 2^16`.
+    pub fn coarse_bit(bit: bool, p1: u32) -> RefStep {
         let p1 = p1.clamp(1, 65535);
         RefStep::Choice {
             total: 1 << 16,
@@ -61,6 +78,14 @@ impl RefStep {
                 chosen,
             } => (spans[*chosen], *total),
             RefStep::Uniform { total, symbol } => (Span::new(*symbol, 1), *total),
+            RefStep::Bit { bit, p1 } => {
+                let span = if *bit {
+                    Span::new(0, *p1)
+                } else {
+                    Span::new(*p1, 65536 - *p1)
+                };
+                (span, 1 << 16)
+            }
         }
     }
 
@@ -69,6 +94,7 @@ impl RefStep {
         match self {
             RefStep::Choice { chosen, .. } => *chosen as u32,
             RefStep::Uniform { symbol, .. } => *symbol,
+            RefStep::Bit { bit, .. } => u32::from(!*bit),
         }
     }
 }
@@ -121,6 +147,21 @@ impl FastReference {
     /// Narrows to `span` and renormalises.
     pub fn code(&mut self, span: Span, total: u32) {
         let (offset, width) = self.split(span, total);
+        self.narrow(offset, width);
+    }
+
+    /// Offset and width of the `bit` side of the precise binary split.
+    pub fn split_bit(&self, bit: bool, p1: u32) -> (u32, u32) {
+        let bound = ((u64::from(self.range) * u64::from(p1)) >> 16) as u32;
+        if bit {
+            (0, bound)
+        } else {
+            (bound, self.range - bound)
+        }
+    }
+
+    /// Narrows to `offset .. offset + width` and renormalises.
+    fn narrow(&mut self, offset: u32, width: u32) {
         self.low = self.low.add_u64(offset.into());
         self.range = width;
         while self.range < TOP {
@@ -131,6 +172,11 @@ impl FastReference {
     }
 
     pub fn step(&mut self, step: &RefStep) {
+        if let RefStep::Bit { bit, p1 } = step {
+            let (offset, width) = self.split_bit(*bit, *p1);
+            self.narrow(offset, width);
+            return;
+        }
         let (span, total) = step.coded();
         self.code(span, total);
     }
@@ -251,6 +297,28 @@ pub fn reference_decode(bytes: &[u8], steps: &[RefStep]) -> Result<Vec<u32>, Str
                 }
                 (lo, span, *total)
             }
+            RefStep::Bit { p1, .. } => {
+                let found: Vec<bool> = [true, false]
+                    .into_iter()
+                    .filter(|&bit| {
+                        let (offset, width) = state.split_bit(bit, *p1);
+                        holds(
+                            &value,
+                            ev,
+                            &state.low.add_u64(offset.into()),
+                            width.into(),
+                            state.frame,
+                        )
+                    })
+                    .collect();
+                if found.len() != 1 {
+                    return Err(format!("step {k}: value lies in bits {found:?}"));
+                }
+                let bit = RefStep::bit(found[0], *p1);
+                state.step(&bit);
+                out.push(bit.answer());
+                continue;
+            }
         };
         state.code(span, total);
         out.push(answer);
@@ -353,7 +421,7 @@ impl Tracked {
         let (span, total) = step.coded();
         self.bound = self.bound.add_u64(2 * u64::from(total));
         let before = self.fast.frame();
-        self.fast.code(span, total);
+        self.fast.step(step);
         self.ideal.code(span, total);
         self.bound = self.bound.shl(self.fast.frame() - before);
     }

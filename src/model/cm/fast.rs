@@ -34,7 +34,7 @@ use alloc::vec::Vec;
 use crate::coder::{Decoder, Encoder, IdealCost};
 use crate::error::Result;
 use crate::model::cm::arena::GroupArena;
-use crate::model::cm::io::BitIo;
+use crate::model::cm::io::{BitIo, Coarse};
 use crate::model::cm::params::{Order2Params, NODES_PER_CONTEXT};
 use crate::model::cm::shrink::{code_bytes, finish_or_store};
 use crate::model::counter::{counter_n, counter_p16, counter_update, COUNTER_INIT};
@@ -203,8 +203,13 @@ fn order2_encoder_until(
     if meter {
         enc.enable_cost_meter();
     }
+    let precise = params.precise;
     code_bytes(data.len(), enc, check, |enc, i| {
-        model.byte(enc, data[i]).map(drop)
+        if precise {
+            model.byte(enc, data[i]).map(drop)
+        } else {
+            model.byte(&mut Coarse(enc), data[i]).map(drop)
+        }
     })
 }
 
@@ -228,7 +233,11 @@ pub fn decode_order2(coded: &[u8], raw_len: usize, params: &Order2Params) -> Res
     let mut dec = Decoder::new(coded)?;
     let mut out = Vec::with_capacity(raw_len);
     for _ in 0..raw_len {
-        out.push(model.byte(&mut dec, 0)?);
+        out.push(if params.precise {
+            model.byte(&mut dec, 0)?
+        } else {
+            model.byte(&mut Coarse(&mut dec), 0)?
+        });
     }
     dec.finish()?;
     Ok(out)

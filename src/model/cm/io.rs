@@ -3,7 +3,8 @@
 //! An engine writes its per-byte loop once, generic over [`BitIo`]: the
 //! encoding side codes the bit it is given, the decoding side ignores it and
 //! returns the decoded bit. Both sides thus run literally the same model code,
-//! which is what keeps their states identical.
+//! which is what keeps their states identical. [`Coarse`] codes with the
+//! coarser binary step of streams written by earlier builds.
 
 use crate::coder::{ByteSink, ByteSource, Decoder, Encoder};
 use crate::error::Result;
@@ -27,5 +28,24 @@ impl<S: ByteSource> BitIo for Decoder<S> {
     #[inline(always)]
     fn code(&mut self, _bit: bool, p1: u32) -> Result<bool> {
         self.decode_bit(p1)
+    }
+}
+
+/// An encoder or decoder coding with the coarse binary step
+/// ([`Encoder::encode_bit_coarse`]).
+pub(crate) struct Coarse<'a, T>(pub(crate) &'a mut T);
+
+impl<S: ByteSink> BitIo for Coarse<'_, Encoder<S>> {
+    #[inline(always)]
+    fn code(&mut self, bit: bool, p1: u32) -> Result<bool> {
+        self.0.encode_bit_coarse(bit, p1)?;
+        Ok(bit)
+    }
+}
+
+impl<S: ByteSource> BitIo for Coarse<'_, Decoder<S>> {
+    #[inline(always)]
+    fn code(&mut self, _bit: bool, p1: u32) -> Result<bool> {
+        self.0.decode_bit_coarse(p1)
     }
 }

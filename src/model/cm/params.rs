@@ -55,6 +55,10 @@ pub struct Order2Params {
     /// Count limit of the adaptive counters, `1 ..= 1023` (default 60):
     /// higher suits long stationary data, lower adapts faster.
     pub limit: u16,
+    /// Code bits with the coder's precise binary step
+    /// ([`Encoder::encode_bit`](crate::coder::Encoder::encode_bit), default
+    /// `true`); `false` is the coarse step of streams from earlier builds.
+    pub precise: bool,
 }
 
 impl Default for Order2Params {
@@ -62,6 +66,7 @@ impl Default for Order2Params {
         Order2Params {
             order1: true,
             limit: 60,
+            precise: true,
         }
     }
 }
@@ -124,7 +129,7 @@ impl Order2Params {
     /// (little-endian).
     pub fn to_bytes(&self) -> [u8; 3] {
         let [l0, l1] = self.limit.to_le_bytes();
-        [u8::from(self.order1), l0, l1]
+        [u8::from(self.order1) | u8::from(self.precise) << 1, l0, l1]
     }
 
     /// Rebuilds parameters written by [`to_bytes`](Order2Params::to_bytes).
@@ -133,12 +138,13 @@ impl Order2Params {
     ///
     /// [`ErrorKind::InvalidParameter`] for unknown flag bits or a field out of range.
     pub fn from_bytes(bytes: [u8; 3]) -> Result<Self> {
-        if bytes[0] & !1 != 0 {
+        if bytes[0] & !0b11 != 0 {
             return Err(invalid("flags", "unknown flag bits"));
         }
         let p = Order2Params {
             order1: bytes[0] & 1 == 1,
             limit: u16::from_le_bytes([bytes[1], bytes[2]]),
+            precise: bytes[0] & 2 != 0,
         };
         p.validate()?;
         Ok(p)
@@ -187,6 +193,10 @@ pub struct MixParams {
     pub matcher: bool,
     /// Mixer learning rate, `1 ..= 64` (default 6).
     pub rate: u8,
+    /// Code bits with the coder's precise binary step
+    /// ([`Encoder::encode_bit`](crate::coder::Encoder::encode_bit), default
+    /// `true`); `false` is the coarse step of streams from earlier builds.
+    pub precise: bool,
 }
 
 impl Default for MixParams {
@@ -198,6 +208,7 @@ impl Default for MixParams {
             column: true,
             matcher: true,
             rate: 6,
+            precise: true,
         }
     }
 }
@@ -342,8 +353,10 @@ impl MixParams {
     /// The parameters as four bytes: `mem_log2`, `orders`, flags (bit 0
     /// `word`, bit 1 `column`, bit 2 `matcher`), `rate`.
     pub fn to_bytes(&self) -> [u8; 4] {
-        let flags =
-            u8::from(self.word) | (u8::from(self.column) << 1) | (u8::from(self.matcher) << 2);
+        let flags = u8::from(self.word)
+            | (u8::from(self.column) << 1)
+            | (u8::from(self.matcher) << 2)
+            | (u8::from(self.precise) << 3);
         [self.mem_log2, self.orders, flags, self.rate]
     }
 
@@ -353,7 +366,7 @@ impl MixParams {
     ///
     /// [`ErrorKind::InvalidParameter`] for unknown flag bits or a field out of range.
     pub fn from_bytes(bytes: [u8; 4]) -> Result<Self> {
-        if bytes[2] & !0b111 != 0 {
+        if bytes[2] & !0b1111 != 0 {
             return Err(invalid("flags", "unknown flag bits"));
         }
         let p = MixParams {
@@ -363,6 +376,7 @@ impl MixParams {
             column: bytes[2] & 2 != 0,
             matcher: bytes[2] & 4 != 0,
             rate: bytes[3],
+            precise: bytes[2] & 8 != 0,
         };
         p.validate()?;
         Ok(p)
@@ -403,13 +417,15 @@ mod tests {
 
     #[test]
     fn bad_fields_are_refused() {
-        assert!(Order2Params::from_bytes([2, 60, 0]).is_err());
+        assert!(Order2Params::from_bytes([4, 60, 0]).is_err());
+        assert!(Order2Params::from_bytes([2, 60, 0]).unwrap().precise);
         assert!(Order2Params::from_bytes([1, 0, 0]).is_err());
         assert!(Order2Params::from_bytes([1, 0, 4]).is_err());
         assert!(Order2Params::from_bytes([0, 255, 3]).is_ok());
         assert!(MixParams::from_bytes([11, 63, 7, 6]).is_err());
         assert!(MixParams::from_bytes([6, 64, 7, 6]).is_err());
-        assert!(MixParams::from_bytes([6, 63, 8, 6]).is_err());
+        assert!(MixParams::from_bytes([6, 63, 16, 6]).is_err());
+        assert!(!MixParams::from_bytes([6, 63, 7, 6]).unwrap().precise);
         assert!(MixParams::from_bytes([6, 63, 7, 65]).is_err());
         assert!(MixParams::from_bytes([6, 0, 0, 6]).is_err());
         assert!(MixParams::from_bytes([6, 1, 0, 6]).is_ok());

@@ -45,7 +45,7 @@ use crate::error::Result;
 use crate::model::apm::Apm;
 use crate::model::cm::arena::{groups_for, GroupArena};
 use crate::model::cm::fast::update_stored;
-use crate::model::cm::io::BitIo;
+use crate::model::cm::io::{BitIo, Coarse};
 use crate::model::cm::params::{MixParams, NODES_PER_CONTEXT};
 use crate::model::cm::shrink::{code_bytes, finish_or_store};
 use crate::model::column::ColumnContext;
@@ -408,8 +408,13 @@ fn mix_encoder_until(
     if meter {
         enc.enable_cost_meter();
     }
+    let precise = params.precise;
     code_bytes(data.len(), enc, check, |enc, i| {
-        model.code_byte(enc, data[i])?;
+        if precise {
+            model.code_byte(enc, data[i])?;
+        } else {
+            model.code_byte(&mut Coarse(enc), data[i])?;
+        }
         model.byte_done(&data[..=i]);
         Ok(())
     })
@@ -435,7 +440,11 @@ pub fn decode_mix(coded: &[u8], raw_len: usize, params: &MixParams) -> Result<Ve
     let mut dec = Decoder::new(coded)?;
     let mut out = Vec::with_capacity(raw_len);
     for _ in 0..raw_len {
-        let byte = model.code_byte(&mut dec, 0)?;
+        let byte = if params.precise {
+            model.code_byte(&mut dec, 0)?
+        } else {
+            model.code_byte(&mut Coarse(&mut dec), 0)?
+        };
         out.push(byte);
         model.byte_done(&out);
     }
