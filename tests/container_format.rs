@@ -223,14 +223,9 @@ fn static_table(table: &[u8], log2_cap: u64) -> R<Vec<u32>> {
     Ok(freq)
 }
 
-fn decode_static(payload: &[u8], raw_len: usize, params: &[u64]) -> R<Vec<u8>> {
-    let mut p = Bytes { b: payload, pos: 0 };
-    let n = p.u8()? as usize;
-    if n == 0 || n as u64 > params[0] {
-        return Err("lane count".into());
-    }
-    let t = p.vint()?;
-    let freq = static_table(p.take(t)?, params[1])?;
+/// Sections 5.1 and 5.3: `n - 1` lane lengths, then the lanes, the last
+/// taking the rest of `payload`.
+fn lane_decoders<'a>(p: &mut Bytes<'a>, payload: &'a [u8], n: usize) -> R<Vec<RangeDecoder<'a>>> {
     let mut lens = Vec::new();
     for _ in 0..n - 1 {
         lens.push(p.vint()?);
@@ -240,6 +235,18 @@ fn decode_static(payload: &[u8], raw_len: usize, params: &[u64]) -> R<Vec<u8>> {
         lanes.push(RangeDecoder::new(p.take(l)?)?);
     }
     lanes.push(RangeDecoder::new(&payload[p.pos..])?);
+    Ok(lanes)
+}
+
+fn decode_static(payload: &[u8], raw_len: usize, params: &[u64]) -> R<Vec<u8>> {
+    let mut p = Bytes { b: payload, pos: 0 };
+    let n = p.u8()? as usize;
+    if n == 0 || n as u64 > params[0] {
+        return Err("lane count".into());
+    }
+    let t = p.vint()?;
+    let freq = static_table(p.take(t)?, params[1])?;
+    let mut lanes = lane_decoders(&mut p, payload, n)?;
     let mut out = Vec::with_capacity(raw_len);
     for j in 0..raw_len {
         out.push(lanes[j % n].symbol(&freq)? as u8);
@@ -355,15 +362,7 @@ fn decode_adaptive(payload: &[u8], raw_len: usize, params: &[u64]) -> R<Vec<u8>>
         return Err("lane count".into());
     }
     let set = byte_set(&mut p)?;
-    let mut lens = Vec::new();
-    for _ in 0..n - 1 {
-        lens.push(p.vint()?);
-    }
-    let mut lanes = Vec::new();
-    for &l in &lens {
-        lanes.push(RangeDecoder::new(p.take(l)?)?);
-    }
-    lanes.push(RangeDecoder::new(&payload[p.pos..])?);
+    let mut lanes = lane_decoders(&mut p, payload, n)?;
     let mut counts = vec![0u64; 256];
     let mut freq = refresh_table(&counts, &set, k);
     let (mut segment, mut left) = (32u64, 32u64);

@@ -26,6 +26,8 @@
 use alloc::vec;
 use alloc::vec::Vec;
 
+use crate::error::{ErrorKind, Result};
+
 const TOP: u32 = 1 << 24;
 
 /// Rows coded per pass of a lane group before the next group takes over.
@@ -79,6 +81,23 @@ impl EncodeTable {
         data.iter()
             .copied()
             .find(|&b| self.entry[usize::from(b)] >> 32 == 0)
+    }
+
+    /// Checks that the table codes every byte of `data`.
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::UncodableSymbol`] for the first byte it cannot code
+    /// (`alphabet` is the model's, for the message).
+    pub(crate) fn check_codable(&self, data: &[u8], alphabet: u32) -> Result<()> {
+        match self.uncodable(data) {
+            Some(b) => Err(ErrorKind::UncodableSymbol {
+                symbol: b.into(),
+                alphabet,
+            }
+            .into()),
+            None => Ok(()),
+        }
     }
 }
 

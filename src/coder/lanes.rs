@@ -87,7 +87,8 @@ pub fn decode_interleaved<M: Model + ?Sized>(
     }
 }
 
-fn check_lanes(lanes: usize) -> Result<()> {
+/// Checks a lane count: `1 ..= MAX_LANES`.
+pub(crate) fn check_lanes(lanes: usize) -> Result<()> {
     if lanes == 0 || lanes > MAX_LANES {
         return Err(ErrorKind::InvalidParameter {
             name: "lanes",

@@ -16,20 +16,9 @@ use alloc::vec::Vec;
 
 use crate::coder::lane_dec::{best_kernel, DecodeTables, LaneDecoder, Vector};
 use crate::coder::lane_enc::{EncodeTable, LaneEncoder};
-use crate::coder::lanes::MAX_LANES;
-use crate::error::{ErrorKind, Result};
+use crate::coder::lanes::check_lanes;
+use crate::error::Result;
 use crate::model::{Model, RefreshModel};
-
-fn check_lanes(lanes: usize) -> Result<()> {
-    if lanes == 0 || lanes > MAX_LANES {
-        return Err(ErrorKind::InvalidParameter {
-            name: "lanes",
-            reason: "must be 1 ..= 32",
-        }
-        .into());
-    }
-    Ok(())
-}
 
 /// Codes `data` with `model` over `lanes` interleaved coders, a segment at
 /// a time; the model learns every byte.
@@ -72,13 +61,7 @@ pub fn encode_refresh_lanes(
     check_lanes(lanes)?;
     let mut table = EncodeTable::new(model.frequencies(), model.cumulative(), model.log2_total());
     // The set of codable symbols never changes, so the first table tells.
-    if let Some(b) = table.uncodable(data) {
-        return Err(ErrorKind::UncodableSymbol {
-            symbol: b.into(),
-            alphabet: model.alphabet_size(),
-        }
-        .into());
-    }
+    table.check_codable(data, model.alphabet_size())?;
     let mut enc = LaneEncoder::new(data.len(), lanes);
     let mut rest = data;
     while !rest.is_empty() {
@@ -158,6 +141,7 @@ fn decode_with(
 mod tests {
     use super::*;
     use crate::coder::{decode_interleaved, encode_interleaved};
+    use crate::error::ErrorKind;
     use crate::model::RefreshParams;
     use alloc::vec;
 

@@ -20,18 +20,12 @@ use alloc::vec::Vec;
 
 use crate::coder::lane_dec::{best_kernel, DecodeTables, LaneDecoder, Vector};
 use crate::coder::lane_enc::{EncodeTable, LaneEncoder};
-use crate::coder::lanes::MAX_LANES;
+use crate::coder::lanes::check_lanes;
 use crate::error::{ErrorKind, Result};
 use crate::model::{Model, TableModel};
 
 fn check(model: &TableModel, lanes: usize) -> Result<()> {
-    if lanes == 0 || lanes > MAX_LANES {
-        return Err(ErrorKind::InvalidParameter {
-            name: "lanes",
-            reason: "must be 1 ..= 32",
-        }
-        .into());
-    }
+    check_lanes(lanes)?;
     if model.alphabet_size() > 256 {
         return Err(ErrorKind::InvalidParameter {
             name: "model",
@@ -75,13 +69,7 @@ fn check(model: &TableModel, lanes: usize) -> Result<()> {
 pub fn encode_table_lanes(model: &TableModel, data: &[u8], lanes: usize) -> Result<Vec<Vec<u8>>> {
     check(model, lanes)?;
     let table = EncodeTable::new(model.frequencies(), model.cumulative(), model.log2_total());
-    if let Some(b) = table.uncodable(data) {
-        return Err(ErrorKind::UncodableSymbol {
-            symbol: b.into(),
-            alphabet: model.alphabet_size(),
-        }
-        .into());
-    }
+    table.check_codable(data, model.alphabet_size())?;
     let mut enc = LaneEncoder::new(data.len(), lanes);
     enc.code(data, &table);
     Ok(enc.finish())
@@ -137,7 +125,7 @@ fn decode_with(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::coder::{decode_interleaved, encode_interleaved};
+    use crate::coder::{decode_interleaved, encode_interleaved, MAX_LANES};
     use alloc::vec;
 
     #[test]

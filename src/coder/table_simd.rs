@@ -394,18 +394,15 @@ kernel!(rows_avx2, "avx2");
 kernel!(rows_avx512, "avx2,avx512f,avx512vl");
 
 #[cfg(test)]
-mod tests {
+pub(crate) mod tests {
     use super::*;
     use alloc::vec::Vec;
 
-    /// Scalar `min(code / r, last)` against the vector estimate, on the
-    /// values where rounding bites: codes next to multiples of `r`, across
-    /// the whole range of `r` and of the quotient.
-    #[test]
-    fn slot_is_the_exact_clamped_quotient() {
-        if !Kernel::Avx2.supported() {
-            return;
-        }
+    /// The values where the quotient estimate's rounding bites, for every
+    /// `(r, last)` case: codes next to multiples of `r`, across the whole
+    /// range of `r` (`2^8 ..= 2^24`) and of the quotient, with the clamps of
+    /// totals 2^8, 2^12 and 2^16. Shared with the 512-bit kernel's test.
+    pub(crate) fn quotient_cases() -> Vec<(u32, u32, Vec<u32>)> {
         let mut rs: Vec<u32> = (8..=24)
             .flat_map(|b| [1u32 << b, (1 << b) + 1, (1 << b) - 1])
             .collect();
@@ -417,7 +414,7 @@ mod tests {
             rs.push(256 + x % ((1 << 24) - 256));
         }
         rs.retain(|&r| (256..=1 << 24).contains(&r));
-        let mut checked = 0u64;
+        let mut cases = Vec::new();
         for &r in &rs {
             for last in [255u32, 4095, 65535] {
                 let mut codes = Vec::new();
@@ -437,25 +434,39 @@ mod tests {
                         }
                     }
                 }
-                for chunk in codes.chunks(8) {
-                    let mut c = [0u32; 8];
-                    c[..chunk.len()].copy_from_slice(chunk);
-                    let mut got = [0u32; 8];
-                    // SAFETY: AVX2 is available (checked above); the arrays are
-                    // 32 bytes each.
-                    unsafe {
-                        let v = slot(
-                            _mm256_loadu_si256(c.as_ptr().cast()),
-                            _mm256_set1_epi32(r as i32),
-                            _mm256_set1_epi32(last as i32),
-                        );
-                        _mm256_storeu_si256(got.as_mut_ptr().cast(), v);
-                    }
-                    for l in 0..8 {
-                        assert_eq!(got[l], (c[l] / r).min(last), "code {} r {r}", c[l]);
-                    }
-                    checked += 8;
+                cases.push((r, last, codes));
+            }
+        }
+        cases
+    }
+
+    /// Scalar `min(code / r, last)` against the vector estimate, on
+    /// [`quotient_cases`].
+    #[test]
+    fn slot_is_the_exact_clamped_quotient() {
+        if !Kernel::Avx2.supported() {
+            return;
+        }
+        let mut checked = 0u64;
+        for (r, last, codes) in quotient_cases() {
+            for chunk in codes.chunks(8) {
+                let mut c = [0u32; 8];
+                c[..chunk.len()].copy_from_slice(chunk);
+                let mut got = [0u32; 8];
+                // SAFETY: AVX2 is available (checked above); the arrays are
+                // 32 bytes each.
+                unsafe {
+                    let v = slot(
+                        _mm256_loadu_si256(c.as_ptr().cast()),
+                        _mm256_set1_epi32(r as i32),
+                        _mm256_set1_epi32(last as i32),
+                    );
+                    _mm256_storeu_si256(got.as_mut_ptr().cast(), v);
                 }
+                for l in 0..8 {
+                    assert_eq!(got[l], (c[l] / r).min(last), "code {} r {r}", c[l]);
+                }
+                checked += 8;
             }
         }
         assert!(checked > 1_000_000);

@@ -208,66 +208,34 @@ pub(crate) unsafe fn rows<const G: usize, const PACKED: bool>(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use alloc::vec::Vec;
 
     /// Scalar `min(code / r, last)` against the vector estimate, on the
-    /// values where rounding bites: codes next to multiples of `r`, across
-    /// the whole range of `r` and of the quotient.
+    /// values where rounding bites (the cases of the 256-bit kernel's test).
     #[test]
     fn slot_is_the_exact_clamped_quotient() {
         if !supported() {
             return;
         }
-        let mut rs: Vec<u32> = (8..=24)
-            .flat_map(|b| [1u32 << b, (1 << b) + 1, (1 << b) - 1])
-            .collect();
-        let mut x = 0x9E37_79B9u32;
-        for _ in 0..400 {
-            x ^= x << 13;
-            x ^= x >> 17;
-            x ^= x << 5;
-            rs.push(256 + x % ((1 << 24) - 256));
-        }
-        rs.retain(|&r| (256..=1 << 24).contains(&r));
         let mut checked = 0u64;
-        for &r in &rs {
-            for last in [255u32, 4095, 65535] {
-                let mut codes = Vec::new();
-                for m in (0..=u64::from(u32::MAX) / u64::from(r))
-                    .step_by(997)
-                    .chain([
-                        u64::from(last),
-                        u64::from(last) + 1,
-                        u64::from(u32::MAX) / u64::from(r),
-                    ])
-                {
-                    let base = m * u64::from(r);
-                    for d in [-2i64, -1, 0, 1] {
-                        let c = base as i64 + d;
-                        if (0..=i64::from(u32::MAX)).contains(&c) {
-                            codes.push(c as u32);
-                        }
-                    }
+        for (r, last, codes) in crate::coder::table_simd::tests::quotient_cases() {
+            for chunk in codes.chunks(16) {
+                let mut c = [0u32; 16];
+                c[..chunk.len()].copy_from_slice(chunk);
+                let mut got = [0u32; 16];
+                // SAFETY: AVX-512 F is available (checked above); the
+                // arrays are 64 bytes each.
+                unsafe {
+                    let v = slot(
+                        _mm512_loadu_si512(c.as_ptr().cast()),
+                        _mm512_set1_epi32(r as i32),
+                        _mm512_set1_epi32(last as i32),
+                    );
+                    _mm512_storeu_si512(got.as_mut_ptr().cast(), v);
                 }
-                for chunk in codes.chunks(16) {
-                    let mut c = [0u32; 16];
-                    c[..chunk.len()].copy_from_slice(chunk);
-                    let mut got = [0u32; 16];
-                    // SAFETY: AVX-512 F is available (checked above); the
-                    // arrays are 64 bytes each.
-                    unsafe {
-                        let v = slot(
-                            _mm512_loadu_si512(c.as_ptr().cast()),
-                            _mm512_set1_epi32(r as i32),
-                            _mm512_set1_epi32(last as i32),
-                        );
-                        _mm512_storeu_si512(got.as_mut_ptr().cast(), v);
-                    }
-                    for l in 0..16 {
-                        assert_eq!(got[l], (c[l] / r).min(last), "code {} r {r}", c[l]);
-                    }
-                    checked += 16;
+                for l in 0..16 {
+                    assert_eq!(got[l], (c[l] / r).min(last), "code {} r {r}", c[l]);
                 }
+                checked += 16;
             }
         }
         assert!(checked > 1_000_000);

@@ -27,7 +27,8 @@ use crate::coder::{decode_refresh_lanes, encode_refresh_lanes, log2_q32, IdealCo
 use crate::error::{ErrorKind, Result};
 use crate::model::{RefreshModel, RefreshParams};
 use crate::preset::corrupt;
-use crate::vint::{put_vint, Cursor};
+use crate::preset::lanes::{put_lanes, read_lanes};
+use crate::vint::Cursor;
 
 /// Symbols coded with a block's first table; later segments double.
 pub(crate) const FIRST_PERIOD: u32 = 32;
@@ -146,12 +147,7 @@ pub(crate) fn encode(raw: &[u8], params: &[u32]) -> Result<Vec<u8>> {
     let mut out = Vec::with_capacity(coded + 34 + 8 * lanes);
     out.push(lanes as u8);
     put_byte_set(&mut out, &set);
-    for s in &streams[..lanes - 1] {
-        put_vint(&mut out, s.len() as u64);
-    }
-    for s in &streams {
-        out.extend_from_slice(s);
-    }
+    put_lanes(&mut out, &streams);
     Ok(out)
 }
 
@@ -201,22 +197,7 @@ pub(crate) fn decode(payload: &[u8], params: &[u32], out: &mut [u8]) -> Result<(
     let set = read_byte_set(&mut cur)?;
     let mut model = RefreshModel::with_symbols(&set, refresh_params(params))
         .map_err(|_| corrupt(1, "byte set does not fit the table total"))?;
-    let mut lens = [0u64; crate::coder::MAX_LANES];
-    for len in lens.iter_mut().take(usize::from(lanes) - 1) {
-        let at = cur.position();
-        *len = cur
-            .vint()
-            .map_err(|_| corrupt(at, "malformed lane length"))?;
-    }
-    let mut views: Vec<&[u8]> = Vec::with_capacity(usize::from(lanes));
-    for &len in &lens[..usize::from(lanes) - 1] {
-        let at = cur.position();
-        views.push(
-            cur.take(len)
-                .ok_or_else(|| corrupt(at, "lane runs past the payload"))?,
-        );
-    }
-    views.push(cur.rest());
+    let views = read_lanes(&mut cur, usize::from(lanes))?;
     decode_refresh_lanes(&mut model, &views, out).map_err(|e| match e.kind() {
         ErrorKind::InvalidParameter { .. } => corrupt(0, "lane count"),
         _ => e,

@@ -64,6 +64,7 @@
 
 mod adaptive_codec;
 mod cm_codec;
+mod lanes;
 mod static_codec;
 mod stepwise_codec;
 
@@ -117,15 +118,28 @@ pub enum PresetKind {
     Mix,
 }
 
+/// The lane count of the lane-coded presets.
+const LANES: ParamSpec = ParamSpec {
+    name: "lanes",
+    default: 32,
+    min: 1,
+    max: crate::coder::MAX_LANES as u32,
+    help: "interleaved coder lanes per block (blocks under 1 KiB per lane use fewer)",
+    absent: None,
+};
+
+/// The binary step of the context-mixing presets, added after them.
+const PRECISE: ParamSpec = ParamSpec {
+    name: "precise",
+    default: 1,
+    min: 0,
+    max: 1,
+    help: "binary steps split the range exactly (1), or as earlier builds did (0)",
+    absent: Some(0),
+};
+
 const STATIC_PARAMS: &[ParamSpec] = &[
-    ParamSpec {
-        name: "lanes",
-        default: 32,
-        min: 1,
-        max: crate::coder::MAX_LANES as u32,
-        help: "interleaved coder lanes per block (blocks under 1 KiB per lane use fewer)",
-        absent: None,
-    },
+    LANES,
     ParamSpec {
         name: "log2_total",
         default: 12,
@@ -137,14 +151,7 @@ const STATIC_PARAMS: &[ParamSpec] = &[
 ];
 
 const ADAPTIVE_PARAMS: &[ParamSpec] = &[
-    ParamSpec {
-        name: "lanes",
-        default: 32,
-        min: 1,
-        max: crate::coder::MAX_LANES as u32,
-        help: "interleaved coder lanes per block (blocks under 1 KiB per lane use fewer)",
-        absent: None,
-    },
+    LANES,
     ParamSpec {
         name: "log2_total",
         default: 12,
@@ -208,14 +215,7 @@ const ORDER2_PARAMS: &[ParamSpec] = &[
         help: "counter limit: higher suits long stationary data, lower adapts faster",
         absent: None,
     },
-    ParamSpec {
-        name: "precise",
-        default: 1,
-        min: 0,
-        max: 1,
-        help: "binary steps split the range exactly (1), or as earlier builds did (0)",
-        absent: Some(0),
-    },
+    PRECISE,
 ];
 
 const MIX_PARAMS: &[ParamSpec] = &[
@@ -267,14 +267,7 @@ const MIX_PARAMS: &[ParamSpec] = &[
         help: "mixer learning rate",
         absent: None,
     },
-    ParamSpec {
-        name: "precise",
-        default: 1,
-        min: 0,
-        max: 1,
-        help: "binary steps split the range exactly (1), or as earlier builds did (0)",
-        absent: Some(0),
-    },
+    PRECISE,
 ];
 
 impl PresetKind {

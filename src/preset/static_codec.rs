@@ -23,6 +23,7 @@ use crate::coder::{decode_table_lanes, encode_table_lanes, log2_q32};
 use crate::error::{ErrorKind, Result};
 use crate::model::TableModel;
 use crate::preset::corrupt;
+use crate::preset::lanes::{put_lanes, read_lanes};
 use crate::vint::{put_vint, Cursor};
 
 /// Largest table a block may declare, in bytes. A 256-symbol table takes at
@@ -101,12 +102,7 @@ fn encode_with(raw: &[u8], model: &TableModel, lanes: usize) -> Result<Vec<u8>> 
     out.push(lanes as u8);
     put_vint(&mut out, table.len() as u64);
     out.extend_from_slice(&table);
-    for s in &streams[..lanes - 1] {
-        put_vint(&mut out, s.len() as u64);
-    }
-    for s in &streams {
-        out.extend_from_slice(s);
-    }
+    put_lanes(&mut out, &streams);
     Ok(out)
 }
 
@@ -140,22 +136,7 @@ pub(crate) fn decode(payload: &[u8], params: &[u32], out: &mut [u8]) -> Result<(
     if model.log2_total() > cap {
         return Err(corrupt(at, "table total above the preset's log2_total"));
     }
-    let mut lens = [0u64; crate::coder::MAX_LANES];
-    for len in lens.iter_mut().take(usize::from(lanes) - 1) {
-        let at = cur.position();
-        *len = cur
-            .vint()
-            .map_err(|_| corrupt(at, "malformed lane length"))?;
-    }
-    let mut views: Vec<&[u8]> = Vec::with_capacity(usize::from(lanes));
-    for &len in &lens[..usize::from(lanes) - 1] {
-        let at = cur.position();
-        views.push(
-            cur.take(len)
-                .ok_or_else(|| corrupt(at, "lane runs past the payload"))?,
-        );
-    }
-    views.push(cur.rest());
+    let views = read_lanes(&mut cur, usize::from(lanes))?;
     decode_table_lanes(&model, &views, out)
 }
 
