@@ -17,6 +17,8 @@ use alloc::vec::Vec;
 use crate::coder::lane_dec::{best_kernel, DecodeTables, LaneDecoder, Vector};
 use crate::coder::lane_enc::{EncodeTable, LaneEncoder};
 use crate::coder::lanes::check_lanes;
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 use crate::model::{Model, RefreshModel};
 
