@@ -1,8 +1,6 @@
 //! Helpers for the CLI tests: run the binary as a separate process in a
 //! scratch directory of its own.
 
-#![allow(dead_code)]
-
 use std::fs;
 use std::io::Write;
 use std::path::{Path, PathBuf};

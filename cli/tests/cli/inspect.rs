@@ -1,10 +1,6 @@
 //! `subrange inspect` on good and damaged containers.
 
-#![cfg(feature = "cli")]
-
-mod cli_support;
-
-use cli_support::*;
+use crate::support::*;
 
 fn container(dir: &Scratch, preset: &str) -> Vec<u8> {
     let data = gauge_text(5000);

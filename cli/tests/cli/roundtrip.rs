@@ -1,13 +1,9 @@
 //! `subrange compress` / `decompress` as a user runs them: files, pipes,
 //! refusals and damaged input.
 
-#![cfg(feature = "cli")]
-
-mod cli_support;
-
 use std::fs;
 
-use cli_support::*;
+use crate::support::*;
 use subrange::preset::Preset;
 
 #[test]

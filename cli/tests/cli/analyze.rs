@@ -1,10 +1,6 @@
 //! `subrange analyze` on files with known entropy.
 
-#![cfg(feature = "cli")]
-
-mod cli_support;
-
-use cli_support::*;
+use crate::support::*;
 
 /// The figure of order `k` in the entropy table.
 fn order_bits(report: &str, k: usize) -> f64 {

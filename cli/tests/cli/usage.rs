@@ -1,10 +1,6 @@
 //! Usage errors, help texts and exit codes.
 
-#![cfg(feature = "cli")]
-
-mod cli_support;
-
-use cli_support::*;
+use crate::support::*;
 
 #[test]
 fn every_command_has_help_that_documents_exit_codes() {

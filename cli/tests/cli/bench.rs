@@ -1,10 +1,6 @@
 //! `subrange bench` on small files: JSON validity, plot output, errors.
 
-#![cfg(feature = "cli")]
-
-mod cli_support;
-
-use cli_support::*;
+use crate::support::*;
 use serde_json::Value;
 
 fn bench_json(dir: &Scratch, extra: &[&str]) -> Value {
