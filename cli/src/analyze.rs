@@ -9,16 +9,21 @@
 //! 3. each preset's size, by compressing the first [`ESTIMATE_BYTES`] of the
 //!    sample with it into a real container, scaled to the whole file. Blocks
 //!    are coded independently, so a couple of default-sized blocks predict
-//!    the rest well, and strong (slow) presets stay quick to estimate.
+//!    the rest well, and strong (slow) presets stay quick to estimate. The
+//!    general compressors of `--baselines` (each at its default setting
+//!    unless told otherwise) code the same bytes, scaled the same way, in
+//!    the same table; one that fails shows its reason in its row.
 
 use std::fmt::Write as _;
 
 use crate::cli::AnalyzeArgs;
+use crate::baseline::BaselineList;
 use crate::codec::{Codec, PresetCodec};
 use crate::entropy::{self, OrderEntropy};
 use crate::exit::CliResult;
 use crate::files::Input;
 use crate::presets::PresetName;
+use crate::codec::Kind;
 use crate::report::{fixed, table, table_aligned, thousands};
 
 /// Bytes compressed per preset for its size estimate: two default blocks.
@@ -33,12 +38,13 @@ pub fn run(args: &AnalyzeArgs) -> CliResult {
     let (data, size) = input.read_prefix(Some(args.sample))?;
     // With an unknown size (standard input), assume the sample is all.
     let full = size.unwrap_or(data.len() as u64).max(data.len() as u64);
-    let text = render(&input.describe(), &data, full)?;
+    let baselines = args.baselines.clone().unwrap_or_default();
+    let text = render(&input.describe(), &data, full, &baselines)?;
     crate::print_stdout(&text)
 }
 
 /// The whole report for a sample `data` of a file of `full` bytes.
-fn render(name: &str, data: &[u8], full: u64) -> CliResult<String> {
+fn render(name: &str, data: &[u8], full: u64, baselines: &BaselineList) -> CliResult<String> {
     let mut out = String::new();
     let sampled = (data.len() as u64) < full;
     let _ = writeln!(
@@ -61,7 +67,7 @@ fn render(name: &str, data: &[u8], full: u64) -> CliResult<String> {
     out.push('\n');
     entropy_section(&mut out, &entropy::conditional_entropies(data, 3), full);
     histogram_section(&mut out, data);
-    presets_section(&mut out, data, full)?;
+    presets_section(&mut out, data, full, baselines)?;
     Ok(out)
 }
 
@@ -187,13 +193,18 @@ fn printable(b: u8) -> String {
     }
 }
 
-fn presets_section(out: &mut String, sample: &[u8], full: u64) -> CliResult {
+fn presets_section(
+    out: &mut String,
+    sample: &[u8],
+    full: u64,
+    baselines: &BaselineList,
+) -> CliResult {
     let data = &sample[..sample.len().min(ESTIMATE_BYTES)];
     let sampled = (data.len() as u64) < full;
     let scale = full as f64 / data.len() as f64;
     let _ = writeln!(
         out,
-        "Preset estimates ({})",
+        "Preset estimates, with general compressors for comparison ({})",
         if sampled {
             format!(
                 "the first {} bytes compressed, scaled to the whole file",
@@ -204,18 +215,35 @@ fn presets_section(out: &mut String, sample: &[u8], full: u64) -> CliResult {
         }
     );
     let mut rows = vec![vec![
-        "preset".to_string(),
+        "codec".to_string(),
         "size".to_string(),
         "ratio".to_string(),
         "bits/byte".to_string(),
+        String::new(),
     ]];
-    let mut best: Option<(String, f64)> = None;
+    let mut codecs: Vec<Box<dyn Codec>> = Vec::new();
     for preset in PresetName::all() {
-        let c = PresetCodec::new(preset.preset(), None, 0)?;
-        let packed = c.compress(data)?.len() as f64;
+        codecs.push(Box::new(PresetCodec::new(preset.preset(), None, 0)?));
+    }
+    codecs.extend(baselines.0.iter().map(|&b| Box::new(b) as Box<dyn Codec>));
+    let mut best: [Option<(String, f64)>; 2] = [None, None];
+    for c in &codecs {
+        let packed = match c.compress(data) {
+            Ok(p) => p.len() as f64,
+            Err(e) => {
+                rows.push(vec![
+                    c.name(),
+                    "-".into(),
+                    "-".into(),
+                    "-".into(),
+                    format!("FAILED: {}", e.message()),
+                ]);
+                continue;
+            }
+        };
         let size = packed * scale;
         rows.push(vec![
-            preset.to_string(),
+            c.name(),
             format!(
                 "{}{}",
                 if sampled { "~" } else { "" },
@@ -223,19 +251,33 @@ fn presets_section(out: &mut String, sample: &[u8], full: u64) -> CliResult {
             ),
             fixed((packed > 0.0).then(|| data.len() as f64 / packed), 3),
             format!("{:.3}", 8.0 * packed / data.len() as f64),
+            match c.kind() {
+                Kind::Preset => String::new(),
+                Kind::Baseline => "baseline".to_string(),
+            },
         ]);
-        if best.as_ref().is_none_or(|(_, s)| size < *s) {
-            best = Some((preset.to_string(), size));
+        let slot = &mut best[usize::from(c.kind() == Kind::Baseline)];
+        if slot.as_ref().is_none_or(|(_, s)| size < *s) {
+            *slot = Some((c.name(), size));
         }
     }
-    for line in table(&rows).lines() {
+    for line in table_aligned(&rows, &[true, false, false, false, true]).lines() {
         let _ = writeln!(out, "  {line}");
     }
-    if let Some((name, _)) = best {
-        let _ = writeln!(
+    let [preset, baseline] = best;
+    if let Some((name, size)) = preset {
+        let _ = write!(
             out,
-            "  Smallest: {name} (subrange compress --preset {name})"
+            "  Smallest preset: {name} (subrange compress --preset {name})"
         );
+        if let Some((base, base_size)) = baseline.filter(|(_, s)| *s > 0.0) {
+            let _ = write!(
+                out,
+                "; smallest baseline: {base}, {:.2}x the preset's size",
+                base_size / size
+            );
+        }
+        out.push('\n');
     }
     Ok(())
 }
@@ -262,14 +304,21 @@ mod tests {
     #[test]
     fn report_mentions_every_order_and_preset() {
         let data = subrange::corpus::gauge_csv(5, 5000);
-        let text = render("'x'", &data, data.len() as u64).unwrap();
+        let all = BaselineList::default();
+        let text = render("'x'", &data, data.len() as u64, &all).unwrap();
         for p in PresetName::all() {
             assert!(text.contains(p.as_str()), "{text}");
         }
+        for b in &all.0 {
+            assert!(text.contains(&format!("{b} ")), "{text}");
+        }
+        assert!(text.contains("smallest baseline: "), "{text}");
         assert!(text.contains("Empirical entropy"));
         assert!(!text.contains("analyzed the first"));
-        let text = render("'x'", &data, 10 * data.len() as u64).unwrap();
+        let none = BaselineList(Vec::new());
+        let text = render("'x'", &data, 10 * data.len() as u64, &none).unwrap();
         assert!(text.contains("analyzed the first"));
-        assert!(render("'x'", &[], 0).unwrap().contains("empty"));
+        assert!(!text.contains("baseline"), "{text}");
+        assert!(render("'x'", &[], 0, &all).unwrap().contains("empty"));
     }
 }

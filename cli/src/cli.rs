@@ -9,6 +9,7 @@ use std::path::PathBuf;
 
 use clap::{Args, Parser, Subcommand};
 
+use crate::baseline::{self, BaselineList};
 use crate::exit::EXIT_CODES_HELP;
 use crate::presets::{self, PresetName};
 
@@ -19,7 +20,8 @@ use crate::presets::{self, PresetName};
     version,
     about = "Arithmetic-coding compression: compress, decompress, bench, inspect, analyze",
     long_about = "Compress and decompress files with an integer range coder and a choice of \
-models (presets), measure the presets against flate2 on your own data, look inside a \
+models (presets), measure the presets against general compressors (flate2, zstd, xz, \
+bzip2, brotli, lz4) on your own data, look inside a \
 compressed file block by block, and estimate how compressible a file is.\n\n\
 Compressed files end in '.sr'. Run 'subrange <command> --help' for each command's options.",
     after_long_help = EXIT_CODES_HELP,
@@ -40,7 +42,7 @@ pub enum Command {
     /// Decompress a '.sr' file (or standard input).
     #[command(after_long_help = EXIT_CODES_HELP)]
     Decompress(DecompressArgs),
-    /// Measure every preset and flate2 on files or the built-in demo corpus.
+    /// Measure every preset against general compressors on files or the built-in demo corpus.
     #[command(after_long_help = EXIT_CODES_HELP)]
     Bench(BenchArgs),
     /// Show a compressed file's header and blocks, checking every block.
@@ -116,13 +118,16 @@ pub struct DecompressArgs {
 #[derive(Debug, Args)]
 #[command(
     long_about = "Compress and decompress each file with each preset and with \
-flate2 at levels 1, 6 and 9, check every round trip, and print a table per file: \
-compressed size, ratio (original / compressed), bits per byte, the data's order-0 \
-entropy, the ideal cost of what the preset's models coded (the sum of -log2 p over \
-all symbols) and the coding overhead above it (headers, tables, coder flushes), and \
-encode / decode speed in MB/s (10^6 bytes of uncompressed data per second, best of \
---runs runs on one thread). Ends with a summary: the best preset per file and its \
-ratio against flate2 level 9.\n\nWith no FILES, the built-in demo corpus is used: \
+general compressors (flate2, zstd, xz, bzip2, brotli, lz4; see --baselines), all in this \
+process on one thread, on the same buffers and with the same clock; check every round \
+trip; and print a table per file, smallest output first: compressed size, ratio \
+(original / compressed), bits per byte, the ideal cost of what a preset's models coded \
+(the sum of -log2 p over all symbols) and the coding overhead above it (headers, tables, \
+coder flushes), and encode / decode speed in MB/s (10^6 bytes of uncompressed data per \
+second, best of --runs runs), with the smallest and the fastest marked. A codec that \
+fails on a file gets the reason in its row. Then a summary per file and over all files: \
+the smallest preset against the smallest baseline, and each preset's speed against the \
+baseline nearest to it in size.\n\nWith no FILES, the built-in demo corpus is used: \
 synthetic river-gauge telemetry (CSV and binary frames), text, skewed and random bytes."
 )]
 pub struct BenchArgs {
@@ -140,7 +145,18 @@ pub struct BenchArgs {
     )]
     pub preset: Vec<PresetName>,
 
-    /// Also write an SVG scatter plot of ratio against encode speed.
+    /// General compressors to measure (default: all, each at its default
+    /// setting; 'all-levels': fast, default and strongest; 'none').
+    #[arg(
+        long,
+        value_name = "LIST",
+        value_parser = baseline::parse_list,
+        long_help = baseline::baselines_help()
+    )]
+    pub baselines: Option<BaselineList>,
+
+    /// Also write an SVG chart of bits per byte against encode and decode
+    /// speed, every codec a labelled point.
     #[arg(long, value_name = "FILE.svg")]
     pub plot: Option<PathBuf>,
 
@@ -194,8 +210,8 @@ pub struct InspectArgs {
 #[command(
     long_about = "Estimate how compressible a file is: the empirical entropy of \
 orders 0 to 3 (H(X | previous k bytes), the plug-in estimate from counts), a chart of \
-the byte histogram, and the size each preset would reach, so you can choose a preset \
-before compressing.\n\nThe plug-in estimate is exact for the sample itself but \
+the byte histogram, and the size each preset would reach beside general compressors \
+(see --baselines), so you can choose a preset before compressing.\n\nThe plug-in estimate is exact for the sample itself but \
 optimistic as a prediction when contexts are rare: the report shows how many distinct \
 contexts each order saw."
 )]
@@ -207,6 +223,16 @@ pub struct AnalyzeArgs {
     /// preset sizes are then scaled to the whole file.
     #[arg(long, value_name = "SIZE", default_value = "8M", value_parser = parse_size)]
     pub sample: u64,
+
+    /// General compressors to size beside the presets (default: all, each
+    /// at its default setting; 'all-levels'; 'none').
+    #[arg(
+        long,
+        value_name = "LIST",
+        value_parser = baseline::parse_list,
+        long_help = baseline::baselines_help()
+    )]
+    pub baselines: Option<BaselineList>,
 }
 
 /// `--block-size` long help, with the library's default and limits.

@@ -1,7 +1,9 @@
-//! The codecs `bench` and `analyze` measure: presets and the flate2 baseline.
+//! The codecs `bench` and `analyze` measure: presets and general compressors.
 //!
 //! A [`Codec`] compresses a whole buffer in memory and decompresses it again;
-//! `bench` times both directions and checks the round trip. A preset codec
+//! `bench` times both directions and checks the round trip. Presets are
+//! [`PresetCodec`]s; the general compressors are
+//! [`Baseline`](crate::baseline::Baseline)s. A preset codec
 //! writes a real container ([`subrange::compress`]), so its size is exactly
 //! what `subrange compress` writes with the same preset and block size.
 //!
@@ -12,13 +14,12 @@
 //! report then splits a preset's size into model quality (the ideal cost) and
 //! coding overhead (what the coder, tables, block frames and the header add).
 
-use std::io::{Read, Write};
-
 use subrange::format::{inspect, BlockKind};
 use subrange::preset::Preset;
 use subrange::stream::{decompress_with_options, DecodeOptions};
 use subrange::Options;
 
+use crate::baseline::Baseline;
 use crate::exit::{CliError, CliResult};
 
 /// What a codec is in a report.
@@ -26,7 +27,7 @@ use crate::exit::{CliError, CliResult};
 pub enum Kind {
     /// One of our presets.
     Preset,
-    /// The flate2 comparison.
+    /// A general compressor measured beside them.
     Baseline,
 }
 
@@ -36,6 +37,10 @@ pub trait Codec {
     fn name(&self) -> String;
     /// Preset or baseline.
     fn kind(&self) -> Kind;
+    /// Which general compressor and setting, for a baseline.
+    fn baseline(&self) -> Option<Baseline> {
+        None
+    }
     /// Compresses `data`.
     fn compress(&self, data: &[u8]) -> CliResult<Vec<u8>>;
     /// Decompresses what [`compress`](Codec::compress) returned for `raw_len` bytes.
@@ -130,56 +135,20 @@ impl Codec for PresetCodec {
     }
 }
 
-/// The flate2 baselines: levels 1, 6 and 9.
-pub fn baselines() -> Vec<Box<dyn Codec>> {
-    [1, 6, 9]
-        .into_iter()
-        .map(|level| Box::new(Flate { level }) as Box<dyn Codec>)
-        .collect()
-}
-
-/// flate2 (zlib format: deflate plus a 2-byte header and an Adler-32).
-struct Flate {
-    level: u32,
-}
-
-impl Codec for Flate {
-    fn name(&self) -> String {
-        format!("flate2-{}", self.level)
-    }
-    fn kind(&self) -> Kind {
-        Kind::Baseline
-    }
-    fn compress(&self, data: &[u8]) -> CliResult<Vec<u8>> {
-        let mut enc = flate2::write::ZlibEncoder::new(
-            Vec::with_capacity(data.len() / 2 + 64),
-            flate2::Compression::new(self.level),
-        );
-        enc.write_all(data)
-            .and_then(|()| enc.finish())
-            .map_err(|e| CliError::io(format!("{} failed", self.name()), e))
-    }
-    fn decompress(&self, packed: &[u8], raw_len: usize) -> CliResult<Vec<u8>> {
-        let mut out = Vec::with_capacity(raw_len);
-        flate2::read::ZlibDecoder::new(packed)
-            .read_to_end(&mut out)
-            .map_err(|e| CliError::io(format!("{} failed", self.name()), e))?;
-        Ok(out)
-    }
-    fn ideal_bits(&self, _data: &[u8], _packed: &[u8]) -> CliResult<Option<f64>> {
-        Ok(None)
-    }
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::baseline::Family;
 
     fn all_codecs(block: Option<u64>) -> Vec<Box<dyn Codec>> {
         let mut codecs: Vec<Box<dyn Codec>> = Preset::all()
             .map(|p| Box::new(PresetCodec::new(p, block, 1).unwrap()) as Box<dyn Codec>)
             .collect();
-        codecs.extend(baselines());
+        codecs.extend(
+            Family::built()
+                .flat_map(Family::baselines)
+                .map(|b| Box::new(b) as Box<dyn Codec>),
+        );
         codecs
     }
 

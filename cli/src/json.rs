@@ -7,8 +7,9 @@
 
 use std::fmt::Write as _;
 
-use crate::bench::BenchReport;
+use crate::bench::{BenchReport, Clock, Figures, Measurement};
 use crate::codec::Kind;
+use crate::summary::{Point, Summary};
 
 /// A JSON value.
 #[derive(Debug, Clone, PartialEq)]
@@ -133,75 +134,75 @@ pub fn escape_into(out: &mut String, s: &str) {
 
 /// The bench report as JSON.
 ///
-/// Shape: `{"tool", "version", "runs", "demo_corpus", "units", "inputs": [{"name",
-/// "size", "order0_entropy_bits_per_byte", "results": [{"codec", "kind",
-/// "compressed_size", "ratio", "bits_per_byte", "ideal_bytes",
-/// "overhead_percent", "encode_mb_per_s", "decode_mb_per_s",
-/// "encode_seconds", "decode_seconds"}]}], "summary": [{"input",
-/// "best_preset", "ratio", "flate2_9_ratio", "ratio_vs_flate2_9"}]}`.
-/// Missing figures (no ideal cost for a baseline, no ratio for an empty
-/// input) are `null`.
+/// Schema (every key always present; a figure that does not exist — no
+/// ideal cost for a baseline, no ratio for an empty input, any figure of a
+/// failed codec, no baseline in a summary — is `null`):
+///
+/// ```text
+/// { "tool": "subrange", "version": str, "runs": int, "clock": "wall" | "cpu",
+///   "demo_corpus": bool, "units": { "size", "ratio", "speed", "ideal_bytes": str },
+///   "presets": [codec name, ...], "baselines": [codec name, ...],
+///   "inputs": [ { "name": str, "size": int, "order0_entropy_bits_per_byte": num,
+///       "results": [ RESULT, ... ],          // measurement order: presets, then baselines
+///       "summary": SUMMARY } ],
+///   "overall": { "codecs": [ TOTAL, ... ],   // codecs that succeeded on every input
+///       "left_out": [codec name, ...],       // codecs that failed on some input
+///       "summary": SUMMARY } }               // over the totals
+/// RESULT  = { "codec": str, "kind": "preset" | "baseline",
+///             "family": str | null, "level": "fast" | "default" | "strongest" | null,
+///             "ok": bool, "error": str | null,
+///             "compressed_size": int | null, "ratio", "bits_per_byte", "ideal_bytes",
+///             "overhead_percent", "encode_mb_per_s", "decode_mb_per_s",
+///             "encode_seconds", "decode_seconds": num | null }
+/// TOTAL   = { "codec", "kind", "input_size": int, "compressed_size": int, "ratio",
+///             "bits_per_byte", "encode_mb_per_s", "decode_mb_per_s",
+///             "encode_seconds", "decode_seconds" }
+/// SUMMARY = { "smallest", "fastest_encode", "fastest_decode",
+///             "best_preset", "best_baseline": codec name | null,
+///             "best_preset_size", "best_baseline_size": int | null,
+///             "best_preset_vs_best_baseline_size": num | null,   // preset / baseline
+///             "nearest": [ { "preset", "baseline": codec name,
+///                 "preset_size", "baseline_size": int,
+///                 "size_ratio",                                 // preset / baseline
+///                 "encode_speed_ratio", "decode_speed_ratio": num | null } ] }
+/// ```
 pub fn bench(report: &BenchReport) -> String {
     let inputs = report
         .files
         .iter()
         .map(|f| {
-            let results = f
-                .results
-                .iter()
-                .map(|m| {
-                    Value::obj([
-                        ("codec", Value::str(&m.codec)),
-                        (
-                            "kind",
-                            Value::str(match m.kind {
-                                Kind::Preset => "preset",
-                                Kind::Baseline => "baseline",
-                            }),
-                        ),
-                        ("compressed_size", Value::Int(m.compressed)),
-                        ("ratio", Value::opt(m.ratio(f.size))),
-                        ("bits_per_byte", Value::opt(m.bits_per_byte(f.size))),
-                        ("ideal_bytes", Value::opt(m.ideal_bytes())),
-                        ("overhead_percent", Value::opt(m.overhead_pct())),
-                        ("encode_mb_per_s", Value::opt(m.encode_mb_s(f.size))),
-                        ("decode_mb_per_s", Value::opt(m.decode_mb_s(f.size))),
-                        ("encode_seconds", Value::Num(m.encode_secs)),
-                        ("decode_seconds", Value::Num(m.decode_secs)),
-                    ])
-                })
-                .collect();
+            let results = f.results.iter().map(|m| result(m, f.size)).collect();
             Value::obj([
                 ("name", Value::str(&f.name)),
                 ("size", Value::Int(f.size)),
                 ("order0_entropy_bits_per_byte", Value::Num(f.entropy0)),
                 ("results", Value::Arr(results)),
+                ("summary", summary(&Summary::of_input(f))),
             ])
         })
         .collect();
-    let summary = report
-        .files
-        .iter()
-        .filter_map(|f| {
-            let best = f.best_preset()?;
-            let base = f.get("flate2-9").and_then(|b| b.ratio(f.size));
-            let r = best.ratio(f.size);
-            Some(Value::obj([
-                ("input", Value::str(&f.name)),
-                ("best_preset", Value::str(&best.codec)),
-                ("ratio", Value::opt(r)),
-                ("flate2_9_ratio", Value::opt(base)),
-                (
-                    "ratio_vs_flate2_9",
-                    Value::opt(r.zip(base).map(|(x, y)| x / y)),
-                ),
-            ]))
-        })
-        .collect();
+    let (overall, left_out) = Summary::overall(report);
+    let names = |kind: Kind| {
+        let list = report.files.first().map_or(Vec::new(), |f| {
+            f.results
+                .iter()
+                .filter(|m| m.kind == kind)
+                .map(|m| Value::str(&m.codec))
+                .collect()
+        });
+        Value::Arr(list)
+    };
     Value::obj([
         ("tool", Value::str("subrange")),
         ("version", Value::str(env!("CARGO_PKG_VERSION"))),
         ("runs", Value::Int(u64::from(report.runs))),
+        (
+            "clock",
+            Value::str(match report.clock {
+                Clock::Wall => "wall",
+                Clock::Cpu => "cpu",
+            }),
+        ),
         ("demo_corpus", Value::Bool(report.demo_corpus)),
         (
             "units",
@@ -211,10 +212,10 @@ pub fn bench(report: &BenchReport) -> String {
                 (
                     "speed",
                     Value::str(match report.clock {
-                        crate::bench::Clock::Wall => {
+                        Clock::Wall => {
                             "1e6 bytes of uncompressed data per second, best run, one thread"
                         }
-                        crate::bench::Clock::Cpu => {
+                        Clock::Cpu => {
                             "1e6 bytes of uncompressed data per second of the measuring \
                              thread's CPU time, best run, one thread"
                         }
@@ -226,10 +227,121 @@ pub fn bench(report: &BenchReport) -> String {
                 ),
             ]),
         ),
+        ("presets", names(Kind::Preset)),
+        ("baselines", names(Kind::Baseline)),
         ("inputs", Value::Arr(inputs)),
-        ("summary", Value::Arr(summary)),
+        (
+            "overall",
+            Value::obj([
+                (
+                    "codecs",
+                    Value::Arr(overall.points.iter().map(total).collect()),
+                ),
+                (
+                    "left_out",
+                    Value::Arr(left_out.iter().map(Value::str).collect()),
+                ),
+                ("summary", summary(&overall)),
+            ]),
+        ),
     ])
     .to_text()
+}
+
+fn kind_name(kind: Kind) -> Value {
+    Value::str(match kind {
+        Kind::Preset => "preset",
+        Kind::Baseline => "baseline",
+    })
+}
+
+fn result(m: &Measurement, size: u64) -> Value {
+    let x = m.outcome.as_ref().ok();
+    let num = |f: &dyn Fn(&Figures) -> Option<f64>| Value::opt(x.and_then(f));
+    Value::obj([
+        ("codec", Value::str(&m.codec)),
+        ("kind", kind_name(m.kind)),
+        (
+            "family",
+            m.baseline
+                .map_or(Value::Null, |b| Value::str(b.family().name())),
+        ),
+        (
+            "level",
+            m.baseline
+                .map_or(Value::Null, |b| Value::str(b.level().name())),
+        ),
+        ("ok", Value::Bool(x.is_some())),
+        (
+            "error",
+            m.outcome.as_ref().err().map_or(Value::Null, Value::str),
+        ),
+        (
+            "compressed_size",
+            x.map_or(Value::Null, |x| Value::Int(x.compressed)),
+        ),
+        ("ratio", num(&|x| x.ratio(size))),
+        ("bits_per_byte", num(&|x| x.bits_per_byte(size))),
+        ("ideal_bytes", num(&|x| x.ideal_bytes())),
+        ("overhead_percent", num(&|x| x.overhead_pct())),
+        ("encode_mb_per_s", num(&|x| x.encode_mb_s(size))),
+        ("decode_mb_per_s", num(&|x| x.decode_mb_s(size))),
+        ("encode_seconds", num(&|x| Some(x.encode_secs))),
+        ("decode_seconds", num(&|x| Some(x.decode_secs))),
+    ])
+}
+
+fn total(p: &Point) -> Value {
+    Value::obj([
+        ("codec", Value::str(&p.codec)),
+        ("kind", kind_name(p.kind)),
+        ("input_size", Value::Int(p.raw)),
+        ("compressed_size", Value::Int(p.compressed)),
+        ("ratio", Value::opt(p.ratio())),
+        ("bits_per_byte", Value::opt(p.bits_per_byte())),
+        ("encode_mb_per_s", Value::opt(p.encode_mb_s())),
+        ("decode_mb_per_s", Value::opt(p.decode_mb_s())),
+        ("encode_seconds", Value::Num(p.encode_secs)),
+        ("decode_seconds", Value::Num(p.decode_secs)),
+    ])
+}
+
+fn summary(s: &Summary) -> Value {
+    let name = |i: Option<usize>| s.point(i).map_or(Value::Null, |p| Value::str(&p.codec));
+    let size = |i: Option<usize>| {
+        s.point(i)
+            .map_or(Value::Null, |p| Value::Int(p.compressed))
+    };
+    let nearest = s
+        .nearest
+        .iter()
+        .map(|n| {
+            let (p, b) = (&s.points[n.preset], &s.points[n.baseline]);
+            Value::obj([
+                ("preset", Value::str(&p.codec)),
+                ("baseline", Value::str(&b.codec)),
+                ("preset_size", Value::Int(p.compressed)),
+                ("baseline_size", Value::Int(b.compressed)),
+                ("size_ratio", Value::opt(n.size_ratio(s))),
+                ("encode_speed_ratio", Value::opt(n.encode_ratio(s))),
+                ("decode_speed_ratio", Value::opt(n.decode_ratio(s))),
+            ])
+        })
+        .collect();
+    Value::obj([
+        ("smallest", name(s.smallest)),
+        ("fastest_encode", name(s.fastest_encode)),
+        ("fastest_decode", name(s.fastest_decode)),
+        ("best_preset", name(s.best_preset)),
+        ("best_baseline", name(s.best_baseline)),
+        ("best_preset_size", size(s.best_preset)),
+        ("best_baseline_size", size(s.best_baseline)),
+        (
+            "best_preset_vs_best_baseline_size",
+            Value::opt(s.best_preset_vs_best_baseline()),
+        ),
+        ("nearest", Value::Arr(nearest)),
+    ])
 }
 
 #[cfg(test)]

@@ -7,6 +7,7 @@
 //! backtrace dump ever reaches a user.
 
 mod analyze;
+mod baseline;
 mod bench;
 mod cli;
 mod codec;
@@ -20,6 +21,7 @@ mod plot;
 mod presets;
 mod progress;
 mod report;
+mod summary;
 
 use std::io::{self, Write};
 

@@ -1,183 +1,208 @@
-//! `bench --plot`: an SVG scatter of compression ratio against encode speed.
+//! `bench --plot`: the ratio–speed chart, as SVG.
 //!
-//! One large labelled point per codec for all inputs together (total input
-//! over total output, total input over total encode time), and a small point
-//! of the same colour per input, so both the overall trade-off and its spread
-//! across data kinds show. Speed is on a logarithmic axis: presets and
-//! baselines differ by orders of magnitude. The SVG is rendered into memory
-//! and written by the caller through the safe-output path.
+//! Two panels side by side: compressed bits per byte against encode speed,
+//! and against decode speed. Speed is on a logarithmic axis (presets and
+//! baselines differ by orders of magnitude); smaller and further right is
+//! better, so the Pareto front is the lower-right edge of the cloud. Each
+//! codec has one large labelled point for all inputs together (total output
+//! bits over total input, total input over total time; from
+//! [`Summary::overall`], so only codecs that succeeded on every input) and a
+//! small point of the same colour per input, so both the overall trade-off
+//! and its spread across data kinds show. Presets are circles, baselines
+//! triangles coloured by compressor. The SVG is rendered into memory and
+//! written by the caller through the safe-output path.
 
+use plotters::coord::Shift;
 use plotters::prelude::*;
 
 use crate::bench::BenchReport;
 use crate::codec::Kind;
 use crate::exit::{CliError, CliResult};
-use crate::report;
+use crate::summary::{Point, Summary};
 
-/// A codec's overall figures: name, kind, ratio, encode MB/s.
-type Overall = (String, Kind, f64, f64);
-
-fn overall(report: &BenchReport) -> Vec<Overall> {
-    report::totals(report)
-        .into_iter()
-        .filter_map(|(name, kind, raw, packed)| {
-            let secs: f64 = report
-                .files
-                .iter()
-                .filter_map(|f| f.get(&name))
-                .map(|m| m.encode_secs)
-                .sum();
-            (raw > 0 && packed > 0 && secs > 0.0).then(|| {
-                (
-                    name,
-                    kind,
-                    raw as f64 / packed as f64,
-                    raw as f64 / 1e6 / secs,
-                )
-            })
-        })
-        .collect()
+/// Which speed a panel plots.
+#[derive(Clone, Copy)]
+enum Direction {
+    Encode,
+    Decode,
 }
 
-/// Renders the plot as SVG text.
+impl Direction {
+    fn speed(self, p: &Point) -> Option<f64> {
+        match self {
+            Direction::Encode => p.encode_mb_s(),
+            Direction::Decode => p.decode_mb_s(),
+        }
+    }
+
+    fn axis(self) -> &'static str {
+        match self {
+            Direction::Encode => "encode speed, MB/s (log scale)",
+            Direction::Decode => "decode speed, MB/s (log scale)",
+        }
+    }
+}
+
+/// Renders the chart as SVG text.
 ///
 /// # Errors
 ///
-/// A failure when there is nothing to plot (empty inputs only) or drawing
-/// fails.
+/// A failure when there is nothing to plot (empty inputs only, or every
+/// codec failed) or drawing fails.
 pub fn render(report: &BenchReport) -> CliResult<String> {
-    let points = overall(report);
-    let per_input: Vec<(String, f64, f64)> = report
+    let overall = Summary::overall(report).0.points;
+    let per_input: Vec<Point> = report
         .files
         .iter()
-        .flat_map(|f| {
-            f.results.iter().filter_map(move |m| {
-                Some((m.codec.clone(), m.ratio(f.size)?, m.encode_mb_s(f.size)?))
-            })
-        })
+        .flat_map(|f| Summary::of_input(f).points)
         .collect();
-    if points.is_empty() {
+    let plotted = |p: &&Point| {
+        p.bits_per_byte().is_some() && p.encode_mb_s().is_some() && p.decode_mb_s().is_some()
+    };
+    let overall: Vec<Point> = overall.iter().filter(plotted).cloned().collect();
+    let per_input: Vec<Point> = per_input.iter().filter(plotted).cloned().collect();
+    if overall.is_empty() && per_input.is_empty() {
         return Err(CliError::failure(
-            "cannot plot: no input had any bytes to measure",
+            "cannot plot: no codec measured any input that had bytes",
         ));
     }
-    let speeds = points
-        .iter()
-        .map(|p| p.3)
-        .chain(per_input.iter().map(|p| p.2));
-    let (lo, hi) = speeds.fold((f64::INFINITY, 0.0f64), |(lo, hi), s| {
-        (lo.min(s), hi.max(s))
-    });
-    let ratios = points
-        .iter()
-        .map(|p| p.2)
-        .chain(per_input.iter().map(|p| p.1));
-    let top = ratios.fold(1.0f64, f64::max) * 1.12;
-    let x_range = (lo / 2.0).max(1e-3)..(hi * 2.0);
-
     let mut svg = String::new();
-    draw(&mut svg, &points, &per_input, x_range, top, report)
+    draw(&mut svg, &overall, &per_input, report)
         .map_err(|e| CliError::failure(format!("cannot draw the plot: {e}")))?;
     Ok(svg)
 }
 
-fn colour(i: usize, kind: Kind) -> RGBColor {
-    const PRESETS: [RGBColor; 6] = [
-        RGBColor(0x1f, 0x77, 0xb4),
-        RGBColor(0xd6, 0x27, 0x28),
-        RGBColor(0x2c, 0xa0, 0x2c),
-        RGBColor(0x94, 0x67, 0xbd),
-        RGBColor(0xff, 0x7f, 0x0e),
-        RGBColor(0x17, 0xbe, 0xcf),
-    ];
-    const BASELINES: [RGBColor; 3] = [
-        RGBColor(0x99, 0x99, 0x99),
-        RGBColor(0x66, 0x66, 0x66),
-        RGBColor(0x22, 0x22, 0x22),
-    ];
-    match kind {
-        Kind::Preset => PRESETS[i % PRESETS.len()],
-        Kind::Baseline => BASELINES[i % BASELINES.len()],
+const PRESETS: [RGBColor; 6] = [
+    RGBColor(0x1f, 0x77, 0xb4),
+    RGBColor(0xd6, 0x27, 0x28),
+    RGBColor(0x2c, 0xa0, 0x2c),
+    RGBColor(0x94, 0x67, 0xbd),
+    RGBColor(0xff, 0x7f, 0x0e),
+    RGBColor(0x17, 0xbe, 0xcf),
+];
+
+const BASELINES: [RGBColor; 6] = [
+    RGBColor(0x55, 0x55, 0x55),
+    RGBColor(0x8c, 0x56, 0x4b),
+    RGBColor(0x7f, 0x7f, 0x00),
+    RGBColor(0xbc, 0x80, 0xbd),
+    RGBColor(0x00, 0x80, 0x80),
+    RGBColor(0xaa, 0xaa, 0xaa),
+];
+
+/// Each codec's colour: presets in turn, baselines by compressor family
+/// (the name up to its last `-`).
+fn colours(points: &[Point]) -> Vec<(String, Kind, RGBColor)> {
+    let mut out: Vec<(String, Kind, RGBColor)> = Vec::new();
+    let mut families: Vec<String> = Vec::new();
+    for p in points {
+        if out.iter().any(|(n, _, _)| *n == p.codec) {
+            continue;
+        }
+        let c = match p.kind {
+            Kind::Preset => PRESETS[out.iter().filter(|o| o.1 == Kind::Preset).count() % 6],
+            Kind::Baseline => {
+                let family = p.codec.rsplit_once('-').map_or(&p.codec[..], |(f, _)| f);
+                let i = match families.iter().position(|f| f == family) {
+                    Some(i) => i,
+                    None => {
+                        families.push(family.to_string());
+                        families.len() - 1
+                    }
+                };
+                BASELINES[i % BASELINES.len()]
+            }
+        };
+        out.push((p.codec.clone(), p.kind, c));
     }
+    out
 }
 
 fn draw(
     svg: &mut String,
-    points: &[Overall],
-    per_input: &[(String, f64, f64)],
-    x_range: std::ops::Range<f64>,
-    top: f64,
+    overall: &[Point],
+    per_input: &[Point],
     report: &BenchReport,
 ) -> Result<(), Box<dyn std::error::Error>> {
-    let root = SVGBackend::with_string(svg, (900, 600)).into_drawing_area();
+    let root = SVGBackend::with_string(svg, (1400, 640)).into_drawing_area();
     root.fill(&WHITE)?;
     let caption = if report.demo_corpus {
-        "subrange bench: ratio against encode speed (demo corpus)".to_string()
+        "subrange bench: bits per byte against speed (demo corpus)".to_string()
     } else {
         format!(
-            "subrange bench: ratio against encode speed ({} input(s))",
+            "subrange bench: bits per byte against speed ({} input(s))",
             report.files.len()
         )
     };
-    let mut chart = ChartBuilder::on(&root)
-        .caption(caption, ("sans-serif", 20))
-        .margin(16)
+    let root = root.titled(&caption, ("sans-serif", 22))?;
+    let panels = root.split_evenly((1, 2));
+    let all: Vec<Point> = overall.iter().chain(per_input).cloned().collect();
+    let palette = colours(&all);
+    for (area, dir) in panels.iter().zip([Direction::Encode, Direction::Decode]) {
+        panel(area, dir, overall, per_input, &palette)?;
+    }
+    root.present()?;
+    Ok(())
+}
+
+fn panel(
+    area: &DrawingArea<SVGBackend<'_>, Shift>,
+    dir: Direction,
+    overall: &[Point],
+    per_input: &[Point],
+    palette: &[(String, Kind, RGBColor)],
+) -> Result<(), Box<dyn std::error::Error>> {
+    let xs = overall.iter().chain(per_input).filter_map(|p| dir.speed(p));
+    let (lo, hi) = xs.fold((f64::INFINITY, 0.0f64), |(lo, hi), s| {
+        (lo.min(s), hi.max(s))
+    });
+    let top = overall
+        .iter()
+        .chain(per_input)
+        .filter_map(Point::bits_per_byte)
+        .fold(1.0f64, f64::max)
+        * 1.1;
+    let x_range = (lo / 2.0).max(1e-4)..(hi * 2.0).max(lo * 4.0);
+    let mut chart = ChartBuilder::on(area)
+        .margin(14)
         .x_label_area_size(44)
-        .y_label_area_size(56)
+        .y_label_area_size(52)
         .build_cartesian_2d(x_range.log_scale(), 0.0..top)?;
     chart
         .configure_mesh()
-        .x_desc("encode speed, MB/s (log scale); large points: all inputs, small: each input")
-        .y_desc("ratio (original / compressed)")
+        .x_desc(dir.axis())
+        .y_desc("compressed bits per byte")
         .draw()?;
-
-    let mut preset_i = 0;
-    let mut base_i = 0;
-    for (name, kind, ratio, speed) in points {
-        let c = match kind {
+    for (name, kind, c) in palette {
+        let c = *c;
+        let small = per_input
+            .iter()
+            .filter(|p| &p.codec == name)
+            .filter_map(|p| Some((dir.speed(p)?, p.bits_per_byte()?)));
+        let big = overall
+            .iter()
+            .filter(|p| &p.codec == name)
+            .filter_map(|p| Some((dir.speed(p)?, p.bits_per_byte()?)));
+        match kind {
             Kind::Preset => {
-                preset_i += 1;
-                colour(preset_i - 1, *kind)
+                chart.draw_series(small.map(|xy| Circle::new(xy, 3, c.mix(0.45).filled())))?;
+                chart.draw_series(big.clone().map(|xy| Circle::new(xy, 7, c.filled())))?;
             }
             Kind::Baseline => {
-                base_i += 1;
-                colour(base_i - 1, *kind)
+                chart.draw_series(
+                    small.map(|xy| TriangleMarker::new(xy, 4, c.mix(0.45).filled())),
+                )?;
+                chart.draw_series(big.clone().map(|xy| TriangleMarker::new(xy, 8, c.filled())))?;
             }
-        };
-        let small: Vec<(f64, f64)> = per_input
-            .iter()
-            .filter(|p| &p.0 == name)
-            .map(|p| (p.2, p.1))
-            .collect();
-        chart.draw_series(
-            small
-                .iter()
-                .map(|&(x, y)| Circle::new((x, y), 3, c.mix(0.45).filled())),
-        )?;
-        let label = name.clone();
-        chart
-            .draw_series(std::iter::once(Circle::new(
-                (*speed, *ratio),
-                7,
-                c.filled(),
-            )))?
-            .label(label)
-            .legend(move |(x, y)| Circle::new((x + 8, y), 5, c.filled()));
-        chart.draw_series(std::iter::once(
-            EmptyElement::at((*speed, *ratio))
+        }
+        chart.draw_series(big.map(|xy| {
+            EmptyElement::at(xy)
                 + Text::new(
                     name.clone(),
-                    (10, -18),
-                    ("sans-serif", 14).into_font().color(&c),
-                ),
-        ))?;
+                    (9, -16),
+                    ("sans-serif", 13).into_font().color(&c),
+                )
+        }))?;
     }
-    chart
-        .configure_series_labels()
-        .background_style(WHITE.mix(0.85))
-        .border_style(BLACK)
-        .position(SeriesLabelPosition::UpperRight)
-        .draw()?;
-    root.present()?;
     Ok(())
 }

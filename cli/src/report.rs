@@ -1,9 +1,17 @@
 //! Text reports: aligned tables for people.
+//!
+//! `bench` prints one table per input, smallest output first (failed codecs
+//! last, with their reason), with the smallest, the fastest encoder and the
+//! fastest decoder marked; then the summaries of [`crate::summary`]: the
+//! smallest preset against the smallest baseline, and each preset's speed
+//! against the baseline nearest to it in size, per input and over all
+//! inputs.
 
 use std::fmt::Write as _;
 
 use crate::bench::{BenchReport, FileReport, Measurement};
 use crate::codec::Kind;
+use crate::summary::{Point, Summary};
 
 /// `1234567` as `1,234,567`.
 pub fn thousands(n: u64) -> String {
@@ -81,27 +89,41 @@ pub fn table_aligned(rows: &[Vec<String>], left: &[bool]) -> String {
     out
 }
 
-fn row(m: &Measurement, size: u64) -> Vec<String> {
+/// One row of an input's table: figures and notes, or the failure.
+fn row(m: &Measurement, size: u64, notes: &[&str]) -> Vec<String> {
+    let x = match &m.outcome {
+        Ok(x) => x,
+        Err(why) => {
+            let mut cells = vec![m.codec.clone()];
+            cells.extend(std::iter::repeat_n("-".to_string(), 7));
+            cells.push(format!("FAILED: {why}"));
+            return cells;
+        }
+    };
     let (ideal, overhead) = match m.kind {
         Kind::Preset => (
-            m.ideal_bytes()
+            x.ideal_bytes()
                 .map_or("-".to_string(), |b| thousands(b.round() as u64)),
-            m.overhead_pct()
+            x.overhead_pct()
                 .map_or("-".to_string(), |p| format!("{p:.2}%")),
         ),
         Kind::Baseline => ("-".to_string(), "-".to_string()),
     };
     vec![
         m.codec.clone(),
-        thousands(m.compressed),
-        fixed(m.ratio(size), 3),
-        fixed(m.bits_per_byte(size), 3),
+        thousands(x.compressed),
+        fixed(x.ratio(size), 3),
+        fixed(x.bits_per_byte(size), 3),
         ideal,
         overhead,
-        speed(m.encode_mb_s(size)),
-        speed(m.decode_mb_s(size)),
+        speed(x.encode_mb_s(size)),
+        speed(x.decode_mb_s(size)),
+        notes.join(", "),
     ]
 }
+
+/// Column alignment of the per-input table: names and notes flush left.
+const INPUT_COLUMNS: [bool; 9] = [true, false, false, false, false, false, false, false, true];
 
 fn file_section(out: &mut String, f: &FileReport) {
     let _ = writeln!(
@@ -112,38 +134,135 @@ fn file_section(out: &mut String, f: &FileReport) {
         f.entropy0,
         thousands((f.entropy0 * f.size as f64 / 8.0).round() as u64)
     );
+    let summary = Summary::of_input(f);
+    let named = |i: Option<usize>| summary.point(i).map(|p| p.codec.as_str());
+    let marks = [
+        (named(summary.smallest), "smallest"),
+        (named(summary.fastest_encode), "fastest encode"),
+        (named(summary.fastest_decode), "fastest decode"),
+    ];
     let mut rows = vec![[
-        "codec", "size", "ratio", "bits/B", "ideal", "overhead", "enc MB/s", "dec MB/s",
+        "codec", "size", "ratio", "bits/B", "ideal", "overhead", "enc MB/s", "dec MB/s", "",
     ]
     .iter()
     .map(|s| s.to_string())
     .collect::<Vec<_>>()];
-    rows.extend(f.results.iter().map(|m| row(m, f.size)));
-    for line in table(&rows).lines() {
+    // Smallest first; failures last, in measurement order.
+    let mut order: Vec<&Measurement> = f.results.iter().collect();
+    order.sort_by_key(|m| match &m.outcome {
+        Ok(x) => (0, x.compressed),
+        Err(_) => (1, 0),
+    });
+    for m in order {
+        let notes: Vec<&str> = marks
+            .iter()
+            .filter(|(who, _)| *who == Some(m.codec.as_str()))
+            .map(|(_, note)| *note)
+            .collect();
+        rows.push(row(m, f.size, &notes));
+    }
+    for line in table_aligned(&rows, &INPUT_COLUMNS).lines() {
         let _ = writeln!(out, "  {line}");
     }
     out.push('\n');
 }
 
-/// Per codec: the sizes summed over all inputs.
-pub fn totals(report: &BenchReport) -> Vec<(String, Kind, u64, u64)> {
-    let mut out: Vec<(String, Kind, u64, u64)> = Vec::new();
-    for f in &report.files {
-        for m in &f.results {
-            match out.iter_mut().find(|t| t.0 == m.codec) {
-                Some(t) => {
-                    t.2 += f.size;
-                    t.3 += m.compressed;
-                }
-                None => out.push((m.codec.clone(), m.kind, f.size, m.compressed)),
-            }
-        }
-    }
-    out
+/// A size with its bits per byte: `98,123 (0.749)`.
+fn size_cell(p: &Point) -> String {
+    format!(
+        "{} ({})",
+        thousands(p.compressed),
+        fixed(p.bits_per_byte(), 3)
+    )
 }
 
-fn ratio(raw: u64, packed: u64) -> Option<f64> {
-    (raw > 0 && packed > 0).then(|| raw as f64 / packed as f64)
+/// A ratio of two figures as `0.82x`, or `-`.
+fn times(v: Option<f64>) -> String {
+    match v {
+        Some(x) if x.is_finite() => format!("{x:.2}x"),
+        _ => "-".to_string(),
+    }
+}
+
+/// The summaries to print: one per input, then all inputs together.
+fn summaries(report: &BenchReport) -> (Vec<(String, Summary)>, Vec<String>) {
+    let mut list: Vec<(String, Summary)> = report
+        .files
+        .iter()
+        .map(|f| (f.name.clone(), Summary::of_input(f)))
+        .collect();
+    let mut left_out = Vec::new();
+    if report.files.len() > 1 {
+        let (all, out) = Summary::overall(report);
+        list.push(("all inputs".to_string(), all));
+        left_out = out;
+    }
+    (list, left_out)
+}
+
+fn size_summary(out: &mut String, list: &[(String, Summary)]) {
+    out.push_str("Summary: the smallest preset against the smallest baseline\n");
+    let mut rows = vec![vec![
+        "input".to_string(),
+        "preset".to_string(),
+        "size (bits/B)".to_string(),
+        "baseline".to_string(),
+        "size (bits/B)".to_string(),
+        "preset/baseline".to_string(),
+        "smallest".to_string(),
+    ]];
+    for (name, s) in list {
+        let p = s.point(s.best_preset);
+        let b = s.point(s.best_baseline);
+        rows.push(vec![
+            name.clone(),
+            p.map_or("-".into(), |p| p.codec.clone()),
+            p.map_or("-".into(), size_cell),
+            b.map_or("-".into(), |b| b.codec.clone()),
+            b.map_or("-".into(), size_cell),
+            times(s.best_preset_vs_best_baseline()),
+            s.point(s.smallest).map_or("-".into(), |p| p.codec.clone()),
+        ]);
+    }
+    let align = [true, true, false, true, false, false, true];
+    for line in table_aligned(&rows, &align).lines() {
+        let _ = writeln!(out, "  {line}");
+    }
+    out.push('\n');
+}
+
+fn speed_summary(out: &mut String, list: &[(String, Summary)]) {
+    out.push_str("Speed: each preset against the baseline nearest to it in size\n");
+    let mut rows = vec![vec![
+        "input".to_string(),
+        "preset".to_string(),
+        "size".to_string(),
+        "nearest baseline".to_string(),
+        "size".to_string(),
+        "size x".to_string(),
+        "enc x".to_string(),
+        "dec x".to_string(),
+    ]];
+    for (name, s) in list {
+        for n in &s.nearest {
+            let (p, b) = (&s.points[n.preset], &s.points[n.baseline]);
+            rows.push(vec![
+                name.clone(),
+                p.codec.clone(),
+                thousands(p.compressed),
+                b.codec.clone(),
+                thousands(b.compressed),
+                times(n.size_ratio(s)),
+                times(n.encode_ratio(s)),
+                times(n.decode_ratio(s)),
+            ]);
+        }
+    }
+    let align = [true, true, false, true, false, false, false, false];
+    for line in table_aligned(&rows, &align).lines() {
+        let _ = writeln!(out, "  {line}");
+    }
+    out.push('\n');
 }
 
 /// The bench report as text.
@@ -157,61 +276,26 @@ pub fn bench(report: &BenchReport) -> String {
     for f in &report.files {
         file_section(&mut out, f);
     }
-    out.push_str("Summary: best preset per input, against flate2 level 9 in the same run\n");
-    let mut rows = Vec::new();
-    for f in &report.files {
-        let Some(best) = f.best_preset() else {
-            continue;
-        };
-        let base = f.get("flate2-9");
-        let (b_ratio, against) = match base {
-            Some(b) => (
-                fixed(b.ratio(f.size), 3),
-                match (best.ratio(f.size), b.ratio(f.size)) {
-                    (Some(x), Some(y)) => format!("{:.2}x flate2-9's ratio", x / y),
-                    _ => "-".to_string(),
-                },
-            ),
-            None => ("-".to_string(), "-".to_string()),
-        };
-        rows.push(vec![
-            f.name.clone(),
-            best.codec.clone(),
-            format!("ratio {}", fixed(best.ratio(f.size), 3)),
-            format!("flate2-9 {b_ratio}"),
-            against,
-        ]);
+    let (list, left_out) = summaries(report);
+    size_summary(&mut out, &list);
+    if list.iter().any(|(_, s)| !s.nearest.is_empty()) {
+        speed_summary(&mut out, &list);
     }
-    if report.files.len() > 1 {
-        let totals = totals(report);
-        let best = totals
-            .iter()
-            .filter(|t| t.1 == Kind::Preset)
-            .min_by_key(|t| t.3);
-        let base = totals.iter().find(|t| t.0 == "flate2-9");
-        if let (Some(b), Some(z)) = (best, base) {
-            let against = match (ratio(b.2, b.3), ratio(z.2, z.3)) {
-                (Some(x), Some(y)) => format!("{:.2}x flate2-9's ratio", x / y),
-                _ => "-".to_string(),
-            };
-            rows.push(vec![
-                "all inputs".to_string(),
-                b.0.clone(),
-                format!("ratio {}", fixed(ratio(b.2, b.3), 3)),
-                format!("flate2-9 {}", fixed(ratio(z.2, z.3), 3)),
-                against,
-            ]);
-        }
-    }
-    for line in table_with(&rows, 2).lines() {
-        let _ = writeln!(out, "  {line}");
+    if !left_out.is_empty() {
+        let _ = writeln!(
+            out,
+            "Left out of 'all inputs' (failed on an input): {}\n",
+            left_out.join(", ")
+        );
     }
     let _ = writeln!(
         out,
-        "\nratio = original / compressed; bits/B = compressed bits per original byte\n\
+        "ratio = original / compressed; bits/B = compressed bits per original byte\n\
 ideal = sum of -log2 p over the symbols the models coded (stored blocks: 8 bits a byte)\n\
 overhead = size above ideal: tables, headers, block frames, coder flushes\n\
-MB/s = 10^6 bytes of uncompressed data per {}, best of {} run(s), one thread",
+MB/s = 10^6 bytes of uncompressed data per {}, best of {} run(s), one thread\n\
+size x = preset size / baseline size (below 1: the preset is smaller);\n\
+enc x, dec x = preset speed / baseline speed (above 1: the preset is faster)",
         report.clock.describe(),
         report.runs
     );
