@@ -16,14 +16,14 @@
 
 use std::fmt::Write as _;
 
-use crate::cli::AnalyzeArgs;
 use crate::baseline::BaselineList;
+use crate::cli::AnalyzeArgs;
+use crate::codec::Kind;
 use crate::codec::{Codec, PresetCodec};
 use crate::entropy::{self, OrderEntropy};
 use crate::exit::CliResult;
 use crate::files::Input;
 use crate::presets::PresetName;
-use crate::codec::Kind;
 use crate::report::{fixed, table, table_aligned, thousands};
 
 /// Bytes compressed per preset for its size estimate: two default blocks.

@@ -280,7 +280,12 @@ fn parse_item(item: &str) -> Result<Vec<Baseline>, String> {
         (Some(f), Some("all-levels")) => f.baselines(),
         (Some(f), Some(l)) => match Level::ALL.iter().find(|x| x.name() == l) {
             Some(&lv) => vec![Baseline::new(f, lv)],
-            None => return Err(format!("unknown setting '{l}' of baseline '{name}'; {}", valid())),
+            None => {
+                return Err(format!(
+                    "unknown setting '{l}' of baseline '{name}'; {}",
+                    valid()
+                ))
+            }
         },
         (None, None) => {
             let exact = FAMILIES
@@ -394,9 +399,11 @@ mod more {
                     Setting::Number(n) => n as u32,
                     _ => unreachable!("matched above"),
                 };
-                let stream =
-                    liblzma::stream::Stream::new_easy_encoder(preset, liblzma::stream::Check::Crc64)
-                        .map_err(io::Error::from)?;
+                let stream = liblzma::stream::Stream::new_easy_encoder(
+                    preset,
+                    liblzma::stream::Check::Crc64,
+                )
+                .map_err(io::Error::from)?;
                 let mut enc = liblzma::write::XzEncoder::new_stream(buffer(guess)?, stream);
                 enc.write_all(data)?;
                 enc.finish()
@@ -425,7 +432,12 @@ mod more {
                     Setting::High(n) => lz4::block::CompressionMode::HIGHCOMPRESSION(n),
                     _ => lz4::block::CompressionMode::DEFAULT,
                 };
-                lz4::block::compress(data, Some(mode), false)
+                // lz4's optimal parser (level 12) reads the first bytes at
+                // the source pointer even for an empty source, and an empty
+                // Rust slice points nowhere: give it a real, empty buffer.
+                let pad = [0u8; 16];
+                let src = if data.is_empty() { &pad[..0] } else { data };
+                lz4::block::compress(src, Some(mode), false)
             }
             (family, setting) => Err(io::Error::other(format!(
                 "{} has no setting {setting:?}",
@@ -496,11 +508,19 @@ mod tests {
     }
 
     #[test]
-    fn strongest_is_no_larger_than_fast_on_telemetry() {
+    fn settings_reach_the_library() {
         let data = subrange::corpus::gauge_csv(4, 200_000);
         for f in Family::built() {
             let size = |l| Baseline::new(f, l).compress(&data).unwrap().len();
-            assert!(size(Level::Strongest) <= size(Level::Fast), "{}", f.name());
+            let (fast, strongest) = (size(Level::Fast), size(Level::Strongest));
+            // Different output, and the strongest setting not meaningfully
+            // larger (bzip2's 900k blocks cost it 1% here against 100k ones).
+            assert_ne!(fast, strongest, "{}", f.name());
+            assert!(
+                strongest * 100 <= fast * 102,
+                "{}: {strongest} > {fast}",
+                f.name()
+            );
         }
     }
 

@@ -467,11 +467,26 @@ mod tests {
         assert!(r[0].outcome.is_ok() && r[5].outcome.is_ok());
         assert_eq!(r[5].codec, "flate2-6");
         let why = |i: usize| r[i].outcome.clone().unwrap_err();
-        assert!(why(1).starts_with("compress: ") && why(1).contains("1 TiB"), "{}", why(1));
-        assert!(why(2).starts_with("decompress: corrupt stream"), "{}", why(2));
-        assert!(why(3).contains("differs from the input at byte 7"), "{}", why(3));
+        assert!(
+            why(1).starts_with("compress: ") && why(1).contains("1 TiB"),
+            "{}",
+            why(1)
+        );
+        assert!(
+            why(2).starts_with("decompress: corrupt stream"),
+            "{}",
+            why(2)
+        );
+        assert!(
+            why(3).contains("differs from the input at byte 7"),
+            "{}",
+            why(3)
+        );
         let short = why(4);
-        assert!(short.contains(&format!("at byte {}", data.len() - 1)), "{short}");
+        assert!(
+            short.contains(&format!("at byte {}", data.len() - 1)),
+            "{short}"
+        );
         assert!(short.contains(&format!("decoded {} of {}", data.len() - 1, data.len())));
 
         let report = BenchReport {
@@ -484,10 +499,19 @@ mod tests {
         assert!(preset_failure(&report).is_none());
         // Every renderer shows the reasons and still reports the others.
         let text = report::bench(&report);
-        assert!(text.contains("1 TiB") && text.contains("corrupt stream"), "{text}");
-        assert!(text.contains("flate2-6") && text.contains("Summary"), "{text}");
+        assert!(
+            text.contains("1 TiB") && text.contains("corrupt stream"),
+            "{text}"
+        );
+        assert!(
+            text.contains("flate2-6") && text.contains("Summary"),
+            "{text}"
+        );
         let json = json::bench(&report);
-        assert!(json.contains("\"error\": \"decompress: corrupt stream\""), "{json}");
+        assert!(
+            json.contains("\"error\": \"decompress: corrupt stream\""),
+            "{json}"
+        );
         assert!(plot::render(&report).is_ok());
     }
 
@@ -512,7 +536,9 @@ mod tests {
         };
         let err = preset_failure(&report(&file)).unwrap();
         assert_eq!(err.code(), Code::Internal);
-        assert!(err.message().contains("static failed on in: decompress: bad"));
+        assert!(err
+            .message()
+            .contains("static failed on in: decompress: bad"));
         file.results[0].outcome = Ok(m(5, None));
         assert!(preset_failure(&report(&file)).is_none());
     }

@@ -308,10 +308,7 @@ fn total(p: &Point) -> Value {
 
 fn summary(s: &Summary) -> Value {
     let name = |i: Option<usize>| s.point(i).map_or(Value::Null, |p| Value::str(&p.codec));
-    let size = |i: Option<usize>| {
-        s.point(i)
-            .map_or(Value::Null, |p| Value::Int(p.compressed))
-    };
+    let size = |i: Option<usize>| s.point(i).map_or(Value::Null, |p| Value::Int(p.compressed));
     let nearest = s
         .nearest
         .iter()

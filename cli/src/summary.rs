@@ -104,8 +104,10 @@ impl Summary {
             .iter()
             .filter_map(|&p| {
                 let size = |i: usize| (points[i].compressed.max(1) as f64).ln();
-                min_by(&baselines, |b| (size(p) - size(b)).abs())
-                    .map(|b| Nearest { preset: p, baseline: b })
+                min_by(&baselines, |b| (size(p) - size(b)).abs()).map(|b| Nearest {
+                    preset: p,
+                    baseline: b,
+                })
             })
             .collect();
         Summary {
@@ -252,13 +254,27 @@ mod tests {
         assert_eq!(name(s.fastest_decode), Some("quick-base"));
         assert_eq!(name(s.best_preset), Some("strong-preset"));
         assert_eq!(name(s.best_baseline), Some("tight-base"));
-        assert_eq!(s.best_preset_vs_best_baseline(), Some(100_000.0 / 120_000.0));
+        assert_eq!(
+            s.best_preset_vs_best_baseline(),
+            Some(100_000.0 / 120_000.0)
+        );
         let pairs: Vec<(&str, &str)> = s
             .nearest
             .iter()
-            .map(|n| (s.points[n.preset].codec.as_str(), s.points[n.baseline].codec.as_str()))
+            .map(|n| {
+                (
+                    s.points[n.preset].codec.as_str(),
+                    s.points[n.baseline].codec.as_str(),
+                )
+            })
             .collect();
-        assert_eq!(pairs, [("fast-preset", "quick-base"), ("strong-preset", "tight-base")]);
+        assert_eq!(
+            pairs,
+            [
+                ("fast-preset", "quick-base"),
+                ("strong-preset", "tight-base")
+            ]
+        );
         let n = &s.nearest[1];
         assert_eq!(n.size_ratio(&s), Some(100_000.0 / 120_000.0));
         assert_eq!(n.encode_ratio(&s), Some(0.5));

@@ -58,6 +58,37 @@ fn uniform_over_16_symbols_is_4_bits_and_a_cycle_is_free_with_context() {
 }
 
 #[test]
+fn analyze_sizes_the_baselines_beside_the_presets() {
+    let dir = Scratch::new("analyze-baselines");
+    dir.write("levels.csv", &gauge_text(3000));
+    let out = run_in(dir.path(), &["analyze", "levels.csv"], None);
+    assert_eq!(code(&out), 0, "{}", stderr(&out));
+    let report = stdout(&out);
+    let mut want = vec!["flate2-6"];
+    if cfg!(feature = "baselines") {
+        want.extend(["zstd-3", "xz-6", "bzip2-9", "brotli-11", "lz4-1"]);
+    }
+    let rows: Vec<&str> = report
+        .lines()
+        .skip_while(|l| !l.starts_with("Preset estimates"))
+        .collect();
+    for name in &want {
+        let row = rows
+            .iter()
+            .find(|l| l.split_whitespace().next() == Some(name))
+            .unwrap_or_else(|| panic!("no {name} row in:\n{report}"));
+        assert!(row.trim_end().ends_with("baseline"), "{row}");
+    }
+    assert!(report.contains("smallest baseline: "), "{report}");
+    let out = run_in(
+        dir.path(),
+        &["analyze", "levels.csv", "--baselines", "none"],
+        None,
+    );
+    assert!(!stdout(&out).contains("flate2-6"), "{}", stdout(&out));
+}
+
+#[test]
 fn analyze_reads_standard_input_and_reports_a_sample() {
     let dir = Scratch::new("analyze-stdin");
     let data = gauge_text(2000);
