@@ -225,7 +225,19 @@ compressor at its fast, default and strongest settings), 'none', a compressor na
 a setting as reports name it (e.g. zstd-22). Compressors and their settings:",
     );
     for family in FAMILIES {
-        let names: Vec<String> = family.baselines().iter().map(|b| b.to_string()).collect();
+        let default = Baseline::new(family, Level::Default).to_string();
+        let names: Vec<String> = family
+            .baselines()
+            .iter()
+            .map(|b| b.to_string())
+            .map(|n| {
+                if n == default {
+                    format!("{n} (default)")
+                } else {
+                    n
+                }
+            })
+            .collect();
         s.push_str(&format!("\n  {:<7} {}", family.name(), names.join(", ")));
         if !family.is_built() {
             s.push_str(" (not built: the 'baselines' feature is off)");
@@ -562,5 +574,6 @@ mod tests {
         for f in FAMILIES {
             assert!(help.contains(f.name()), "{help}");
         }
+        assert!(help.contains("xz-6 (default), xz-9e"), "{help}");
     }
 }

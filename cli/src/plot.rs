@@ -126,14 +126,15 @@ fn draw(
 ) -> Result<(), Box<dyn std::error::Error>> {
     let root = SVGBackend::with_string(svg, (1400, 640)).into_drawing_area();
     root.fill(&WHITE)?;
-    let caption = if report.demo_corpus {
-        "subrange bench: bits per byte against speed (demo corpus)".to_string()
+    let inputs = if report.demo_corpus {
+        "demo corpus".to_string()
     } else {
-        format!(
-            "subrange bench: bits per byte against speed ({} input(s))",
-            report.files.len()
-        )
+        format!("{} input(s)", report.files.len())
     };
+    let caption = format!(
+        "subrange bench, {inputs}: bits per byte against speed \
+         (circles: presets, triangles: baselines; large: all inputs, small: each input)"
+    );
     let root = root.titled(&caption, ("sans-serif", 22))?;
     let panels = root.split_evenly((1, 2));
     let all: Vec<Point> = overall.iter().chain(per_input).cloned().collect();
