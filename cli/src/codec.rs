@@ -2,10 +2,10 @@
 //!
 //! A [`Codec`] compresses a whole buffer in memory and decompresses it again;
 //! `bench` times both directions and checks the round trip. Presets are
-//! [`PresetCodec`]s; the general compressors are
-//! [`Baseline`](crate::baseline::Baseline)s. A preset codec
-//! writes a real container ([`subrange::compress`]), so its size is exactly
-//! what `subrange compress` writes with the same preset and block size.
+//! [`PresetCodec`]s; the general compressors are [`Baseline`]s. A preset
+//! codec writes a real container ([`subrange::compress`]), so its size is
+//! exactly what `subrange compress` writes with the same preset and block
+//! size.
 //!
 //! Presets also report their *ideal cost*: `Σ -log2(freq / total)` over every
 //! symbol their models code, measured with the encoder's cost meter in a
