@@ -21,8 +21,8 @@ use crate::presets::{self, PresetName};
     about = "Arithmetic-coding compression: compress, decompress, bench, inspect, analyze",
     long_about = "Compress and decompress files with an integer range coder and a choice of \
 models (presets), measure the presets against general compressors (flate2, zstd, xz, \
-bzip2, brotli, lz4) on your own data, look inside a \
-compressed file block by block, and estimate how compressible a file is.\n\n\
+bzip2, brotli, lz4) on your own data, look inside a compressed file block by block, \
+and estimate how compressible a file is.\n\n\
 Compressed files end in '.sr'. Run 'subrange <command> --help' for each command's options.",
     after_long_help = EXIT_CODES_HELP,
     propagate_version = true
@@ -211,9 +211,9 @@ pub struct InspectArgs {
     long_about = "Estimate how compressible a file is: the empirical entropy of \
 orders 0 to 3 (H(X | previous k bytes), the plug-in estimate from counts), a chart of \
 the byte histogram, and the size each preset would reach beside general compressors \
-(see --baselines), so you can choose a preset before compressing.\n\nThe plug-in estimate is exact for the sample itself but \
-optimistic as a prediction when contexts are rare: the report shows how many distinct \
-contexts each order saw."
+(see --baselines), so you can choose a preset before compressing.\n\nThe plug-in \
+estimate is exact for the sample itself but optimistic as a prediction when contexts \
+are rare: the report shows how many distinct contexts each order saw."
 )]
 pub struct AnalyzeArgs {
     /// The file to analyze ('-' reads standard input).
