@@ -5,14 +5,14 @@
 //! on the calling thread. `bench` drives it through the same [`Codec`] trait
 //! as a preset, so both are timed on the same buffers with the same clock.
 //!
-//! | family   | binding   | fast          | default | strongest        |
-//! | -------- | --------- | ------------- | ------- | ---------------- |
-//! | `flate2` | flate2    | 1             | 6       | 9                |
-//! | `zstd`   | zstd      | 1             | 3       | 22               |
-//! | `xz`     | liblzma   | 0             | 6       | 9 + extreme      |
-//! | `bzip2`  | bzip2     | 1             | 9       | 9                |
-//! | `brotli` | brotli    | 0             | 11      | 11               |
-//! | `lz4`    | lz4       | acceleration 8 | 1 (fast mode) | 12 (high compression) |
+//! | family   | binding | fast           | default       | strongest             |
+//! | -------- | ------- | -------------- | ------------- | --------------------- |
+//! | `flate2` | flate2  | 1              | 6             | 9                     |
+//! | `zstd`   | zstd    | 1              | 3             | 22                    |
+//! | `xz`     | liblzma | 0              | 6             | 9 with extreme flag   |
+//! | `bzip2`  | bzip2   | 1              | 9             | 9                     |
+//! | `brotli` | brotli  | 0              | 11            | 11                    |
+//! | `lz4`    | lz4     | acceleration 8 | 1 (fast mode) | 12 (high compression) |
 //!
 //! "Default" is the setting each library applies when given none (from memory
 //! of their documentation); bzip2 and brotli default to their strongest, so
