@@ -128,8 +128,8 @@ mod vint;
 pub use error::{Error, ErrorKind, Result};
 #[cfg(feature = "std")]
 pub use stream::{
-    compress, compress_reader, decompress, decompress_with_limits, Compressor, Decompressor,
-    Options,
+    compress, compress_reader, decompress, decompress_range, decompress_with_limits, Compressor,
+    Decompressor, IndexedReader, Options,
 };
 
 #[cfg(doctest)]
