@@ -194,7 +194,12 @@ impl BlockIndex {
         };
         // No usable tail: walk. An old container whose last bytes happen to
         // look like the mark walks to a plain end record and reads fine.
-        let walked = walk_frames(reader, base, len, &header, limits)?;
+        // When both fail, the index's error names the damage (usually in
+        // the end record, which both read).
+        let walked = match walk_frames(reader, base, len, &header, limits) {
+            Ok(w) => w,
+            Err(e) => return Err(recorded_error.unwrap_or(e)),
+        };
         if walked.indexed {
             // The end record announces an index that did not check out.
             return Err(match recorded_error {
