@@ -20,6 +20,7 @@ mod plot;
 mod presets;
 mod progress;
 mod report;
+mod window;
 
 use std::io::{self, Write};
 
