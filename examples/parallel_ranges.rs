@@ -19,7 +19,7 @@
 
 use std::error::Error;
 use std::fs::File;
-use std::io::{BufReader, Read, Seek, SeekFrom};
+use std::io::{Read, Seek, SeekFrom};
 use std::ops::Range;
 use std::path::Path;
 use std::thread;
@@ -37,8 +37,7 @@ struct Piece {
 
 /// A worker: opens the file, reads `range` of the decoded data.
 fn work(path: &Path, index: BlockIndex, range: Range<u64>) -> Result<Piece, std::io::Error> {
-    let file = BufReader::new(File::open(path)?);
-    let mut reader = IndexedReader::with_index(file, index);
+    let mut reader = IndexedReader::with_index(File::open(path)?, index);
     reader.seek(SeekFrom::Start(range.start))?;
     let mut bytes = Vec::new();
     (&mut reader)

@@ -9,7 +9,7 @@
 //! data ends first, and a file target is then not created).
 
 use std::fs::File;
-use std::io::{self, BufReader, Read, Seek, SeekFrom, Write};
+use std::io::{self, Read, Seek, SeekFrom, Write};
 
 use subrange::stream::{DecodeOptions, IndexedReader};
 use subrange::Decompressor;
@@ -94,7 +94,7 @@ pub fn decompress_window(args: &DecompressArgs, range: &ByteRange) -> CliResult 
             let what = quote(path);
             let file =
                 File::open(path).map_err(|e| CliError::io(format!("cannot open {what}"), e))?;
-            let mut reader = IndexedReader::new(BufReader::with_capacity(64 << 10, file))
+            let mut reader = IndexedReader::new(file)
                 .map_err(|e| CliError::library(format!("cannot decompress {what}"), &e))?;
             let len = reader.len();
             let end = range.end.unwrap_or(len);

@@ -16,7 +16,7 @@
 //! ([`IndexedReader`](crate::stream::IndexedReader)).
 
 use core::ops::Range;
-use std::io::{Read, Seek, SeekFrom};
+use std::io::{BufReader, Read, Seek, SeekFrom};
 use std::vec::Vec;
 
 use crate::error::{ErrorKind, Result};
@@ -105,7 +105,9 @@ fn walk_frames<R: Read + Seek>(
     let (mut at, mut raw) = (header.len, 0u64);
     loop {
         reader.seek(SeekFrom::Start(base + at))?;
-        let mut input = Input::at((&mut *reader).take(len - at), at);
+        // One short read per frame (the largest frame is 33 bytes).
+        let frame = BufReader::with_capacity(64, (&mut *reader).take(len - at));
+        let mut input = Input::at(frame, at);
         let index = blocks.len() as u64;
         match read_frame(&mut input, header, index)? {
             Frame::Block(f) => {
@@ -181,10 +183,8 @@ impl BlockIndex {
     pub fn read<R: Read + Seek>(reader: &mut R, limits: &DecodeLimits) -> Result<Self> {
         let (base, len) = extent(reader)?;
         let header = header_of(reader, len, limits)?;
-        let recorded = match tail_end_offset(reader, base, len, &header)? {
-            Some(end) => Some(parse_recorded(reader, base, len, &header, limits, end)),
-            None => None,
-        };
+        let recorded = tail_end_offset(reader, base, len, &header)?
+            .map(|end| parse_recorded(reader, base, len, &header, limits, end));
         let recorded_error = match recorded {
             Some(Ok(located)) => {
                 return Ok(Self::new(header, base, located, IndexSource::Recorded))

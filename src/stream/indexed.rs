@@ -33,6 +33,10 @@ use crate::stream::oneshot::from_io;
 /// ([`Preset::memory_needed`](crate::preset::Preset::memory_needed)), plus
 /// the block list (48 bytes a block).
 ///
+/// Give it the file itself: each block is one seek and one read of its
+/// record, so a [`BufReader`](std::io::BufReader) around the file adds
+/// nothing.
+///
 /// Errors come as [`io::Error`]s carrying the crate's
 /// [`Error`](crate::Error) (`InvalidData` for damage).
 ///
