@@ -468,3 +468,102 @@ fn a_damaged_block_fails_only_the_reads_that_touch_it() {
     assert!(r.read(&mut [0u8; 4]).is_err());
     assert_eq!(read_span(&mut r, 5000, 10_000), &data[5000..]);
 }
+
+#[test]
+fn streaming_readers_read_past_the_index() {
+    use subrange::format::TrailingData;
+    use subrange::stream::{decompress_with_options, DecodeOptions};
+    use subrange::Decompressor;
+    let a = gauge_data(12, 7000);
+    let b = gauge_data(13, 3000);
+    let pa = container(&a, 1000, "static", IndexPolicy::Auto, &[]);
+    let pb = container(&b, 1000, "adaptive", IndexPolicy::Always, &[100]);
+    // Concatenated: both indexes are read and checked in passing.
+    let mut both = pa.clone();
+    both.extend_from_slice(&pb);
+    let mut opts = DecodeOptions::new();
+    opts.trailing(TrailingData::Concatenated);
+    let mut want = a.clone();
+    want.extend_from_slice(&b);
+    assert_eq!(decompress_with_options(&both, &opts).unwrap(), want);
+    let mut streamed = Vec::new();
+    Decompressor::with_options(&both[..], &opts)
+        .read_to_end(&mut streamed)
+        .unwrap();
+    assert_eq!(streamed, want);
+    // Embedded: the reader stops just after the index.
+    let mut embedded = pa.clone();
+    embedded.extend_from_slice(b"rest of the stream");
+    opts.trailing(TrailingData::Leave);
+    let mut d = Decompressor::with_options(&embedded[..], &opts);
+    let mut out = Vec::new();
+    d.read_to_end(&mut out).unwrap();
+    assert_eq!(out, a);
+    assert_eq!(d.total_in(), pa.len() as u64);
+    assert_eq!(d.into_inner(), b"rest of the stream");
+    // A damaged index fails the streaming decoders too, after the data.
+    let mut bad = pa.clone();
+    let at = bad.len() - 20;
+    bad[at] ^= 2;
+    let mut out = Vec::new();
+    let err = Decompressor::new(&bad[..])
+        .read_to_end(&mut out)
+        .unwrap_err();
+    assert_eq!(err.kind(), std::io::ErrorKind::InvalidData);
+    assert_eq!(out, a);
+}
+
+/// Files written before the block index existed (`tests/data/containers/`,
+/// see the README there) decode as they did, read at random by a walk, and
+/// are what the writer still writes without an index.
+#[test]
+fn containers_written_before_the_index_read_as_before() {
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/containers");
+    let cases: [(&str, &str, usize, Vec<u8>); 4] = [
+        (
+            "gauge-csv-static-b4096",
+            "static",
+            4096,
+            subrange::corpus::gauge_csv(71, 30_000),
+        ),
+        (
+            "gauge-binary-adaptive-b1000",
+            "adaptive",
+            1000,
+            subrange::corpus::gauge_binary(72, 12_000),
+        ),
+        (
+            "random-static-b2048",
+            "static",
+            2048,
+            subrange::corpus::random(73, 9000),
+        ),
+        (
+            "text-order2-b16384",
+            "order2",
+            16384,
+            subrange::corpus::text_like(74, 40_000),
+        ),
+    ];
+    for (name, preset, block_size, data) in cases {
+        let old = std::fs::read(dir.join(format!("{name}.sr"))).unwrap();
+        assert_eq!(subrange::decompress(&old).unwrap(), data, "{name}");
+        let end = subrange::format::inspect(&old[..]).unwrap().end.unwrap();
+        assert!(end.block_count > 1 && end.index_len == 0, "{name}");
+        assert_eq!(
+            container(&data, block_size, preset, IndexPolicy::Never, &[]),
+            old,
+            "{name}"
+        );
+        let ranges = edge_ranges(&old, data.len() as u64);
+        check_ranges(&data, &old, &ranges, IndexSource::Walked);
+        // The same data written now carries an index and reads the same.
+        let new = container(&data, block_size, preset, IndexPolicy::Auto, &[]);
+        assert_eq!(
+            new[..end.offset as usize],
+            old[..end.offset as usize],
+            "{name}"
+        );
+        check_ranges(&data, &new, &ranges, IndexSource::Recorded);
+    }
+}
