@@ -9,16 +9,19 @@
 //!   and extreme parameters), several block sizes, empty input, flushed
 //!   streams with short blocks, concatenated containers, and snippets of the
 //!   demo corpus (river-gauge telemetry and friends);
+//! - `OUTDIR/decode_index/`: containers of many small blocks with and
+//!   without a block index, and indexed empty and one-block containers;
 //! - `OUTDIR/roundtrip/`: the roundtrip target's eight setup bytes (preset
 //!   index, block size, threads, write pattern, parameters) before demo
 //!   data;
 //! - `OUTDIR/decode_frame/`: model snapshots with frames coded from them
 //!   (and from other snapshots), frames alone, and training samples with
 //!   messages, in that target's three input modes;
-//! - `DICTDIR/decode_container.dict`: the format's magic, version, record
-//!   kinds, preset ids and parameter values, and whole headers and end
-//!   records as this release writes them, so the fuzzer starts from the
-//!   byte patterns a decoder branches on.
+//! - `DICTDIR/decode_container.dict` (also used for `decode_index`): the
+//!   format's magic, version, record kinds, the index mark, preset ids and
+//!   parameter values, and whole headers and end records as this release
+//!   writes them, so the fuzzer starts from the byte patterns a decoder
+//!   branches on.
 //!
 //! Everything is derived from the library's constants and output, so seeds
 //! and dictionary follow the format as it changes; `fuzz/gen_seeds.py` runs
@@ -31,7 +34,7 @@ use std::fs;
 use std::io::Write;
 use std::path::{Path, PathBuf};
 
-use subrange::format::{inspect, MAGIC, VERSION};
+use subrange::format::{inspect, IndexPolicy, INDEX_MARK, MAGIC, VERSION};
 use subrange::preset::{Preset, PresetKind};
 use subrange::{compress, Compressor, Options};
 
@@ -137,6 +140,34 @@ fn decode_container_seeds(root: &Path) -> Result<(), Box<dyn Error>> {
     Ok(())
 }
 
+/// Seeds for the random-access target: containers of several blocks with
+/// a block index (and a few without), small blocks so that a seed holds
+/// many entries.
+fn decode_index_seeds(root: &Path) -> Result<(), Box<dyn Error>> {
+    let mut seeds = Seeds::new(root, "decode_index")?;
+    let demo = subrange::corpus::demo(1200);
+    for (i, preset) in Preset::all().enumerate() {
+        let name = preset.name();
+        for (j, &bs) in [16usize, 100, 1024].iter().enumerate() {
+            let set = &demo[(i + j) % demo.len()];
+            let mut opts = options(preset, bs)?;
+            for policy in [IndexPolicy::Auto, IndexPolicy::Never] {
+                opts.block_index(policy);
+                let packed = compress(&set.data, &opts)?;
+                seeds.put(&format!("{name}-{}-b{bs}-{policy:?}", set.name), &packed)?;
+            }
+        }
+        let mut opts = options(preset, 256)?;
+        opts.block_index(IndexPolicy::Always);
+        seeds.put(&format!("{name}-empty-indexed"), &compress(&[], &opts)?)?;
+        seeds.put(
+            &format!("{name}-one-block-indexed"),
+            &compress(&demo[0].data[..200], &opts)?,
+        )?;
+    }
+    Ok(())
+}
+
 fn roundtrip_seeds(root: &Path) -> Result<(), Box<dyn Error>> {
     let mut seeds = Seeds::new(root, "roundtrip")?;
     let demo = subrange::corpus::demo(1200);
@@ -207,6 +238,8 @@ fn decode_container_dict() -> Result<String, Box<dyn Error>> {
     entry(&mut d, "kind_end", &[0x00]);
     entry(&mut d, "kind_stored", &[0x01]);
     entry(&mut d, "kind_coded", &[0x02]);
+    entry(&mut d, "kind_indexed_end", &[0x03]);
+    entry(&mut d, "index_mark", &INDEX_MARK);
     d.push_str("\n# Block sizes as vints, and vint edge cases (largest, non-minimal).\n");
     for bs in BLOCK_SIZES
         .iter()
@@ -305,6 +338,7 @@ fn main() -> Result<(), Box<dyn Error>> {
     };
     let out = PathBuf::from(out);
     decode_container_seeds(&out)?;
+    decode_index_seeds(&out)?;
     roundtrip_seeds(&out)?;
     decode_frame_seeds(&out)?;
     if let Some(dicts) = args.next() {

@@ -31,6 +31,10 @@ run_flags() {
   case "$1" in
     roundtrip) echo -max_len=2056 ;;
   esac
+  # The index target reads containers too: the container dictionary.
+  case "$1" in
+    decode_index) echo -dict=dicts/decode_container.dict ;;
+  esac
   if [ -f "dicts/$1.dict" ]; then echo "-dict=dicts/$1.dict"; fi
 }
 

@@ -115,6 +115,27 @@ pub enum ErrorKind {
         /// How many were seen (a lower bound for streams).
         count: u64,
     },
+    /// A container's block index is damaged, or disagrees with the blocks
+    /// it describes (their frames, or the end record).
+    #[error("corrupt block index at byte offset {offset}: {reason}")]
+    CorruptIndex {
+        /// Offset (in bytes, from the start of the container) of the record
+        /// or block frame where the disagreement was found.
+        offset: u64,
+        /// What was found.
+        reason: &'static str,
+    },
+    /// A byte range asked of the decoded data does not lie within it
+    /// (`start > end`, or `end` beyond the data's length).
+    #[error("byte range {start}..{end} lies outside the decoded data of {len} bytes")]
+    RangeOutsideData {
+        /// First byte asked for.
+        start: u64,
+        /// One past the last byte asked for.
+        end: u64,
+        /// Length of the decoded data.
+        len: u64,
+    },
     /// A model snapshot was missing, different, or damaged.
     #[error("snapshot mismatch: {reason}")]
     Snapshot {
@@ -166,6 +187,7 @@ impl Error {
                 | ErrorKind::CorruptTable { .. }
                 | ErrorKind::BadMagic
                 | ErrorKind::CorruptBlock { .. }
+                | ErrorKind::CorruptIndex { .. }
                 | ErrorKind::ChecksumMismatch { .. }
                 | ErrorKind::TrailingBytes { .. }
         )
@@ -222,6 +244,7 @@ impl From<Error> for std::io::Error {
             ErrorKind::Io(inner) => inner.kind(),
             ErrorKind::InvalidParameter { .. }
             | ErrorKind::UncodableSymbol { .. }
+            | ErrorKind::RangeOutsideData { .. }
             | ErrorKind::Mq(_) => Io::InvalidInput,
             _ => Io::InvalidData,
         };

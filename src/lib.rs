@@ -82,6 +82,41 @@
 //! # fn main() {}
 //! ```
 //!
+//! # Example: read a time window without decoding the whole container
+//!
+//! ```
+//! # #[cfg(feature = "std")]
+//! # fn main() -> Result<(), Box<dyn std::error::Error>> {
+//! use std::io::{Cursor, Read, Seek, SeekFrom};
+//! use subrange::{compress, IndexedReader, Options};
+//!
+//! let readings = subrange::corpus::gauge_csv(5, 300_000);
+//! let mut opts = Options::new();
+//! opts.block_size(16 << 10)?;
+//! let packed = compress(&readings, &opts)?; // with a block index at its end
+//! let mut reader = IndexedReader::new(Cursor::new(packed))?;
+//! reader.seek(SeekFrom::Start(200_000))?;
+//! let mut hour = vec![0u8; 6000];
+//! reader.read_exact(&mut hour)?;
+//! assert_eq!(hour, &readings[200_000..206_000]);
+//! assert!(reader.blocks_decoded() <= 2);
+//! # Ok(())
+//! # }
+//! # #[cfg(not(feature = "std"))]
+//! # fn main() {}
+//! ```
+//!
+//! # Reading one container on many workers
+//!
+//! The block index gives each worker its own blocks: read it once with
+//! [`format::BlockIndex::read`], cut the data into ranges on block
+//! boundaries with [`BlockIndex::split`](format::BlockIndex::split), and
+//! hand each worker (a thread, or a task of a cluster engine reading the
+//! file from shared storage) one range and a copy of the index; the worker
+//! opens the file, builds an [`IndexedReader::with_index`], seeks to its
+//! range and reads it. No block is decoded twice, and the pieces join to
+//! the original bytes (`examples/parallel_ranges.rs`).
+//!
 //! # Cautions
 //!
 //! - Compression is not encryption.
@@ -128,8 +163,8 @@ mod vint;
 pub use error::{Error, ErrorKind, Result};
 #[cfg(feature = "std")]
 pub use stream::{
-    compress, compress_reader, decompress, decompress_with_limits, Compressor, Decompressor,
-    Options,
+    compress, compress_reader, decompress, decompress_range, decompress_with_limits, Compressor,
+    Decompressor, IndexedReader, Options,
 };
 
 #[cfg(doctest)]

@@ -1,5 +1,5 @@
 //! An independent decoder written from `docs/FORMAT.md` alone (sections 1
-//! to 6), checked against what the crate writes: if the document and the
+//! to 6, and the block index of section 4.1), checked against what the crate writes: if the document and the
 //! code disagree, this fails. It shares no code with the crate; it is
 //! deliberately plain and slow.
 #![cfg(feature = "std")]
@@ -411,17 +411,41 @@ fn decode_container(c: &[u8]) -> R<Vec<u8>> {
     }
     let mut out = Vec::new();
     let mut index = 0u64;
+    // Section 4.1: (record length, block size - raw length) of each block.
+    let mut entries = Vec::new();
     loop {
         let start = b.pos;
         let kind = b.u8()?;
-        let raw_len = if kind != 0 { Some(b.vint()?) } else { None };
+        let raw_len = if kind != 0 && kind != 3 {
+            Some(b.vint()?)
+        } else {
+            None
+        };
         match kind {
-            0 => {
+            0 | 3 => {
                 let blocks = b.vint()?;
                 let total = b.vint()?;
                 let check = frame_check(index, &c[start..b.pos]);
                 if b.u32()? != check || blocks != index || total != out.len() as u64 {
                     return Err("end record".into());
+                }
+                if kind == 3 {
+                    for &(record_len, shortfall) in &entries {
+                        if b.vint()? != record_len || b.vint()? != shortfall {
+                            return Err("index entry".into());
+                        }
+                    }
+                    let mut end_offset = 0u64;
+                    for i in 0..8 {
+                        end_offset |= u64::from(b.u8()?) << (8 * i);
+                    }
+                    if end_offset != start as u64 {
+                        return Err("index end offset".into());
+                    }
+                    let check = crc32(&c[start..b.pos]);
+                    if b.u32()? != check || b.take(4)? != [0x67, 0x72, 0x73, 0xB7] {
+                        return Err("index check".into());
+                    }
                 }
                 if b.pos != c.len() {
                     return Err("trailing bytes".into());
@@ -459,6 +483,7 @@ fn decode_container(c: &[u8]) -> R<Vec<u8>> {
                     return Err("raw checksum".into());
                 }
                 out.extend_from_slice(&raw);
+                entries.push(((b.pos - start) as u64, block_size - raw_len));
                 index += 1;
             }
             _ => return Err("kind".into()),
@@ -576,5 +601,33 @@ fn headers_without_later_parameters_decode_as_written() {
             fine.len(),
             packed.len()
         );
+    }
+}
+
+/// Section 4.1: the writer adds a block index to containers of two or more
+/// blocks unless told not to, and the document's reading of it agrees.
+#[test]
+fn the_document_reads_the_block_index() {
+    use subrange::format::{inspect, IndexPolicy};
+    let data = subrange::corpus::gauge_csv(47, 30_000);
+    for policy in [IndexPolicy::Auto, IndexPolicy::Always, IndexPolicy::Never] {
+        for block_size in [16usize, 1000, 1 << 20] {
+            let mut o = Options::new();
+            o.threads(1).block_index(policy);
+            o.block_size(block_size).unwrap();
+            for len in [0, 1, 1000, data.len()] {
+                let packed = compress(&data[..len], &o).unwrap();
+                let end = inspect(&packed[..]).unwrap().end.unwrap();
+                let expect = match policy {
+                    IndexPolicy::Always => true,
+                    IndexPolicy::Never => false,
+                    _ => end.block_count > 1,
+                };
+                assert_eq!(end.index_len > 0, expect, "{policy:?} {block_size} {len}");
+                assert_eq!(packed[end.offset as usize] == 3, expect);
+                assert_eq!(end.container_len, packed.len() as u64);
+                assert_eq!(decode_container(&packed).unwrap(), &data[..len]);
+            }
+        }
     }
 }

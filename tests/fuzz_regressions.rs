@@ -109,6 +109,43 @@ fn checks_hold_on_real_and_damaged_containers() {
     }
 }
 
+/// The random-access checks on inputs made here: containers with and
+/// without a block index, whole, cut, and with bytes flipped (in the
+/// index most of all).
+#[test]
+fn index_checks_hold_on_real_and_damaged_containers() {
+    use subrange::format::IndexPolicy;
+    use subrange::preset::Preset;
+    use subrange::{compress, Options};
+    let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    let data = subrange::corpus::gauge_csv(6, 5000);
+    for (preset, policy) in [
+        ("static", IndexPolicy::Auto),
+        ("adaptive", IndexPolicy::Always),
+        ("static", IndexPolicy::Never),
+        ("order2", IndexPolicy::Auto),
+    ] {
+        for block_size in [16usize, 1000] {
+            let mut opts = Options::new();
+            opts.preset(Preset::from_name(preset).unwrap())
+                .threads(1)
+                .block_index(policy);
+            opts.block_size(block_size).unwrap();
+            let packed = compress(&data, &opts).unwrap();
+            fuzz_support::decode_index::check(&packed);
+            for cut in [0, 5, packed.len() / 2, packed.len() - 17, packed.len() - 1] {
+                fuzz_support::decode_index::check(&packed[..cut]);
+            }
+            let tail = packed.len().saturating_sub(64);
+            for at in (0..tail).step_by(151).chain(tail..packed.len()) {
+                let mut bad = packed.clone();
+                bad[at] ^= 0x08;
+                fuzz_support::decode_index::check(&bad);
+            }
+        }
+    }
+}
+
 /// The primed-message checks on inputs made here: a real snapshot with a
 /// frame, then cut and damaged copies, frames alone, and training round
 /// trips with several parameter picks.

@@ -101,9 +101,17 @@ pub struct DecompressArgs {
 
     /// Where to write: a file name, or '-' for standard output. Default:
     /// INPUT without its '.sr' extension (other names are refused), or
-    /// standard output when reading standard input.
+    /// standard output when reading standard input (and with --bytes).
     #[arg(short, long, value_name = "OUTPUT")]
     pub output: Option<PathBuf>,
+
+    /// Decompress only the bytes START..END of the original (END excluded;
+    /// suffixes K, M, G; 'START..' runs to the end, '..END' from the
+    /// start). From a file only the blocks holding them are decoded;
+    /// standard input is decoded from its start. Output goes to standard
+    /// output unless -o names a file.
+    #[arg(long, value_name = "START..END", value_parser = crate::window::parse_byte_range)]
+    pub bytes: Option<crate::window::ByteRange>,
 
     /// Overwrite OUTPUT if it exists.
     #[arg(short, long)]

@@ -98,6 +98,9 @@ pub fn compress(args: &CompressArgs) -> CliResult {
 
 /// Runs `subrange decompress`.
 pub fn decompress(args: &DecompressArgs) -> CliResult {
+    if let Some(range) = &args.bytes {
+        return crate::window::decompress_window(args, range);
+    }
     let input = Input::from_arg(args.input.as_deref());
     let d = dest(args.output.as_deref(), &input, files::decompressed_name)?;
     let (reader, size) = input.open()?;

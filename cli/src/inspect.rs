@@ -110,6 +110,13 @@ pub fn run(args: &InspectArgs) -> CliResult {
                     String::new()
                 }
             );
+            if end.index_len > 0 {
+                let _ = writeln!(
+                    out,
+                    "block index: {} bytes after the end record (random access)",
+                    thousands(end.index_len)
+                );
+            }
         }
         None => out.push_str("end record not reached\n"),
     }

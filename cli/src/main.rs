@@ -22,6 +22,7 @@ mod presets;
 mod progress;
 mod report;
 mod summary;
+mod window;
 
 use std::io::{self, Write};
 

@@ -30,6 +30,8 @@ const KIND_END: u8 = 0x00;
 const KIND_STORED: u8 = 0x01;
 /// Kind byte of a coded block.
 const KIND_CODED: u8 = 0x02;
+/// Kind byte of an end record followed by a block index.
+pub(crate) const KIND_INDEXED_END: u8 = 0x03;
 
 /// How a block's bytes are kept.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
@@ -57,10 +59,17 @@ pub(crate) struct BlockFrame {
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub(crate) enum Frame {
     Block(BlockFrame),
-    End { block_count: u64, total_raw: u64 },
+    End {
+        block_count: u64,
+        total_raw: u64,
+        /// Whether a block index follows (kind `03`).
+        indexed: bool,
+    },
 }
 
-fn frame_check(index: u64, frame: &[u8]) -> u32 {
+/// The frame check of record `index`: CRC-32 of the index (8 bytes,
+/// little-endian) followed by the record's bytes.
+pub(crate) fn frame_check(index: u64, frame: &[u8]) -> u32 {
     let mut h = crc32fast::Hasher::new();
     h.update(&index.to_le_bytes());
     h.update(frame);
@@ -106,10 +115,11 @@ pub(crate) fn encode_block(preset: &Preset, index: u64, raw: &[u8]) -> Result<En
     Ok(EncodedBlock { frame, coded })
 }
 
-/// The end record after `block_count` blocks holding `total_raw` bytes.
-pub(crate) fn end_record(block_count: u64, total_raw: u64) -> Vec<u8> {
+/// The end record after `block_count` blocks holding `total_raw` bytes;
+/// `indexed` when a block index follows it.
+pub(crate) fn end_record(block_count: u64, total_raw: u64, indexed: bool) -> Vec<u8> {
     let mut out = Vec::with_capacity(24);
-    out.push(KIND_END);
+    out.push(if indexed { KIND_INDEXED_END } else { KIND_END });
     put_vint(&mut out, block_count);
     put_vint(&mut out, total_raw);
     let check = frame_check(block_count, &out);
@@ -131,12 +141,13 @@ pub(crate) fn read_frame<R: Read>(
     input.start_capture();
     let kind = input.byte()?;
     let frame = match kind {
-        KIND_END => {
+        KIND_END | KIND_INDEXED_END => {
             let block_count = input.vint("malformed block count in the end record")?;
             let total_raw = input.vint("malformed total length in the end record")?;
             Frame::End {
                 block_count,
                 total_raw,
+                indexed: kind == KIND_INDEXED_END,
             }
         }
         KIND_STORED | KIND_CODED => {
@@ -310,7 +321,7 @@ mod tests {
         assert!(block.coded.is_some());
         bytes.extend_from_slice(&block.frame);
         bytes.extend_from_slice(block.coded.as_ref().unwrap());
-        bytes.extend_from_slice(&end_record(1, raw.len() as u64));
+        bytes.extend_from_slice(&end_record(1, raw.len() as u64, false));
         let mut input = Input::new(&bytes[..]);
         let header = read_header(&mut input, &DecodeLimits::new()).unwrap();
         let Frame::Block(f) = read_frame(&mut input, &header, 0).unwrap() else {
@@ -324,7 +335,8 @@ mod tests {
             read_frame(&mut input, &header, 1).unwrap(),
             Frame::End {
                 block_count: 1,
-                total_raw: raw.len() as u64
+                total_raw: raw.len() as u64,
+                indexed: false,
             }
         );
         // The same frame read as block 1 fails its check.

@@ -39,7 +39,16 @@ impl<R: Read> Input<R> {
         }
     }
 
-    /// Bytes consumed so far.
+    /// An input whose first byte is at `offset` of the container (for
+    /// reads that start after a seek; offsets in errors stay absolute).
+    pub(crate) fn at(inner: R, offset: u64) -> Self {
+        Input {
+            offset,
+            ..Input::new(inner)
+        }
+    }
+
+    /// Bytes consumed so far (plus the starting offset).
     pub(crate) fn offset(&self) -> u64 {
         self.offset
     }

@@ -17,6 +17,7 @@ use std::vec::Vec;
 use crate::error::{Error, ErrorKind, Result};
 use crate::format::block::{decode_payload, read_frame, BlockKind, Frame};
 use crate::format::header::read_header;
+use crate::format::index::{read_after_end, IndexExpect};
 use crate::format::input::Input;
 use crate::format::{DecodeLimits, Header};
 
@@ -78,8 +79,10 @@ pub struct EndInfo {
     pub block_count: u64,
     /// Total raw length it records.
     pub total_raw: u64,
-    /// Length of the whole container, end record included.
+    /// Length of the whole container, end record and block index included.
     pub container_len: u64,
+    /// Length of the block index after the end record (0 without one).
+    pub index_len: u64,
 }
 
 /// Walks the blocks of a container; an iterator of [`BlockInfo`].
@@ -123,6 +126,7 @@ pub struct Inspector<R> {
     payload: Vec<u8>,
     out: Vec<u8>,
     end: Option<EndInfo>,
+    expect: IndexExpect,
     finished: bool,
 }
 
@@ -156,6 +160,7 @@ impl<R: Read> Inspector<R> {
             payload: Vec::new(),
             out: Vec::new(),
             end: None,
+            expect: IndexExpect::new(),
             finished: false,
         })
     }
@@ -182,6 +187,7 @@ impl<R: Read> Inspector<R> {
             Frame::End {
                 block_count,
                 total_raw,
+                indexed,
             } => {
                 self.finished = true;
                 self.end = Some(EndInfo {
@@ -189,6 +195,7 @@ impl<R: Read> Inspector<R> {
                     block_count,
                     total_raw,
                     container_len: self.input.offset(),
+                    index_len: 0,
                 });
                 if block_count != self.index || total_raw != self.raw_offset {
                     return Err(ErrorKind::CorruptBlock {
@@ -196,6 +203,15 @@ impl<R: Read> Inspector<R> {
                         reason: "end record differs from the blocks read",
                     }
                     .into());
+                }
+                if indexed {
+                    let end_bytes = self.input.captured().to_vec();
+                    let index_len =
+                        read_after_end(&mut self.input, offset, &end_bytes, &self.expect)?;
+                    if let Some(end) = &mut self.end {
+                        end.index_len = index_len;
+                        end.container_len = self.input.offset();
+                    }
                 }
                 let at = self.input.offset();
                 let count = self.input.count_rest(1 << 16)?;
@@ -241,6 +257,11 @@ impl<R: Read> Inspector<R> {
             crc_expected: frame.raw_crc,
             crc_status,
         };
+        self.expect.push(
+            self.header.block_size,
+            frame_len + frame.payload_len,
+            frame.raw_len,
+        );
         self.index += 1;
         self.raw_offset += frame.raw_len;
         Ok(Some(info))

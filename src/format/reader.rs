@@ -18,6 +18,7 @@ use std::vec::Vec;
 use crate::error::{ErrorKind, Result};
 use crate::format::block::{check_payload, read_frame, read_payload, BlockFrame, Frame};
 use crate::format::header::read_header;
+use crate::format::index::{read_after_end, IndexExpect};
 use crate::format::input::Input;
 use crate::format::limits::{check, DecodeLimits};
 use crate::format::Header;
@@ -64,6 +65,10 @@ pub(crate) struct ContainerReader<R> {
     total: u64,
     /// Raw bytes in the blocks of all containers read (for the limit).
     grand_total: u64,
+    /// Offset of the current container's first byte.
+    start: u64,
+    /// The index entries the blocks read so far call for.
+    expect: IndexExpect,
     done: bool,
 }
 
@@ -77,6 +82,8 @@ impl<R: Read> ContainerReader<R> {
             index: 0,
             total: 0,
             grand_total: 0,
+            start: 0,
+            expect: IndexExpect::new(),
             done: false,
         }
     }
@@ -96,6 +103,7 @@ impl<R: Read> ContainerReader<R> {
     /// The header of the container being read, reading it first if needed.
     pub(crate) fn header(&mut self) -> Result<&Header> {
         if self.header.is_none() {
+            self.start = self.input.offset();
             let h = read_header(&mut self.input, &self.limits)?;
             self.header = Some(h);
         }
@@ -115,6 +123,9 @@ impl<R: Read> ContainerReader<R> {
 
     /// Counts a block whose payload has been read.
     fn count(&mut self, frame: &BlockFrame) {
+        let block_size = self.header.as_ref().map_or(0, |h| h.block_size);
+        let record_len = self.input.offset() - frame.offset;
+        self.expect.push(block_size, record_len, frame.raw_len);
         self.index += 1;
         self.total += frame.raw_len;
         self.grand_total += frame.raw_len;
@@ -142,6 +153,7 @@ impl<R: Read> ContainerReader<R> {
                 Frame::End {
                     block_count,
                     total_raw,
+                    indexed,
                 } => {
                     if block_count != self.index {
                         return Err(ErrorKind::CorruptBlock {
@@ -156,6 +168,16 @@ impl<R: Read> ContainerReader<R> {
                             reason: "end record total differs from the bytes read",
                         }
                         .into());
+                    }
+                    if indexed {
+                        let end_bytes = self.input.captured().to_vec();
+                        let end_offset = self.input.offset() - end_bytes.len() as u64;
+                        read_after_end(
+                            &mut self.input,
+                            end_offset - self.start,
+                            &end_bytes,
+                            &self.expect,
+                        )?;
                     }
                     self.after_end()?;
                 }
@@ -181,6 +203,7 @@ impl<R: Read> ContainerReader<R> {
                     self.header = None;
                     self.index = 0;
                     self.total = 0;
+                    self.expect = IndexExpect::new();
                 }
             }
         }

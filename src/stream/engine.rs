@@ -10,15 +10,21 @@
 //! depends only on the bytes, the preset and the block size — not on write
 //! sizes or threads — unless `flush` ends a block early.
 //!
+//! Unless the options say never, each block's entry (record length, raw
+//! length: about four bytes) is kept for the block index written after the
+//! end record.
+//!
 //! Invariants: memory is `batch` blocks of input plus their coded records,
-//! whatever the stream length; the header goes out before the first record,
+//! and the index entries, whatever the stream length; the header goes out before the first record,
 //! the end record after the last; after a failed write to the inner writer
 //! nothing more is written (the output is already broken).
 
 use std::io::{self, Write};
 use std::vec::Vec;
 
-use crate::format::{encode_block, encode_header, end_record, EncodedBlock};
+use crate::format::{
+    encode_block, encode_header, end_record, EncodedBlock, IndexBuilder, IndexPolicy,
+};
 use crate::preset::Preset;
 use crate::stream::workers::Workers;
 use crate::stream::Options;
@@ -39,6 +45,8 @@ pub(crate) struct Engine<W: Write> {
     batch_bytes: usize,
     buf: Vec<u8>,
     header_written: bool,
+    index_policy: IndexPolicy,
+    index: Option<IndexBuilder>,
     blocks: u64,
     total_in: u64,
     total_out: u64,
@@ -66,6 +74,9 @@ impl<W: Write> Engine<W> {
             batch_bytes: block_size * batch,
             buf: Vec::new(),
             header_written: false,
+            index_policy: options.get_block_index(),
+            index: (options.get_block_index() != IndexPolicy::Never)
+                .then(|| IndexBuilder::new(block_size as u64)),
             blocks: 0,
             total_in: 0,
             total_out: 0,
@@ -154,7 +165,14 @@ impl<W: Write> Engine<W> {
                 })?;
                 self.put_header()?;
                 self.put(&block.frame)?;
-                self.put(block.coded.as_deref().unwrap_or(chunk))?;
+                let payload = block.coded.as_deref().unwrap_or(chunk);
+                self.put(payload)?;
+                if let Some(index) = &mut self.index {
+                    index.push(
+                        (block.frame.len() + payload.len()) as u64,
+                        chunk.len() as u64,
+                    );
+                }
                 self.blocks += 1;
             }
         }
@@ -214,8 +232,13 @@ impl<W: Write> Engine<W> {
             self.emit_buffer()?;
         }
         self.put_header()?;
-        let end = end_record(self.blocks, self.total_in);
+        let indexed = self.index.is_some() && self.index_policy.applies(self.blocks);
+        let end_offset = self.total_out;
+        let end = end_record(self.blocks, self.total_in, indexed);
         self.put(&end)?;
+        if let Some(index) = self.index.take().filter(|_| indexed) {
+            self.put(&index.finish(&end, end_offset))?;
+        }
         self.get_mut()
             .flush()
             .inspect_err(|_| self.state = State::Failed)?;

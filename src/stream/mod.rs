@@ -6,6 +6,10 @@
 //!   whatever the stream length.
 //! - [`compress`] / [`decompress`]: whole buffers in memory;
 //!   [`compress_reader`] / [`decompress_reader`]: reader to writer.
+//! - [`IndexedReader`]: an [`io::Read`](std::io::Read) +
+//!   [`io::Seek`](std::io::Seek) view of the decoded data of a container in
+//!   a source that can seek, decoding only the blocks a read needs;
+//!   [`decompress_range`]: one byte range of a container in memory.
 //! - [`Options`] and [`DecodeOptions`]: settings, builder style.
 //!
 //! One engine does the work on each side (the block writer under
@@ -40,13 +44,15 @@
 mod compressor;
 mod decompressor;
 mod engine;
+mod indexed;
 mod oneshot;
 mod options;
 mod workers;
 
-pub use crate::format::{DecodeLimits, TrailingData};
+pub use crate::format::{DecodeLimits, IndexPolicy, TrailingData};
 pub use compressor::Compressor;
 pub use decompressor::Decompressor;
+pub use indexed::{decompress_range, decompress_range_with_limits, IndexedReader};
 pub use oneshot::{
     compress, compress_reader, decompress, decompress_reader, decompress_with_limits,
     decompress_with_options, Totals,
@@ -58,6 +64,7 @@ fn _adapters_are_send_and_sync() {
     fn check<T: Send + Sync>() {}
     check::<Compressor<std::vec::Vec<u8>>>();
     check::<Decompressor<&[u8]>>();
+    check::<IndexedReader<std::io::Cursor<&[u8]>>>();
     check::<crate::format::Inspector<&[u8]>>();
     check::<Options>();
     check::<DecodeOptions>();

@@ -51,7 +51,8 @@ pub fn compress(data: &[u8], options: &Options) -> Result<Vec<u8>> {
     // Room for the worst case (every block stored), so the output never
     // moves; pages not written are never touched.
     let blocks = data.len() / options.get_block_size() + 1;
-    let bound = data.len() + 24 * blocks + 64;
+    // A frame of up to 24 bytes and an index entry of up to 20 per block.
+    let bound = data.len() + 44 * blocks + 64;
     let mut engine = Engine::new(Vec::with_capacity(bound), options);
     engine.finish_with(data).map_err(from_io)?;
     Ok(engine

@@ -1,7 +1,7 @@
 //! Settings for compressing and decompressing.
 
 use crate::error::{ErrorKind, Result};
-use crate::format::{DecodeLimits, TrailingData, MAX_BLOCK_SIZE};
+use crate::format::{DecodeLimits, IndexPolicy, TrailingData, MAX_BLOCK_SIZE};
 use crate::preset::Preset;
 
 /// Smallest block size [`Options::block_size`] accepts.
@@ -33,6 +33,7 @@ pub struct Options {
     preset: Preset,
     block_size: usize,
     threads: usize,
+    index: IndexPolicy,
 }
 
 impl Default for Options {
@@ -41,6 +42,7 @@ impl Default for Options {
             preset: Preset::default(),
             block_size: DEFAULT_BLOCK_SIZE,
             threads: 0,
+            index: IndexPolicy::Auto,
         }
     }
 }
@@ -110,6 +112,44 @@ impl Options {
     pub fn threads(&mut self, threads: usize) -> &mut Self {
         self.threads = threads;
         self
+    }
+
+    /// Sets when a block index is written after the end record (default
+    /// [`IndexPolicy::Auto`]: for two or more blocks). The index lets a
+    /// reader that can seek decode any byte range from the blocks holding
+    /// it ([`IndexedReader`](crate::stream::IndexedReader)); it costs about
+    /// four bytes a block (at most 20) plus 16, in the container and in the
+    /// writer's memory until the end. Containers without it still read
+    /// everywhere, by a walk over the block frames.
+    ///
+    /// # Example
+    ///
+    /// ```
+    /// use subrange::format::{inspect, IndexPolicy};
+    /// use subrange::Options;
+    ///
+    /// # fn main() -> Result<(), subrange::Error> {
+    /// let data = subrange::corpus::gauge_csv(1, 10_000);
+    /// let mut opts = Options::new();
+    /// opts.block_size(1024)?.block_index(IndexPolicy::Never);
+    /// let plain = subrange::compress(&data, &opts)?;
+    /// let indexed = subrange::compress(&data, opts.block_index(IndexPolicy::Auto))?;
+    /// // Ten blocks: a record length of two bytes and a shortfall of one
+    /// // each (two for the short last block), and the 16-byte tail.
+    /// let index_len = inspect(&indexed[..])?.end.unwrap().index_len;
+    /// assert_eq!(index_len, 10 * 3 + 1 + 16);
+    /// assert_eq!(indexed.len() - plain.len(), index_len as usize);
+    /// # Ok(())
+    /// # }
+    /// ```
+    pub fn block_index(&mut self, policy: IndexPolicy) -> &mut Self {
+        self.index = policy;
+        self
+    }
+
+    /// The block index policy in force.
+    pub fn get_block_index(&self) -> IndexPolicy {
+        self.index
     }
 
     /// The preset in force.

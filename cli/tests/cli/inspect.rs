@@ -45,6 +45,8 @@ fn a_good_file_shows_header_and_every_block() {
         assert_eq!(blocks.len(), want, "{report}");
         assert!(blocks.iter().all(|(_, s)| s == "ok"), "{report}");
         assert!(report.contains(&format!("{want} block(s)")), "{report}");
+        // Several blocks: the container ends with a block index.
+        assert_eq!(want > 1, report.contains("block index: "), "{report}");
     }
 }
 

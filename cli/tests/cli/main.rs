@@ -7,3 +7,4 @@ mod inspect;
 mod roundtrip;
 mod support;
 mod usage;
+mod window;
