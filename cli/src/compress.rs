@@ -14,8 +14,9 @@ use subrange::{Compressor, Decompressor, Options};
 
 use crate::cli::{CompressArgs, DecompressArgs};
 use crate::exit::{CliError, CliResult};
-use crate::files::{self, Input, Output, OutputFile};
+use crate::files::{self, Input, Output};
 use crate::progress::Progress;
+use crate::target::OutputFile;
 
 /// Where the output goes, from `-o` and the input.
 enum Dest {

@@ -6,4 +6,5 @@ mod bench;
 mod inspect;
 mod roundtrip;
 mod support;
+mod targets;
 mod usage;
