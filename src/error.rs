@@ -7,8 +7,11 @@
 //!
 //! With the `std` feature, `Error` converts into [`std::io::Error`]: damaged
 //! input maps to [`std::io::ErrorKind::InvalidData`], truncation to
-//! [`std::io::ErrorKind::UnexpectedEof`], and the original error stays
-//! reachable as the source.
+//! [`std::io::ErrorKind::UnexpectedEof`], the message stays the same, and
+//! the original error is the `io::Error`'s
+//! [`source`](std::error::Error::source) (downcast it to [`Error`]).
+//! Converting such an `io::Error` back (`Error::from`, or `?`) returns the
+//! original error rather than wrapping it as [`ErrorKind::Io`].
 
 use core::fmt;
 
@@ -186,12 +189,43 @@ impl From<ErrorKind> for Error {
     }
 }
 
+/// An `io::Error` made from an [`Error`] returns it back; any other is
+/// wrapped as [`ErrorKind::Io`].
 #[cfg(feature = "std")]
 impl From<std::io::Error> for Error {
     fn from(err: std::io::Error) -> Self {
+        if err.get_ref().is_some_and(|e| e.is::<IoCarrier>()) {
+            if let Some(inner) = err.into_inner() {
+                if let Ok(carrier) = inner.downcast::<IoCarrier>() {
+                    return carrier.0;
+                }
+            }
+            unreachable!("the carrier was checked above");
+        }
         Error {
             kind: ErrorKind::Io(err),
         }
+    }
+}
+
+/// What an `io::Error` made from an [`Error`] carries: it prints as the
+/// error and gives it as its source. (`io::Error::source` is its payload's
+/// `source`, so the payload cannot be the error itself.)
+#[cfg(feature = "std")]
+#[derive(Debug)]
+struct IoCarrier(Error);
+
+#[cfg(feature = "std")]
+impl fmt::Display for IoCarrier {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        fmt::Display::fmt(&self.0, f)
+    }
+}
+
+#[cfg(feature = "std")]
+impl std::error::Error for IoCarrier {
+    fn source(&self) -> Option<&(dyn std::error::Error + 'static)> {
+        Some(&self.0)
     }
 }
 
@@ -225,7 +259,7 @@ impl From<Error> for std::io::Error {
             | ErrorKind::Mq(_) => Io::InvalidInput,
             _ => Io::InvalidData,
         };
-        std::io::Error::new(io_kind, err)
+        std::io::Error::new(io_kind, IoCarrier(err))
     }
 }
 
@@ -245,10 +279,18 @@ mod tests {
     #[cfg(feature = "std")]
     #[test]
     fn io_conversion_keeps_source() {
+        use std::error::Error as _;
+        use std::string::ToString;
         let io: std::io::Error = Error::from(ErrorKind::Truncated { offset: 3 }).into();
         assert_eq!(io.kind(), std::io::ErrorKind::UnexpectedEof);
-        let inner = io.get_ref().unwrap().downcast_ref::<Error>().unwrap();
+        let inner = io.source().unwrap().downcast_ref::<Error>().unwrap();
         assert!(matches!(inner.kind(), ErrorKind::Truncated { offset: 3 }));
+        assert_eq!(io.to_string(), inner.to_string());
+        // Back again: the original, not an I/O error around it.
+        let back = Error::from(io);
+        assert!(matches!(back.kind(), ErrorKind::Truncated { offset: 3 }));
+        let plain = Error::from(std::io::Error::other("disk full"));
+        assert!(matches!(plain.kind(), ErrorKind::Io(_)));
         let io: std::io::Error = Error::from(ErrorKind::BadMagic).into();
         assert_eq!(io.kind(), std::io::ErrorKind::InvalidData);
     }

@@ -500,7 +500,7 @@ fn the_document_decodes_what_the_crate_writes() {
     data.extend(subrange::corpus::skewed(43, 9000));
     data.extend(subrange::corpus::text_like(44, 12_000));
     for preset in documented_presets() {
-        for block_size in [16usize, 700, 5000, 1 << 20] {
+        for block_size in [16u64, 700, 5000, 1 << 20] {
             let mut o = Options::new();
             o.preset(preset).threads(1);
             o.block_size(block_size).unwrap();

@@ -38,6 +38,7 @@ pub(crate) use block::{
     BlockKind as Kind, EncodedBlock,
 };
 pub(crate) use header::encode_header;
+pub(crate) use limits::check as check_limit;
 pub(crate) use reader::{ContainerReader, Payload};
 
 /// The four bytes every container starts with.
