@@ -49,7 +49,14 @@ pub enum ErrorKind {
         /// The rule it broke.
         reason: &'static str,
     },
-    /// The coded stream is not one this decoder could have produced.
+    /// The coded stream is not one this decoder could have produced (the
+    /// container's parts have errors of their own: [`CorruptHeader`],
+    /// [`CorruptFrame`], [`CorruptBlock`], [`CorruptEnd`]).
+    ///
+    /// [`CorruptHeader`]: ErrorKind::CorruptHeader
+    /// [`CorruptFrame`]: ErrorKind::CorruptFrame
+    /// [`CorruptBlock`]: ErrorKind::CorruptBlock
+    /// [`CorruptEnd`]: ErrorKind::CorruptEnd
     #[error("corrupt coded stream at byte offset {offset}: {reason}")]
     CorruptStream {
         /// Offset (in bytes) near which the damage was detected.
@@ -80,17 +87,40 @@ pub enum ErrorKind {
         /// The preset identifier found.
         id: u32,
     },
-    /// A block of the container is damaged.
-    #[error("corrupt block {index}: {reason}")]
+    /// The container's header is damaged (its check, a field, or a preset
+    /// parameter the preset cannot have).
+    #[error("damaged container header at byte offset {offset}: {reason}")]
+    CorruptHeader {
+        /// Offset (from the start of the container's input) of the field
+        /// found wrong.
+        offset: u64,
+        /// What was found.
+        reason: &'static str,
+    },
+    /// The frame of a block (the record before its payload: kind, lengths,
+    /// checksums, frame check) is damaged, or a record is out of place.
+    #[error("damaged frame of block {index} at byte offset {offset}: {reason}")]
+    CorruptFrame {
+        /// Zero-based index of the block whose frame it is.
+        index: u64,
+        /// Offset of the frame from the start of the input.
+        offset: u64,
+        /// What was found.
+        reason: &'static str,
+    },
+    /// The payload of a block (the coded or stored bytes after its frame)
+    /// is damaged: its checksum, or what decoding it found.
+    #[error("damaged payload of block {index}: {reason}")]
     CorruptBlock {
         /// Zero-based block index.
         index: u64,
         /// What was found.
         reason: &'static str,
     },
-    /// A block decoded, but its CRC-32 does not match the recorded one.
+    /// A block's payload decoded, but its CRC-32 does not match the
+    /// recorded one.
     #[error(
-        "checksum mismatch in block {block}: recorded {expected:#010x}, computed {actual:#010x}"
+        "damaged payload of block {block}: checksum mismatch, recorded {expected:#010x}, computed {actual:#010x}"
     )]
     ChecksumMismatch {
         /// Zero-based block index.
@@ -99,6 +129,15 @@ pub enum ErrorKind {
         expected: u32,
         /// Checksum of the decoded bytes.
         actual: u32,
+    },
+    /// The end record (after the last block) is damaged, or disagrees with
+    /// the blocks read.
+    #[error("damaged end record at byte offset {offset}: {reason}")]
+    CorruptEnd {
+        /// Offset of the end record from the start of the input.
+        offset: u64,
+        /// What was found.
+        reason: &'static str,
     },
     /// A declared size is over the configured limit; nothing was allocated.
     #[error("limit exceeded: {what} is {declared}, the limit is {limit}")]
@@ -168,7 +207,10 @@ impl Error {
                 | ErrorKind::CorruptStream { .. }
                 | ErrorKind::CorruptTable { .. }
                 | ErrorKind::BadMagic
+                | ErrorKind::CorruptHeader { .. }
+                | ErrorKind::CorruptFrame { .. }
                 | ErrorKind::CorruptBlock { .. }
+                | ErrorKind::CorruptEnd { .. }
                 | ErrorKind::ChecksumMismatch { .. }
                 | ErrorKind::TrailingBytes { .. }
         )

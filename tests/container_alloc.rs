@@ -142,7 +142,7 @@ fn hostile_declarations_fail_fast_without_large_allocations() {
     c.extend(coded_block(0, 1 << 60, 0, &[1, 2, 3], 3));
     let kind = limit_error(&c);
     assert!(
-        matches!(kind, ErrorKind::CorruptBlock { index: 0, .. }),
+        matches!(kind, ErrorKind::CorruptFrame { index: 0, .. }),
         "{kind:?}"
     );
 
@@ -155,7 +155,7 @@ fn hostile_declarations_fail_fast_without_large_allocations() {
 
     // More parameters than any preset has.
     let kind = limit_error(&header(2, 4096, &[1; 200]));
-    assert!(matches!(kind, ErrorKind::CorruptStream { .. }), "{kind:?}");
+    assert!(matches!(kind, ErrorKind::CorruptHeader { .. }), "{kind:?}");
 }
 
 #[test]
