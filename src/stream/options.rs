@@ -20,11 +20,16 @@
 //! holds at most [`Options::blocks_in_flight`] blocks at once: raw bytes
 //! gathered for them, then their coding (each on a thread with its model)
 //! and their coded records until written. Its memory stays within
-//! [`Options::memory_bound`], `blocks in flight × memory_needed(block
-//! size)`, whatever the stream length; by default the blocks in flight are
-//! the thread count, so output starts once that many blocks were written.
+//! [`Options::memory_bound`], `blocks in flight × (block size +
+//! memory_needed(block size))`, whatever the stream length; by default the
+//! blocks in flight are the thread count, so output starts once that many
+//! blocks were written. Threads are capped at [`MAX_THREADS`].
+//!
+//! (The one-shot [`compress`] holds its whole input and output anyway and
+//! codes all blocks in one parallel pass.)
 //!
 //! [`compress_reader`]: crate::stream::compress_reader
+//! [`compress`]: crate::stream::compress
 
 use crate::error::{ErrorKind, Result};
 use crate::format::{DecodeLimits, TrailingData, MAX_BLOCK_SIZE};
