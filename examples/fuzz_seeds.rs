@@ -40,7 +40,7 @@ use subrange::{compress, Compressor, Options};
 
 /// Block sizes the containers are cut with (16 is the smallest allowed;
 /// the container target accepts up to 64 KiB).
-const BLOCK_SIZES: [usize; 6] = [16, 100, 1024, 4096, 16_384, 65_536];
+const BLOCK_SIZES: [u64; 6] = [16, 100, 1024, 4096, 16_384, 65_536];
 
 /// Writes seed files, numbered, into one target's directory.
 struct Seeds {
@@ -63,7 +63,7 @@ impl Seeds {
     }
 }
 
-fn options(preset: Preset, block_size: usize) -> Result<Options, Box<dyn Error>> {
+fn options(preset: Preset, block_size: u64) -> Result<Options, Box<dyn Error>> {
     let mut opts = Options::new();
     opts.preset(preset).threads(1).block_size(block_size)?;
     Ok(opts)
@@ -148,7 +148,7 @@ fn decode_index_seeds(root: &Path) -> Result<(), Box<dyn Error>> {
     let demo = subrange::corpus::demo(1200);
     for (i, preset) in Preset::all().enumerate() {
         let name = preset.name();
-        for (j, &bs) in [16usize, 100, 1024].iter().enumerate() {
+        for (j, &bs) in [16u64, 100, 1024].iter().enumerate() {
             let set = &demo[(i + j) % demo.len()];
             let mut opts = options(preset, bs)?;
             for policy in [IndexPolicy::Auto, IndexPolicy::Never] {
@@ -243,7 +243,7 @@ fn decode_container_dict() -> Result<String, Box<dyn Error>> {
     d.push_str("\n# Block sizes as vints, and vint edge cases (largest, non-minimal).\n");
     for bs in BLOCK_SIZES
         .iter()
-        .map(|&b| b as u64)
+        .copied()
         .chain([1, 64 << 20, (64 << 20) + 1])
     {
         entry(&mut d, &format!("block_size_{bs}"), &vint(bs));
@@ -276,7 +276,7 @@ fn decode_container_dict() -> Result<String, Box<dyn Error>> {
     }
     d.push_str("\n# Whole headers and empty-container end records, as written.\n");
     for (name, preset) in preset_variants() {
-        for bs in [16usize, 4096, 64 << 10] {
+        for bs in [16u64, 4096, 64 << 10] {
             let packed = compress(&[], &options(preset, bs)?)?;
             let header_len = inspect(&packed[..])?.header.len as usize;
             entry(

@@ -7,8 +7,11 @@
 //!
 //! With the `std` feature, `Error` converts into [`std::io::Error`]: damaged
 //! input maps to [`std::io::ErrorKind::InvalidData`], truncation to
-//! [`std::io::ErrorKind::UnexpectedEof`], and the original error stays
-//! reachable as the source.
+//! [`std::io::ErrorKind::UnexpectedEof`], the message stays the same, and
+//! the original error is the `io::Error`'s
+//! [`source`](std::error::Error::source) (downcast it to [`Error`]).
+//! Converting such an `io::Error` back (`Error::from`, or `?`) returns the
+//! original error rather than wrapping it as [`ErrorKind::Io`].
 
 use core::fmt;
 
@@ -46,7 +49,14 @@ pub enum ErrorKind {
         /// The rule it broke.
         reason: &'static str,
     },
-    /// The coded stream is not one this decoder could have produced.
+    /// The coded stream is not one this decoder could have produced (the
+    /// container's parts have errors of their own: [`CorruptHeader`],
+    /// [`CorruptFrame`], [`CorruptBlock`], [`CorruptEnd`]).
+    ///
+    /// [`CorruptHeader`]: ErrorKind::CorruptHeader
+    /// [`CorruptFrame`]: ErrorKind::CorruptFrame
+    /// [`CorruptBlock`]: ErrorKind::CorruptBlock
+    /// [`CorruptEnd`]: ErrorKind::CorruptEnd
     #[error("corrupt coded stream at byte offset {offset}: {reason}")]
     CorruptStream {
         /// Offset (in bytes) near which the damage was detected.
@@ -77,17 +87,40 @@ pub enum ErrorKind {
         /// The preset identifier found.
         id: u32,
     },
-    /// A block of the container is damaged.
-    #[error("corrupt block {index}: {reason}")]
+    /// The container's header is damaged (its check, a field, or a preset
+    /// parameter the preset cannot have).
+    #[error("damaged container header at byte offset {offset}: {reason}")]
+    CorruptHeader {
+        /// Offset (from the start of the container's input) of the field
+        /// found wrong.
+        offset: u64,
+        /// What was found.
+        reason: &'static str,
+    },
+    /// The frame of a block (the record before its payload: kind, lengths,
+    /// checksums, frame check) is damaged, or a record is out of place.
+    #[error("damaged frame of block {index} at byte offset {offset}: {reason}")]
+    CorruptFrame {
+        /// Zero-based index of the block whose frame it is.
+        index: u64,
+        /// Offset of the frame from the start of the input.
+        offset: u64,
+        /// What was found.
+        reason: &'static str,
+    },
+    /// The payload of a block (the coded or stored bytes after its frame)
+    /// is damaged: its checksum, or what decoding it found.
+    #[error("damaged payload of block {index}: {reason}")]
     CorruptBlock {
         /// Zero-based block index.
         index: u64,
         /// What was found.
         reason: &'static str,
     },
-    /// A block decoded, but its CRC-32 does not match the recorded one.
+    /// A block's payload decoded, but its CRC-32 does not match the
+    /// recorded one.
     #[error(
-        "checksum mismatch in block {block}: recorded {expected:#010x}, computed {actual:#010x}"
+        "damaged payload of block {block}: checksum mismatch, recorded {expected:#010x}, computed {actual:#010x}"
     )]
     ChecksumMismatch {
         /// Zero-based block index.
@@ -96,6 +129,15 @@ pub enum ErrorKind {
         expected: u32,
         /// Checksum of the decoded bytes.
         actual: u32,
+    },
+    /// The end record (after the last block) is damaged, or disagrees with
+    /// the blocks read.
+    #[error("damaged end record at byte offset {offset}: {reason}")]
+    CorruptEnd {
+        /// Offset of the end record from the start of the input.
+        offset: u64,
+        /// What was found.
+        reason: &'static str,
     },
     /// A declared size is over the configured limit; nothing was allocated.
     #[error("limit exceeded: {what} is {declared}, the limit is {limit}")]
@@ -186,8 +228,11 @@ impl Error {
                 | ErrorKind::CorruptStream { .. }
                 | ErrorKind::CorruptTable { .. }
                 | ErrorKind::BadMagic
+                | ErrorKind::CorruptHeader { .. }
+                | ErrorKind::CorruptFrame { .. }
                 | ErrorKind::CorruptBlock { .. }
                 | ErrorKind::CorruptIndex { .. }
+                | ErrorKind::CorruptEnd { .. }
                 | ErrorKind::ChecksumMismatch { .. }
                 | ErrorKind::TrailingBytes { .. }
         )
@@ -208,12 +253,43 @@ impl From<ErrorKind> for Error {
     }
 }
 
+/// An `io::Error` made from an [`Error`] returns it back; any other is
+/// wrapped as [`ErrorKind::Io`].
 #[cfg(feature = "std")]
 impl From<std::io::Error> for Error {
     fn from(err: std::io::Error) -> Self {
+        if err.get_ref().is_some_and(|e| e.is::<IoCarrier>()) {
+            if let Some(inner) = err.into_inner() {
+                if let Ok(carrier) = inner.downcast::<IoCarrier>() {
+                    return carrier.0;
+                }
+            }
+            unreachable!("the carrier was checked above");
+        }
         Error {
             kind: ErrorKind::Io(err),
         }
+    }
+}
+
+/// What an `io::Error` made from an [`Error`] carries: it prints as the
+/// error and gives it as its source. (`io::Error::source` is its payload's
+/// `source`, so the payload cannot be the error itself.)
+#[cfg(feature = "std")]
+#[derive(Debug)]
+struct IoCarrier(Error);
+
+#[cfg(feature = "std")]
+impl fmt::Display for IoCarrier {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        fmt::Display::fmt(&self.0, f)
+    }
+}
+
+#[cfg(feature = "std")]
+impl std::error::Error for IoCarrier {
+    fn source(&self) -> Option<&(dyn std::error::Error + 'static)> {
+        Some(&self.0)
     }
 }
 
@@ -248,7 +324,7 @@ impl From<Error> for std::io::Error {
             | ErrorKind::Mq(_) => Io::InvalidInput,
             _ => Io::InvalidData,
         };
-        std::io::Error::new(io_kind, err)
+        std::io::Error::new(io_kind, IoCarrier(err))
     }
 }
 
@@ -268,10 +344,18 @@ mod tests {
     #[cfg(feature = "std")]
     #[test]
     fn io_conversion_keeps_source() {
+        use std::error::Error as _;
+        use std::string::ToString;
         let io: std::io::Error = Error::from(ErrorKind::Truncated { offset: 3 }).into();
         assert_eq!(io.kind(), std::io::ErrorKind::UnexpectedEof);
-        let inner = io.get_ref().unwrap().downcast_ref::<Error>().unwrap();
+        let inner = io.source().unwrap().downcast_ref::<Error>().unwrap();
         assert!(matches!(inner.kind(), ErrorKind::Truncated { offset: 3 }));
+        assert_eq!(io.to_string(), inner.to_string());
+        // Back again: the original, not an I/O error around it.
+        let back = Error::from(io);
+        assert!(matches!(back.kind(), ErrorKind::Truncated { offset: 3 }));
+        let plain = Error::from(std::io::Error::other("disk full"));
+        assert!(matches!(plain.kind(), ErrorKind::Io(_)));
         let io: std::io::Error = Error::from(ErrorKind::BadMagic).into();
         assert_eq!(io.kind(), std::io::ErrorKind::InvalidData);
     }

@@ -142,7 +142,7 @@ fn hostile_declarations_fail_fast_without_large_allocations() {
     c.extend(coded_block(0, 1 << 60, 0, &[1, 2, 3], 3));
     let kind = limit_error(&c);
     assert!(
-        matches!(kind, ErrorKind::CorruptBlock { index: 0, .. }),
+        matches!(kind, ErrorKind::CorruptFrame { index: 0, .. }),
         "{kind:?}"
     );
 
@@ -155,7 +155,7 @@ fn hostile_declarations_fail_fast_without_large_allocations() {
 
     // More parameters than any preset has.
     let kind = limit_error(&header(2, 4096, &[1; 200]));
-    assert!(matches!(kind, ErrorKind::CorruptStream { .. }), "{kind:?}");
+    assert!(matches!(kind, ErrorKind::CorruptHeader { .. }), "{kind:?}");
 }
 
 #[test]
@@ -191,4 +191,76 @@ fn truncated_large_block_does_not_reserve_its_declared_size() {
     });
     // Payload buffers grow by at most 1 MiB ahead of the data.
     assert!(peak < 2 << 20, "peak {peak}");
+}
+
+/// Writes `blocks` blocks of demo data through a [`Compressor`] to a sink
+/// and returns the peak of live heap bytes meanwhile.
+fn compressor_peak(opts: &subrange::Options, blocks: u64) -> usize {
+    let block = opts.get_block_size() as usize;
+    let data = subrange::corpus::gauge_csv(8, block * blocks as usize);
+    peak_during(|| {
+        let mut c = subrange::Compressor::new(std::io::sink(), opts);
+        for chunk in data.chunks(50_000) {
+            std::io::Write::write_all(&mut c, chunk).unwrap();
+        }
+        c.finish().unwrap();
+    })
+}
+
+#[test]
+fn compressor_output_starts_once_the_blocks_in_flight_are_full() {
+    let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    let block = 64 << 10;
+    let data = subrange::corpus::gauge_csv(3, 40 * block);
+    for (threads, in_flight) in [(1, 0), (2, 0), (0, 0), (2, 3), (1, 4)] {
+        let mut opts = subrange::Options::new();
+        opts.threads(threads).blocks_in_flight(in_flight);
+        opts.block_size(block as u64).unwrap();
+        let n = opts.get_blocks_in_flight();
+        assert!(
+            n >= 1 && (in_flight == 0 || n == in_flight),
+            "{threads} {in_flight}: {n}"
+        );
+        let mut c = subrange::Compressor::new(Vec::new(), &opts);
+        std::io::Write::write_all(&mut c, &data[..n * block - 1]).unwrap();
+        assert_eq!(c.total_out(), 0, "threads {threads}, in flight {n}");
+        std::io::Write::write_all(&mut c, &data[n * block - 1..n * block]).unwrap();
+        assert!(c.total_out() > 0, "threads {threads}, in flight {n}");
+    }
+    // By default, as many blocks as threads.
+    let mut opts = subrange::Options::new();
+    opts.threads(2);
+    assert_eq!(opts.get_blocks_in_flight(), 2);
+}
+
+#[test]
+fn compressor_memory_follows_the_blocks_in_flight_within_its_bound() {
+    let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    let block: u64 = 128 << 10;
+    for (name, threads) in [("static", 1), ("adaptive", 2), ("order2", 2), ("mix", 1)] {
+        let mut peaks = Vec::new();
+        for in_flight in [1, 4] {
+            let mut opts = subrange::Options::new();
+            opts.preset(subrange::preset::Preset::from_name(name).unwrap())
+                .threads(threads)
+                .blocks_in_flight(in_flight);
+            opts.block_size(block).unwrap();
+            let peak = compressor_peak(&opts, 8) as u64;
+            let bound = opts.memory_bound();
+            assert!(
+                peak <= bound,
+                "{name}, {in_flight} in flight: peak {peak} above the bound {bound}"
+            );
+            println!(
+                "{name}, {threads} threads, {in_flight} in flight: peak {peak}, bound {bound}"
+            );
+            peaks.push(peak);
+        }
+        // Three more blocks in flight hold at least three more blocks of
+        // raw bytes.
+        assert!(
+            peaks[1] >= peaks[0] + 3 * block,
+            "{name}: peaks {peaks:?} do not follow the blocks in flight"
+        );
+    }
 }

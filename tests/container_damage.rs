@@ -206,7 +206,7 @@ fn inspector_reports_damage_block_by_block() {
         assert_eq!(report.blocks.len(), 2);
         assert!(matches!(
             report.error.as_ref().unwrap().kind(),
-            ErrorKind::CorruptBlock { index: 2, .. } | ErrorKind::CorruptStream { .. }
+            ErrorKind::CorruptFrame { index: 2, .. }
         ));
 
         // Swapping two intact blocks is caught by the index in the frame check.
@@ -219,8 +219,96 @@ fn inspector_reports_damage_block_by_block() {
         swapped.extend_from_slice(&packed[e2..]);
         let err = decompress(&swapped).unwrap_err();
         assert!(
-            matches!(err.kind(), ErrorKind::CorruptBlock { index: 1, .. }),
+            matches!(err.kind(), ErrorKind::CorruptFrame { index: 1, .. }),
             "{err}"
         );
     }
+}
+
+/// The error of decoding `bytes` one-shot, and through the streaming
+/// reader (the same).
+fn both_errors(bytes: &[u8]) -> subrange::Error {
+    let one_shot = decompress(bytes).unwrap_err();
+    let io = Decompressor::new(bytes)
+        .read_to_end(&mut Vec::new())
+        .unwrap_err();
+    assert_eq!(io.to_string(), one_shot.to_string());
+    one_shot
+}
+
+#[test]
+fn each_message_names_the_damaged_part_and_where() {
+    let (_, packed) = sample(Preset::default());
+    let blocks: Vec<_> = Inspector::new(&packed[..])
+        .unwrap()
+        .collect::<Result<_, _>>()
+        .unwrap();
+    let header_len = inspect(&packed[..]).unwrap().header.len as usize;
+
+    // The header's own check (its last four bytes).
+    let mut bytes = packed.clone();
+    bytes[header_len - 2] ^= 0x10;
+    let e = both_errors(&bytes);
+    assert!(
+        matches!(e.kind(), ErrorKind::CorruptHeader { offset, .. } if *offset == header_len as u64 - 4),
+        "{e:?}"
+    );
+    let text = e.to_string();
+    assert!(
+        text.contains("header") && text.contains("checksum"),
+        "{text}"
+    );
+    assert!(!text.contains("coded stream"), "{text}");
+
+    // A block's frame: which block, at which offset.
+    let b3 = &blocks[3];
+    let mut bytes = packed.clone();
+    bytes[b3.offset as usize + 1] ^= 0x01;
+    let e = both_errors(&bytes);
+    assert!(
+        matches!(e.kind(), ErrorKind::CorruptFrame { index: 3, offset, .. } if *offset == b3.offset),
+        "{e:?}"
+    );
+    assert!(e.to_string().contains("frame of block 3"), "{e}");
+
+    // A block's payload.
+    let mut bytes = packed.clone();
+    bytes[(b3.offset + b3.frame_len) as usize + 2] ^= 0x04;
+    let e = both_errors(&bytes);
+    assert!(e.to_string().contains("payload of block 3"), "{e}");
+
+    // The end record: its check, and a count that disagrees.
+    let end = inspect(&packed[..]).unwrap().end.unwrap();
+    let mut bytes = packed.clone();
+    let last = bytes.len() - 1;
+    bytes[last] ^= 0x20;
+    let e = both_errors(&bytes);
+    assert!(
+        matches!(e.kind(), ErrorKind::CorruptEnd { offset, .. } if *offset == end.offset),
+        "{e:?}"
+    );
+    assert!(e.to_string().contains("end record"), "{e}");
+    // An end record that lies about the block count (and carries a
+    // matching check): built from the layout of docs/FORMAT.md, section 4.
+    let mut bytes = packed[..end.offset as usize].to_vec();
+    let lie = blocks.len() as u64 + 1;
+    let mut record = vec![0u8, lie as u8];
+    let mut total = end.total_raw;
+    while total >= 0x80 {
+        record.push(total as u8 | 0x80);
+        total >>= 7;
+    }
+    record.push(total as u8);
+    // The check binds the number of blocks before the record (section 2).
+    let mut h = crc32fast::Hasher::new();
+    h.update(&(blocks.len() as u64).to_le_bytes());
+    h.update(&record);
+    record.extend_from_slice(&h.finalize().to_le_bytes());
+    bytes.extend_from_slice(&record);
+    let e = both_errors(&bytes);
+    assert!(
+        matches!(e.kind(), ErrorKind::CorruptEnd { offset, .. } if *offset == end.offset),
+        "{e:?}"
+    );
+    assert!(e.to_string().contains("block count"), "{e}");
 }

@@ -525,7 +525,7 @@ fn the_document_decodes_what_the_crate_writes() {
     data.extend(subrange::corpus::skewed(43, 9000));
     data.extend(subrange::corpus::text_like(44, 12_000));
     for preset in documented_presets() {
-        for block_size in [16usize, 700, 5000, 1 << 20] {
+        for block_size in [16u64, 700, 5000, 1 << 20] {
             let mut o = Options::new();
             o.preset(preset).threads(1);
             o.block_size(block_size).unwrap();
@@ -611,7 +611,7 @@ fn the_document_reads_the_block_index() {
     use subrange::format::{inspect, IndexPolicy};
     let data = subrange::corpus::gauge_csv(47, 30_000);
     for policy in [IndexPolicy::Auto, IndexPolicy::Always, IndexPolicy::Never] {
-        for block_size in [16usize, 1000, 1 << 20] {
+        for block_size in [16u64, 1000, 1 << 20] {
             let mut o = Options::new();
             o.threads(1).block_index(policy);
             o.block_size(block_size).unwrap();

@@ -21,7 +21,7 @@ use subrange::{Compressor, ErrorKind, Options};
 /// flushed (ending a block early) after each offset of `flushes`.
 fn container(
     data: &[u8],
-    block_size: usize,
+    block_size: u64,
     preset: &str,
     policy: IndexPolicy,
     flushes: &[usize],
@@ -124,7 +124,7 @@ proptest! {
     fn every_range_decodes_to_the_slice(
         seed in 0u64..1000,
         len in 0usize..12_000,
-        block_size in 16usize..3000,
+        block_size in 16u64..3000,
         preset in prop::sample::select(vec!["static", "adaptive", "order2"]),
         policy in prop::sample::select(vec![IndexPolicy::Auto, IndexPolicy::Always, IndexPolicy::Never]),
         flushes in prop::collection::vec(0usize..12_000, 0..4),
@@ -519,7 +519,7 @@ fn streaming_readers_read_past_the_index() {
 #[test]
 fn containers_written_before_the_index_read_as_before() {
     let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/containers");
-    let cases: [(&str, &str, usize, Vec<u8>); 4] = [
+    let cases: [(&str, &str, u64, Vec<u8>); 4] = [
         (
             "gauge-csv-static-b4096",
             "static",

@@ -11,7 +11,7 @@ use subrange::preset::Preset;
 use subrange::stream::{decompress_with_options, DecodeOptions};
 use subrange::{compress, decompress, Compressor, Decompressor, ErrorKind, Options};
 
-fn options(preset: Preset, block_size: usize, threads: usize) -> Options {
+fn options(preset: Preset, block_size: u64, threads: usize) -> Options {
     let mut o = Options::new();
     o.preset(preset).threads(threads);
     o.block_size(block_size).unwrap();
@@ -67,7 +67,7 @@ proptest! {
     fn adapters_round_trip(
         data in sample_data(),
         preset_index in 0usize..16,
-        block_size in 16usize..2048,
+        block_size in 16u64..2048,
         threads in 1usize..=2,
         mut chunks in proptest::collection::vec(0usize..300, 1..8),
         reads in proptest::collection::vec(1usize..200, 1..8),

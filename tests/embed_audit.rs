@@ -317,3 +317,79 @@ fn escaped_symbols_are_followed_through_the_escape() {
         d.mismatch
     );
 }
+
+/// Logs which instance (by factory call) learned each symbol.
+struct Tagged {
+    inner: AdaptiveModel,
+    call: u32,
+    log: std::rc::Rc<std::cell::RefCell<Vec<u32>>>,
+}
+
+impl Model for Tagged {
+    fn alphabet_size(&self) -> u32 {
+        self.inner.alphabet_size()
+    }
+    fn total(&self) -> u32 {
+        self.inner.total()
+    }
+    fn span(&self, symbol: u32) -> Option<Span> {
+        self.inner.span(symbol)
+    }
+    fn locate(&self, target: u32) -> (u32, Span) {
+        self.inner.locate(target)
+    }
+    fn update(&mut self, symbol: u32) {
+        self.log.borrow_mut().push(self.call);
+        self.inner.update(symbol);
+    }
+}
+
+#[test]
+fn the_first_factory_call_encodes_and_the_second_decodes() {
+    let data = status_codes();
+    let log = std::rc::Rc::new(std::cell::RefCell::new(Vec::new()));
+    let mut calls = 0;
+    let r = audit_model(
+        || {
+            calls += 1;
+            Tagged {
+                inner: AdaptiveModel::new(8).unwrap(),
+                call: calls,
+                log: log.clone(),
+            }
+        },
+        &data,
+    );
+    assert!(r.is_symmetric(), "{r}");
+    assert_eq!(calls, 2);
+    // Every update of the first instance (the encoding one, as the docs
+    // say) comes before any of the second's.
+    let log = log.borrow();
+    let n = data.len();
+    assert_eq!(log.len(), 2 * n);
+    assert!(log[..n].iter().all(|&c| c == 1) && log[n..].iter().all(|&c| c == 2));
+}
+
+#[test]
+fn public_preset_docs_name_no_private_items() {
+    // The module's own documentation (`//!` lines) is public; steps for
+    // contributors, which name private functions, live in DEVELOPERS.md.
+    let source = include_str!("../src/preset/mod.rs");
+    let docs: String = source
+        .lines()
+        .filter_map(|l| l.trim_start().strip_prefix("//!"))
+        .collect::<Vec<_>>()
+        .join("\n");
+    for private in [
+        "check_params",
+        "decode_into",
+        "NAME_LIST",
+        "codec.rs",
+        "# Adding",
+    ] {
+        assert!(
+            !docs.contains(private),
+            "preset module docs name `{private}`"
+        );
+    }
+}

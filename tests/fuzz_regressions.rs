@@ -86,7 +86,7 @@ fn checks_hold_on_real_and_damaged_containers() {
     let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
     let data = subrange::corpus::gauge_csv(5, 3000);
     for preset in Preset::all() {
-        for block_size in [16usize, 700, 4096] {
+        for block_size in [16u64, 700, 4096] {
             let mut opts = Options::new();
             opts.preset(preset).threads(1);
             opts.block_size(block_size).unwrap();
@@ -125,7 +125,7 @@ fn index_checks_hold_on_real_and_damaged_containers() {
         ("static", IndexPolicy::Never),
         ("order2", IndexPolicy::Auto),
     ] {
-        for block_size in [16usize, 1000] {
+        for block_size in [16u64, 1000] {
             let mut opts = Options::new();
             opts.preset(Preset::from_name(preset).unwrap())
                 .threads(1)

@@ -27,7 +27,7 @@ use crate::presets::PresetName;
 use crate::report::{fixed, table, table_aligned, thousands};
 
 /// Bytes compressed per preset for its size estimate: two default blocks.
-pub const ESTIMATE_BYTES: usize = 2 * subrange::stream::DEFAULT_BLOCK_SIZE;
+pub const ESTIMATE_BYTES: usize = 2 * subrange::stream::DEFAULT_BLOCK_SIZE as usize;
 
 /// Cell heights of the histogram chart, lowest first.
 const LEVELS: [char; 8] = ['▁', '▂', '▃', '▄', '▅', '▆', '▇', '█'];

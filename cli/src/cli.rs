@@ -79,12 +79,26 @@ pub struct CompressArgs {
     #[arg(short, long, value_name = "SIZE", value_parser = parse_size, long_help = block_size_help())]
     pub block_size: Option<u64>,
 
-    /// Blocks coded at once (default: all cores). The output is the same
-    /// whatever the count.
+    /// Threads coding blocks (default: all cores; at most 256). The output
+    /// is the same whatever the count.
     #[arg(short, long, value_name = "N", value_parser = parse_threads)]
     pub threads: Option<usize>,
 
-    /// Overwrite OUTPUT if it exists.
+    /// Blocks held in memory at once (default: as many as threads). Memory
+    /// stays within this many times the block size plus what a block's
+    /// model needs; output starts after this many blocks.
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u32).range(1..=4096))]
+    pub blocks_in_flight: Option<u32>,
+
+    /// Let the output need up to SIZE of memory per block to decompress
+    /// (suffixes K, M, G). By default compress refuses a preset and block
+    /// size that a default decompress (256M) could not read; whoever reads
+    /// a file written with this needs 'decompress --memory SIZE'.
+    #[arg(long, value_name = "SIZE", value_parser = parse_size)]
+    pub reader_memory: Option<u64>,
+
+    /// Overwrite OUTPUT if it is an existing regular file. Devices, FIFOs
+    /// and sockets are written in place without it.
     #[arg(short, long)]
     pub force: bool,
 
@@ -113,7 +127,22 @@ pub struct DecompressArgs {
     #[arg(long, value_name = "START..END", value_parser = crate::window::parse_byte_range)]
     pub bytes: Option<crate::window::ByteRange>,
 
-    /// Overwrite OUTPUT if it exists.
+    /// Most memory decoding one block may need (suffixes K, M, G; default
+    /// 256M). A file whose header declares more is refused before anything
+    /// is allocated; files written by 'compress --reader-memory SIZE' need
+    /// at least that SIZE here.
+    #[arg(long, value_name = "SIZE", value_parser = parse_size)]
+    pub memory: Option<u64>,
+
+    /// Refuse to write more than SIZE decoded bytes (suffixes K, M, G;
+    /// default: no cap). For input from others: a container of a few
+    /// hundred bytes can legitimately expand to gigabytes. Nothing is
+    /// written to a file target when the cap is passed.
+    #[arg(long, value_name = "SIZE", value_parser = parse_size)]
+    pub output_limit: Option<u64>,
+
+    /// Overwrite OUTPUT if it is an existing regular file. Devices, FIFOs
+    /// and sockets are written in place without it.
     #[arg(short, long)]
     pub force: bool,
 
@@ -285,11 +314,12 @@ pub fn parse_size(text: &str) -> Result<u64, String> {
         .ok_or_else(|| format!("'{text}' is too large"))
 }
 
-/// Parses a thread count: 1 to 1024.
+/// Parses a thread count: 1 to the library's cap.
 fn parse_threads(text: &str) -> Result<usize, String> {
+    let max = subrange::stream::MAX_THREADS;
     match text.trim().parse::<usize>() {
-        Ok(n) if (1..=1024).contains(&n) => Ok(n),
-        _ => Err(format!("'{text}' is not a thread count from 1 to 1024")),
+        Ok(n) if (1..=max).contains(&n) => Ok(n),
+        _ => Err(format!("'{text}' is not a thread count from 1 to {max}")),
     }
 }
 
@@ -322,6 +352,8 @@ mod tests {
     fn thread_counts() {
         assert_eq!(parse_threads("3"), Ok(3));
         assert!(parse_threads("0").is_err());
+        assert_eq!(parse_threads("256"), Ok(256));
+        assert!(parse_threads("257").is_err());
         assert!(parse_threads("many").is_err());
     }
 }

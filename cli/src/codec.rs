@@ -69,7 +69,7 @@ impl PresetCodec {
         options.preset(preset).threads(threads);
         if let Some(size) = block_size {
             options
-                .block_size(usize::try_from(size).unwrap_or(usize::MAX))
+                .block_size(size)
                 .map_err(|e| CliError::usage(format!("--block-size {size}: {e}")))?;
         }
         let mut decode = DecodeOptions::new();

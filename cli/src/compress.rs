@@ -1,7 +1,11 @@
 //! `subrange compress` and `subrange decompress`.
 //!
-//! Both stream: memory stays about a few block sizes per thread whatever the
-//! input length. Output goes through [`crate::files`], so a file target only
+//! Both stream: compressing holds `--blocks-in-flight` blocks (by default
+//! one per thread) and their models, decompressing one block and its model,
+//! whatever the input length. Compressing refuses options a default
+//! decompress could not read unless `--reader-memory` raises the limit on
+//! purpose; decompressing takes the matching `--memory`, and
+//! `--output-limit` caps what untrusted input may expand to. Output goes through [`crate::files`], so a file target only
 //! appears, complete, after the last byte was written; on any error it does
 //! not appear at all. Standard output gets whole verified blocks as they are
 //! decoded; an error stops it after the last good block.
@@ -9,13 +13,15 @@
 use std::io::{self, Read, Write};
 use std::path::Path;
 
+use subrange::format::DecodeLimits;
 use subrange::stream::DecodeOptions;
-use subrange::{Compressor, Decompressor, Options};
+use subrange::{Compressor, Decompressor, ErrorKind, Options};
 
 use crate::cli::{CompressArgs, DecompressArgs};
 use crate::exit::{CliError, CliResult};
-use crate::files::{self, Input, Output, OutputFile};
+use crate::files::{self, Input, Output};
 use crate::progress::Progress;
+use crate::target::OutputFile;
 
 /// Where the output goes, from `-o` and the input.
 enum Dest {
@@ -50,7 +56,6 @@ fn options(args: &CompressArgs) -> CliResult<Options> {
         opts.preset(p.preset());
     }
     if let Some(size) = args.block_size {
-        let size = usize::try_from(size).unwrap_or(usize::MAX);
         opts.block_size(size).map_err(|e| {
             CliError::usage(format!(
                 "--block-size {}: {e}",
@@ -58,9 +63,74 @@ fn options(args: &CompressArgs) -> CliResult<Options> {
             ))
         })?;
     }
-    // 0: all cores.
+    // 0: all cores, and as many blocks in flight as threads.
     opts.threads(args.threads.unwrap_or(0));
+    opts.blocks_in_flight(args.blocks_in_flight.map_or(0, |n| n as usize));
+    if let Some(bytes) = args.reader_memory {
+        opts.max_decoder_memory(bytes);
+    }
+    if let Err(e) = opts.check() {
+        let ErrorKind::LimitExceeded {
+            declared, limit, ..
+        } = e.kind()
+        else {
+            return Err(CliError::library("cannot compress", &e));
+        };
+        let raised = args.reader_memory.is_some();
+        return Err(CliError::usage(format!(
+            "preset {} with {}-byte blocks needs {declared} bytes of memory per block to \
+             decompress, above the {} limit of {limit}: choose a smaller --block-size{}",
+            opts.get_preset().name(),
+            opts.get_block_size(),
+            if raised {
+                "--reader-memory"
+            } else {
+                "default reader's"
+            },
+            if raised {
+                " or a larger --reader-memory"
+            } else {
+                ", or write it anyway with --reader-memory SIZE (reading it then needs \
+                 decompress --memory SIZE)"
+            },
+        )));
+    }
     Ok(opts)
+}
+
+/// The decoding limits from the arguments (`--memory`, `--output-limit`).
+pub fn decode_limits(args: &DecompressArgs) -> DecodeLimits {
+    let mut limits = DecodeLimits::new();
+    if let Some(bytes) = args.memory {
+        limits.max_memory(bytes);
+    }
+    if let Some(bytes) = args.output_limit {
+        limits.max_total(bytes);
+    }
+    limits
+}
+
+/// The decompression settings from the arguments.
+pub fn decode_options(args: &DecompressArgs) -> DecodeOptions {
+    let mut opts = DecodeOptions::new();
+    opts.limits(decode_limits(args));
+    opts
+}
+
+/// A decompression error, with the option that moves the limit it met.
+fn decode_error(input: &Input, e: io::Error) -> CliError {
+    let err = CliError::io(format!("cannot decompress {}", input.describe()), e);
+    if err.is_quiet() {
+        return err;
+    }
+    let hint = if err.message().contains("memory needed per block") {
+        " (decompress --memory SIZE raises the limit)"
+    } else if err.message().contains("total decoded length") {
+        " (the --output-limit)"
+    } else {
+        ""
+    };
+    CliError::new(err.code(), format!("{}{hint}", err.message()))
 }
 
 /// Runs `subrange compress`.
@@ -107,19 +177,14 @@ pub fn decompress(args: &DecompressArgs) -> CliResult {
     let mut out = open_output(&d, args.force, &input)?;
     let target = out.describe();
     let progress = Progress::bytes(size, args.quiet, "decompressing");
-    let mut dec = Decompressor::with_options(progress.reader(reader), &DecodeOptions::new());
+    let mut dec = Decompressor::with_options(progress.reader(reader), &decode_options(args));
     let mut buf = vec![0u8; 256 << 10];
     loop {
         let n = match dec.read(&mut buf) {
             Ok(0) => break,
             Ok(n) => n,
             Err(e) if e.kind() == io::ErrorKind::Interrupted => continue,
-            Err(e) => {
-                return Err(CliError::io(
-                    format!("cannot decompress {}", input.describe()),
-                    e,
-                ))
-            }
+            Err(e) => return Err(decode_error(&input, e)),
         };
         out.write_all(&buf[..n])
             .map_err(|e| CliError::io(format!("cannot write {target}"), e))?;

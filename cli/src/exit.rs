@@ -106,9 +106,8 @@ impl CliError {
         if err.kind() == io::ErrorKind::BrokenPipe {
             return Self::broken_pipe();
         }
-        if let Some(inner) = err
-            .get_ref()
-            .and_then(|e| e.downcast_ref::<subrange::Error>())
+        if let Some(inner) =
+            std::error::Error::source(&err).and_then(|e| e.downcast_ref::<subrange::Error>())
         {
             return Self::library(what, inner);
         }

@@ -1,26 +1,19 @@
-//! Inputs and safe outputs.
+//! Inputs, output names, and where output goes.
 //!
-//! Output never lands half-written: a file target is written to a temporary
-//! file beside it (same directory, so the final step is a rename on one file
-//! system) and only moved into place by [`OutputFile::commit`] after every
-//! byte was written and synced. Dropping an uncommitted [`OutputFile`] — on an
-//! error, say — removes the temporary file, so a failed command leaves nothing
-//! behind.
-//!
-//! Rules kept here:
-//! - an existing target is never replaced without `--force`; without it the
-//!   final step is a hard link, which fails if the name appeared meanwhile,
-//!   so even a race cannot clobber a file;
+//! Rules kept here and in [`crate::target`], which writes file targets:
+//! - output never lands half-written in a regular file, and an existing one
+//!   is never replaced without `--force`;
+//! - devices, FIFOs and sockets are written in place, never replaced;
 //! - the output may not be the input file, `--force` or not;
 //! - compressed data is not written to a terminal;
 //! - the input is only ever opened for reading.
 
-use std::fs::{self, File, OpenOptions};
+use std::fs::{self, File};
 use std::io::{self, BufWriter, IsTerminal, Read, Write};
 use std::path::{Path, PathBuf};
-use std::sync::atomic::{AtomicU32, Ordering};
 
 use crate::exit::{CliError, CliResult};
+use crate::target::OutputFile;
 
 /// File name extension of compressed files, without the dot.
 pub const EXTENSION: &str = "sr";
@@ -156,7 +149,7 @@ pub fn refuse_terminal_stdout() -> CliResult {
 }
 
 /// True when `a` and `b` name the same existing file.
-fn same_file(a: &Path, b: &Path) -> bool {
+pub(crate) fn same_file(a: &Path, b: &Path) -> bool {
     #[cfg(unix)]
     {
         use std::os::unix::fs::MetadataExt;
@@ -172,172 +165,6 @@ fn same_file(a: &Path, b: &Path) -> bool {
             _ => false,
         }
     }
-}
-
-/// A file being written: a temporary file beside the target until committed.
-#[derive(Debug)]
-pub struct OutputFile {
-    target: PathBuf,
-    temp: PathBuf,
-    writer: Option<BufWriter<File>>,
-    force: bool,
-}
-
-/// Distinguishes temporary files of one process.
-static TEMP_COUNTER: AtomicU32 = AtomicU32::new(0);
-
-impl OutputFile {
-    /// Starts writing `target`. `input` is the file being read, if any: the
-    /// target may not be the same file, and the output takes its permissions.
-    ///
-    /// # Errors
-    ///
-    /// A refusal when `target` exists and `force` is off, or when it is the
-    /// input; a failure when it is a directory or its directory is not
-    /// writable.
-    pub fn create(target: &Path, force: bool, input: Option<&Path>) -> CliResult<Self> {
-        if let Some(input) = input {
-            if same_file(input, target) {
-                return Err(CliError::refused(format!(
-                    "refusing to write to {}: it is the input file",
-                    quote(target)
-                )));
-            }
-        }
-        match fs::symlink_metadata(target) {
-            Ok(meta) if meta.is_dir() => {
-                return Err(CliError::failure(format!(
-                    "cannot write {}: it is a directory",
-                    quote(target)
-                )));
-            }
-            Ok(_) if !force => {
-                return Err(CliError::refused(format!(
-                    "{} already exists; use --force to overwrite it",
-                    quote(target)
-                )));
-            }
-            _ => {}
-        }
-        let (temp, file) = create_temp_beside(target)?;
-        if let Some(input) = input {
-            // Best effort: a read-only input gives a read-only output, as a
-            // copy would; failure to copy permissions is not an error.
-            if let Ok(meta) = fs::metadata(input) {
-                let _ = file.set_permissions(meta.permissions());
-            }
-        }
-        Ok(OutputFile {
-            target: target.to_path_buf(),
-            temp,
-            writer: Some(BufWriter::with_capacity(1 << 16, file)),
-            force,
-        })
-    }
-
-    /// The final name.
-    pub fn target(&self) -> &Path {
-        &self.target
-    }
-
-    /// Flushes, syncs and moves the file into place.
-    ///
-    /// # Errors
-    ///
-    /// A failure naming the target when writing or renaming fails; a refusal
-    /// when the target appeared meanwhile and `force` is off. On error the
-    /// temporary file is removed.
-    pub fn commit(mut self) -> CliResult {
-        let what = || format!("cannot write {}", quote(&self.target));
-        let Some(writer) = self.writer.take() else {
-            return Err(CliError::failure(what()));
-        };
-        let file = writer
-            .into_inner()
-            .map_err(|e| CliError::io(what(), e.into_error()))?;
-        file.sync_all().map_err(|e| CliError::io(what(), e))?;
-        drop(file);
-        if self.force {
-            fs::rename(&self.temp, &self.target).map_err(|e| CliError::io(what(), e))?;
-        } else {
-            match fs::hard_link(&self.temp, &self.target) {
-                Ok(()) => {
-                    let _ = fs::remove_file(&self.temp);
-                }
-                Err(e) if e.kind() == io::ErrorKind::AlreadyExists => {
-                    return Err(CliError::refused(format!(
-                        "{} already exists; use --force to overwrite it",
-                        quote(&self.target)
-                    )));
-                }
-                Err(_) => {
-                    // File systems without hard links: check, then rename.
-                    if fs::symlink_metadata(&self.target).is_ok() {
-                        return Err(CliError::refused(format!(
-                            "{} already exists; use --force to overwrite it",
-                            quote(&self.target)
-                        )));
-                    }
-                    fs::rename(&self.temp, &self.target).map_err(|e| CliError::io(what(), e))?;
-                }
-            }
-        }
-        // Committed: nothing for Drop to remove.
-        self.temp = PathBuf::new();
-        Ok(())
-    }
-}
-
-impl Write for OutputFile {
-    fn write(&mut self, buf: &[u8]) -> io::Result<usize> {
-        match &mut self.writer {
-            Some(w) => w.write(buf),
-            None => Err(io::Error::other("output already committed")),
-        }
-    }
-
-    fn flush(&mut self) -> io::Result<()> {
-        match &mut self.writer {
-            Some(w) => w.flush(),
-            None => Ok(()),
-        }
-    }
-}
-
-impl Drop for OutputFile {
-    fn drop(&mut self) {
-        drop(self.writer.take());
-        if !self.temp.as_os_str().is_empty() {
-            let _ = fs::remove_file(&self.temp);
-        }
-    }
-}
-
-/// Creates a new, uniquely named temporary file in the target's directory.
-fn create_temp_beside(target: &Path) -> CliResult<(PathBuf, File)> {
-    let dir = match target.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
-        _ => PathBuf::from("."),
-    };
-    let base = target
-        .file_name()
-        .map(|n| n.to_string_lossy().into_owned())
-        .unwrap_or_else(|| "output".to_string());
-    let pid = std::process::id();
-    let mut last_err = None;
-    for _ in 0..64 {
-        let n = TEMP_COUNTER.fetch_add(1, Ordering::Relaxed);
-        let temp = dir.join(format!(".{base}.{pid}-{n}.partial"));
-        match OpenOptions::new().write(true).create_new(true).open(&temp) {
-            Ok(file) => return Ok((temp, file)),
-            Err(e) if e.kind() == io::ErrorKind::AlreadyExists => last_err = Some(e),
-            Err(e) => return Err(CliError::io(format!("cannot write {}", quote(target)), e)),
-        }
-    }
-    Err(CliError::io(
-        format!("cannot write {}", quote(target)),
-        last_err.unwrap_or_else(|| io::Error::other("no free temporary name")),
-    ))
 }
 
 /// Where a command's data output goes: standard output or a safe file.
@@ -417,6 +244,7 @@ pub fn write_file(target: &Path, force: bool, bytes: &[u8]) -> CliResult {
 mod tests {
     use super::*;
     use crate::exit::Code;
+    use std::sync::atomic::{AtomicU32, Ordering};
 
     /// A fresh, empty directory under the system's temporary directory.
     fn scratch(tag: &str) -> PathBuf {
@@ -429,103 +257,6 @@ mod tests {
         let _ = fs::remove_dir_all(&dir);
         fs::create_dir_all(&dir).unwrap();
         dir
-    }
-
-    fn entries(dir: &Path) -> Vec<String> {
-        let mut v: Vec<String> = fs::read_dir(dir)
-            .unwrap()
-            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
-            .collect();
-        v.sort();
-        v
-    }
-
-    #[test]
-    fn commit_creates_the_target_and_leaves_no_temp() {
-        let dir = scratch("commit");
-        let target = dir.join("out.sr");
-        let mut f = OutputFile::create(&target, false, None).unwrap();
-        f.write_all(b"levels").unwrap();
-        assert!(!target.exists(), "target must not appear before commit");
-        f.commit().unwrap();
-        assert_eq!(fs::read(&target).unwrap(), b"levels");
-        assert_eq!(entries(&dir), vec!["out.sr".to_string()]);
-        fs::remove_dir_all(&dir).unwrap();
-    }
-
-    #[test]
-    fn dropping_without_commit_leaves_nothing() {
-        let dir = scratch("drop");
-        let target = dir.join("out.sr");
-        {
-            let mut f = OutputFile::create(&target, false, None).unwrap();
-            f.write_all(b"partial").unwrap();
-        }
-        assert!(entries(&dir).is_empty(), "{:?}", entries(&dir));
-        fs::remove_dir_all(&dir).unwrap();
-    }
-
-    #[test]
-    fn existing_target_is_refused_without_force_and_kept() {
-        let dir = scratch("refuse");
-        let target = dir.join("out.sr");
-        fs::write(&target, b"old").unwrap();
-        let err = OutputFile::create(&target, false, None).unwrap_err();
-        assert_eq!(err.code(), Code::Refused);
-        assert!(err.message().contains("--force"));
-        assert_eq!(fs::read(&target).unwrap(), b"old");
-        assert_eq!(entries(&dir), vec!["out.sr".to_string()]);
-        fs::remove_dir_all(&dir).unwrap();
-    }
-
-    #[test]
-    fn target_appearing_before_commit_is_not_clobbered() {
-        let dir = scratch("race");
-        let target = dir.join("out.sr");
-        let mut f = OutputFile::create(&target, false, None).unwrap();
-        f.write_all(b"new").unwrap();
-        fs::write(&target, b"theirs").unwrap();
-        let err = f.commit().unwrap_err();
-        assert_eq!(err.code(), Code::Refused);
-        assert_eq!(fs::read(&target).unwrap(), b"theirs");
-        assert_eq!(entries(&dir), vec!["out.sr".to_string()]);
-        fs::remove_dir_all(&dir).unwrap();
-    }
-
-    #[test]
-    fn force_replaces_the_target() {
-        let dir = scratch("force");
-        let target = dir.join("out.sr");
-        fs::write(&target, b"old").unwrap();
-        let mut f = OutputFile::create(&target, true, None).unwrap();
-        f.write_all(b"new").unwrap();
-        f.commit().unwrap();
-        assert_eq!(fs::read(&target).unwrap(), b"new");
-        assert_eq!(entries(&dir), vec!["out.sr".to_string()]);
-        fs::remove_dir_all(&dir).unwrap();
-    }
-
-    #[test]
-    fn the_input_is_never_the_output() {
-        let dir = scratch("same");
-        let input = dir.join("levels.csv");
-        fs::write(&input, b"G100,0,112\n").unwrap();
-        let err = OutputFile::create(&input, true, Some(&input)).unwrap_err();
-        assert_eq!(err.code(), Code::Refused);
-        // Through another spelling of the same path, too.
-        let other = dir.join(".").join("levels.csv");
-        let err = OutputFile::create(&other, true, Some(&input)).unwrap_err();
-        assert_eq!(err.code(), Code::Refused);
-        assert_eq!(fs::read(&input).unwrap(), b"G100,0,112\n");
-        fs::remove_dir_all(&dir).unwrap();
-    }
-
-    #[test]
-    fn a_directory_is_not_a_target() {
-        let dir = scratch("dir");
-        let err = OutputFile::create(&dir, true, None).unwrap_err();
-        assert_eq!(err.code(), Code::Failure);
-        fs::remove_dir_all(&dir).unwrap();
     }
 
     #[test]

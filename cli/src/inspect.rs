@@ -33,23 +33,8 @@ pub fn run(args: &InspectArgs) -> CliResult {
         "{name}: subrange container, format version {}",
         h.version
     );
-    let params: Vec<String> = h
-        .preset
-        .param_specs()
-        .iter()
-        .zip(h.preset.params())
-        .map(|(spec, v)| format!("{}={v}", spec.name))
-        .collect();
-    let _ = writeln!(
-        out,
-        "  preset      {}{}",
-        h.preset.name(),
-        if params.is_empty() {
-            String::new()
-        } else {
-            format!(" ({})", params.join(", "))
-        }
-    );
+    // The library's textual form, which `compress --preset` accepts.
+    let _ = writeln!(out, "  preset      {}", h.preset);
     let _ = writeln!(out, "  block size  {} bytes", thousands(h.block_size));
     let _ = writeln!(out, "  header      {} bytes", h.len);
     out.push('\n');

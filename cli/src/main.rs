@@ -16,12 +16,14 @@ mod entropy;
 mod exit;
 mod files;
 mod inspect;
+mod interrupt;
 mod json;
 mod plot;
 mod presets;
 mod progress;
 mod report;
 mod summary;
+mod target;
 mod window;
 
 use std::io::{self, Write};
@@ -33,6 +35,7 @@ use crate::exit::{CliError, CliResult, Code};
 
 fn main() {
     install_panic_hook();
+    interrupt::watch();
     let cli = Cli::parse();
     let result = match &cli.command {
         Command::Compress(args) => compress::compress(args),

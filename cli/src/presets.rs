@@ -5,8 +5,10 @@
 //! names the library knows — every preset of [`Preset::all`], so presets
 //! added to the library appear here without change — and anything else is a
 //! usage error that lists them. Parameters follow the name after a colon,
-//! as `name=value` pairs separated by commas (`adaptive:period=1024,limit=65536`);
-//! they are checked by the library's rules and recorded in the container.
+//! as `name=value` pairs separated by commas (`adaptive:period=1024,limit=65536`):
+//! the library's one textual form of a preset, parsed by its `FromStr` and
+//! printed by its `Display`, checked by its rules and recorded in the
+//! container.
 
 use std::fmt;
 
@@ -59,41 +61,30 @@ fn param_list(preset: &Preset) -> String {
         .collect()
 }
 
-/// Parses a preset name, optionally with parameters (clap value parser).
+/// Parses a preset in the library's textual form, `NAME` or
+/// `NAME:PARAM=VALUE,...` ([`Preset`]'s `FromStr`), accepting only the
+/// presets offered for writing (clap value parser).
 ///
 /// # Errors
 ///
 /// A message listing the valid names, or the preset's parameters when one
 /// is unknown, malformed, out of range or does not fit with the others.
 pub fn parse_name(text: &str) -> Result<PresetName, String> {
-    let (name, params) = match text.split_once(':') {
-        Some((name, params)) => (name.trim(), Some(params)),
-        None => (text.trim(), None),
+    let name = text.split_once(':').map_or(text, |(name, _)| name).trim();
+    let Some(offered) = Preset::all().find(|p| p.name().eq_ignore_ascii_case(name)) else {
+        return Err(format!(
+            "unknown preset '{name}'; valid presets: {}",
+            valid_names()
+        ));
     };
-    let mut preset = Preset::all()
-        .find(|p| p.name().eq_ignore_ascii_case(name))
-        .ok_or_else(|| format!("unknown preset '{name}'; valid presets: {}", valid_names()))?;
-    for pair in params.into_iter().flat_map(|p| p.split(',')) {
-        let shown = preset;
-        let bad = |why: &str| {
-            format!(
-                "preset parameter '{pair}': {why}; {} takes:{}",
-                shown.name(),
-                param_list(&shown)
-            )
-        };
-        let (key, value) = pair
-            .split_once('=')
-            .ok_or_else(|| bad("expected name=value"))?;
-        let value: u32 = value
-            .trim()
-            .parse()
-            .map_err(|_| bad("the value is not a whole number"))?;
-        preset
-            .set_param(key.trim(), value)
-            .map_err(|e| bad(&e.to_string()))?;
-    }
-    Ok(PresetName(preset))
+    text.parse::<Preset>().map(PresetName).map_err(|e| {
+        format!(
+            "preset '{}': {e}; {} takes:{}",
+            text.trim(),
+            offered.name(),
+            param_list(&offered)
+        )
+    })
 }
 
 /// `--preset` long help: every name with a line about it.
@@ -131,6 +122,12 @@ mod tests {
             (Some(1024), Some(65_536))
         );
         assert_eq!(p.param("lanes"), Some(32));
+        // What the library prints parses back; presets kept only for
+        // reading are not offered.
+        assert_eq!(parse_name(&p.to_string()).unwrap().preset(), p);
+        assert!(parse_name("stepwise")
+            .unwrap_err()
+            .contains("unknown preset"));
         for bad in [
             "adaptive:period",
             "adaptive:period=x",

@@ -11,12 +11,13 @@
 use std::fs::File;
 use std::io::{self, Read, Seek, SeekFrom, Write};
 
-use subrange::stream::{DecodeOptions, IndexedReader};
+use subrange::stream::IndexedReader;
 use subrange::Decompressor;
 
 use crate::cli::{parse_size, DecompressArgs};
 use crate::exit::{CliError, CliResult};
-use crate::files::{quote, Input, Output, OutputFile};
+use crate::files::{quote, Input, Output};
+use crate::target::OutputFile;
 
 /// A byte range of the original, as given: `START..END`, `START..` (to the
 /// end) or `..END` (from the start).
@@ -94,8 +95,9 @@ pub fn decompress_window(args: &DecompressArgs, range: &ByteRange) -> CliResult 
             let what = quote(path);
             let file =
                 File::open(path).map_err(|e| CliError::io(format!("cannot open {what}"), e))?;
-            let mut reader = IndexedReader::new(file)
-                .map_err(|e| CliError::library(format!("cannot decompress {what}"), &e))?;
+            let mut reader =
+                IndexedReader::with_limits(file, &crate::compress::decode_limits(args))
+                    .map_err(|e| CliError::library(format!("cannot decompress {what}"), &e))?;
             let len = reader.len();
             let end = range.end.unwrap_or(len);
             if range.start > end || end > len {
@@ -110,7 +112,10 @@ pub fn decompress_window(args: &DecompressArgs, range: &ByteRange) -> CliResult 
         }
         Input::Stdin => {
             let what = input.describe();
-            let mut dec = Decompressor::with_options(io::stdin().lock(), &DecodeOptions::new());
+            let mut dec = Decompressor::with_options(
+                io::stdin().lock(),
+                &crate::compress::decode_options(args),
+            );
             let mut out = output(args, &input)?;
             let skipped = io::copy(&mut (&mut dec).take(range.start), &mut io::sink())
                 .map_err(|e| CliError::io(format!("cannot decompress {what}"), e))?;

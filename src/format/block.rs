@@ -131,17 +131,48 @@ fn bad_block(index: u64, reason: &'static str) -> crate::Error {
     ErrorKind::CorruptBlock { index, reason }.into()
 }
 
-/// Reads the frame of record `index`, checking it against `header`.
+fn bad_frame(index: u64, offset: u64, reason: &'static str) -> crate::Error {
+    ErrorKind::CorruptFrame {
+        index,
+        offset,
+        reason,
+    }
+    .into()
+}
+
+fn bad_end(offset: u64, reason: &'static str) -> crate::Error {
+    ErrorKind::CorruptEnd { offset, reason }.into()
+}
+
+/// Reads the frame of record `index`, checking it against `header`; damage
+/// is reported as [`ErrorKind::CorruptFrame`] (or [`ErrorKind::CorruptEnd`]
+/// for an end record).
 pub(crate) fn read_frame<R: Read>(
     input: &mut Input<R>,
     header: &Header,
     index: u64,
 ) -> Result<Frame> {
     let offset = input.offset();
+    let mut end = false;
+    read_frame_fields(input, header, index, offset, &mut end).map_err(|e| match e.kind() {
+        ErrorKind::CorruptStream { reason, .. } if end => bad_end(offset, reason),
+        ErrorKind::CorruptStream { reason, .. } => bad_frame(index, offset, reason),
+        _ => e,
+    })
+}
+
+fn read_frame_fields<R: Read>(
+    input: &mut Input<R>,
+    header: &Header,
+    index: u64,
+    offset: u64,
+    end: &mut bool,
+) -> Result<Frame> {
     input.start_capture();
     let kind = input.byte()?;
     let frame = match kind {
         KIND_END | KIND_INDEXED_END => {
+            *end = true;
             let block_count = input.vint("malformed block count in the end record")?;
             let total_raw = input.vint("malformed total length in the end record")?;
             Frame::End {
@@ -172,21 +203,32 @@ pub(crate) fn read_frame<R: Read>(
                 payload_crc,
             })
         }
-        _ => return Err(bad_block(index, "unknown record kind")),
+        _ => return Err(bad_frame(index, offset, "unknown record kind")),
     };
     let expected = frame_check(index, input.captured());
     if input.u32_le()? != expected {
-        return Err(bad_block(index, "frame check mismatch"));
+        return Err(match frame {
+            Frame::End { .. } => bad_end(offset, "end record check mismatch"),
+            Frame::Block(_) => bad_frame(
+                index,
+                offset,
+                "frame check mismatch (damaged, or a block moved, dropped or repeated)",
+            ),
+        });
     }
     if let Frame::Block(b) = &frame {
         if b.raw_len == 0 {
-            return Err(bad_block(index, "empty block"));
+            return Err(bad_frame(index, offset, "empty block"));
         }
         if b.raw_len > header.block_size {
-            return Err(bad_block(index, "raw length above the block size"));
+            return Err(bad_frame(index, offset, "raw length above the block size"));
         }
         if b.kind == BlockKind::Coded && b.payload_len >= b.raw_len {
-            return Err(bad_block(index, "coded payload not shorter than the block"));
+            return Err(bad_frame(
+                index,
+                offset,
+                "coded payload not shorter than the block",
+            ));
         }
     }
     Ok(frame)

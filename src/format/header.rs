@@ -67,11 +67,19 @@ pub(crate) fn encode_header(preset: &Preset, block_size: u64) -> Vec<u8> {
 }
 
 fn corrupt(offset: u64, reason: &'static str) -> crate::Error {
-    ErrorKind::CorruptStream { offset, reason }.into()
+    ErrorKind::CorruptHeader { offset, reason }.into()
 }
 
-/// Reads and checks a header.
+/// Reads and checks a header; damage is reported as
+/// [`ErrorKind::CorruptHeader`].
 pub(crate) fn read_header<R: Read>(input: &mut Input<R>, limits: &DecodeLimits) -> Result<Header> {
+    read_fields(input, limits).map_err(|e| match e.kind() {
+        ErrorKind::CorruptStream { offset, reason } => corrupt(*offset, reason),
+        _ => e,
+    })
+}
+
+fn read_fields<R: Read>(input: &mut Input<R>, limits: &DecodeLimits) -> Result<Header> {
     let start = input.offset();
     input.start_capture();
     for &m in &MAGIC {

@@ -147,7 +147,7 @@ impl<R: Read> Inspector<R> {
     ///
     /// [`ErrorKind::BadMagic`], [`ErrorKind::UnsupportedVersion`],
     /// [`ErrorKind::UnknownPreset`], [`ErrorKind::LimitExceeded`],
-    /// [`ErrorKind::CorruptStream`] (a damaged header),
+    /// [`ErrorKind::CorruptHeader`] (a damaged header),
     /// [`ErrorKind::Truncated`], or the reader's I/O error.
     pub fn with_limits(reader: R, limits: &DecodeLimits) -> Result<Self> {
         let mut input = Input::new(reader);
@@ -198,9 +198,9 @@ impl<R: Read> Inspector<R> {
                     index_len: 0,
                 });
                 if block_count != self.index || total_raw != self.raw_offset {
-                    return Err(ErrorKind::CorruptBlock {
-                        index: self.index,
-                        reason: "end record differs from the blocks read",
+                    return Err(ErrorKind::CorruptEnd {
+                        offset,
+                        reason: "it differs from the blocks read",
                     }
                     .into());
                 }

@@ -141,6 +141,7 @@ impl<R: Read> ContainerReader<R> {
             }
             self.header()?;
             let header = self.header.as_ref().expect("header was just read");
+            let at = self.input.offset();
             match read_frame(&mut self.input, header, self.index)? {
                 Frame::Block(frame) => {
                     check(
@@ -156,16 +157,16 @@ impl<R: Read> ContainerReader<R> {
                     indexed,
                 } => {
                     if block_count != self.index {
-                        return Err(ErrorKind::CorruptBlock {
-                            index: self.index,
-                            reason: "end record block count differs from the blocks read",
+                        return Err(ErrorKind::CorruptEnd {
+                            offset: at,
+                            reason: "its block count differs from the blocks read",
                         }
                         .into());
                     }
                     if total_raw != self.total {
-                        return Err(ErrorKind::CorruptBlock {
-                            index: self.index,
-                            reason: "end record total differs from the bytes read",
+                        return Err(ErrorKind::CorruptEnd {
+                            offset: at,
+                            reason: "its total differs from the bytes read",
                         }
                         .into());
                     }

@@ -7,7 +7,8 @@
 //! something only one side has — produces streams that decode into garbage
 //! some way after the real mistake, which is hard to trace.
 //!
-//! [`audit_model`] builds two instances through a factory closure, codes the
+//! [`audit_model`] builds two instances through a factory closure (the
+//! first call's for encoding, the second call's for decoding), codes the
 //! given symbols with one and decodes them with the other, and reports the
 //! **first step** at which anything differs, with what differed:
 //!
@@ -313,6 +314,14 @@ fn decoder_step<M: Model + ?Sized>(
 /// Codes `symbols` with one instance from `factory` and decodes them with
 /// another, reporting the first step at which the two differ.
 ///
+/// `factory` is called at most twice, in this order: the **first** call
+/// builds the encoding instance, which codes the symbols; only then does
+/// the **second** call build the decoding copy, which decodes them (no
+/// second call when the coder itself fails to finish the stream). A
+/// factory that counts its calls can thus tell the sides apart (the example
+/// below gives only the decoding copy a head start). In a [`Divergence`],
+/// [`Side::Encoder`] is the first instance and [`Side::Decoder`] the second.
+///
 /// See the [module documentation](self) for what is checked. The audit never
 /// panics on a misbehaving model (unless the model itself panics) and reports
 /// every problem in the [`AuditReport`].
@@ -336,7 +345,7 @@ fn decoder_step<M: Model + ?Sized>(
 ///         made += 1;
 ///         let mut m = AdaptiveModel::new(8).unwrap();
 ///         if made == 2 {
-///             m.update(0); // only the decoding instance was "warmed up"
+///             m.update(0); // the second call: only the decoding copy is "warmed up"
 ///         }
 ///         m
 ///     },

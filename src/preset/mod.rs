@@ -41,32 +41,20 @@
 //! id, name, parameter list and payload layout never change once released:
 //! a new behaviour gets a new id.
 //!
-//! # Adding a preset
+//! # Textual form
 //!
-//! A preset is a [`PresetKind`] variant plus one match arm in each of
-//! [`PresetKind::id`], [`PresetKind::name`], [`PresetKind::summary`],
-//! [`PresetKind::param_specs`], `check_params`, [`Preset::encode_block`],
-//! `Preset::decode_into` (which [`Preset::decode_block`] calls) and
-//! [`Preset::memory_needed`], and an entry in
-//! [`PresetKind::ALL`] and in `NAME_LIST`. Parameters are up to
-//! [`MAX_PARAMS`] integers described by [`ParamSpec`]s (name, default,
-//! range); a block codec with functions such as
-//! `encode(data, &params) -> Result<Vec<u8>>`,
-//! `decode(coded, raw_len, &params) -> Result<Vec<u8>>` and
-//! `memory_needed(&params, block_size) -> u64` plugs straight into those
-//! arms, reading its parameters with [`Preset::params`] (a `decode` that returns a `Vec`
-//! is copied into `decode_into`'s slice after checking its length). Its payload layout goes into
-//! `docs/FORMAT.md`. The tests iterate [`Preset::all`], so a new preset is
-//! covered by the container round-trip and damage tests automatically.
-//! The memory a codec reports must cover everything decoding one block
-//! allocates besides the payload and output buffers (copies, model state):
-//! the `decode_container` fuzz checks measure the peak against it.
+//! A preset is written `name` or `name:param=value,...`
+//! (`mix:memory_mib=32`): [`Preset`]'s [`Display`](core::fmt::Display)
+//! prints it with every parameter, and [`FromStr`](core::str::FromStr) (and
+//! [`Preset::from_name`]) read it back, a name alone or any subset of
+//! parameters standing for the defaults of the rest.
 
 mod adaptive_codec;
 mod cm_codec;
 mod lanes;
 mod static_codec;
 mod stepwise_codec;
+mod text;
 
 use alloc::vec::Vec;
 use core::fmt;
@@ -384,10 +372,10 @@ impl PresetKind {
 /// let mut back = Vec::new();
 /// preset.decode_block(&payload, reading.len(), &mut back)?;
 /// assert_eq!(back, reading);
-/// assert_eq!(
-///     preset.to_string(),
-///     "adaptive(lanes=32, log2_total=12, period=4096, limit=4096)"
-/// );
+/// // One textual form, printed and parsed.
+/// let text = preset.to_string();
+/// assert_eq!(text, "adaptive:lanes=32,log2_total=12,period=4096,limit=4096");
+/// assert_eq!(text.parse::<Preset>()?, preset);
 /// # Ok(())
 /// # }
 /// ```
@@ -414,12 +402,15 @@ impl Preset {
         Preset { kind, values }
     }
 
-    /// The preset called `name`, with default parameters.
+    /// The preset named by `text` in the [textual form](self#textual-form):
+    /// `name` (default parameters) or `name:param=value,...` (the others at
+    /// their defaults); the same as `text.parse()`.
     ///
     /// # Errors
     ///
-    /// [`ErrorKind::InvalidParameter`] for an unknown name; its message lists
-    /// the valid ones.
+    /// [`ErrorKind::InvalidParameter`] for an unknown name (its message
+    /// lists the valid ones), a malformed parameter, an unknown one, or a
+    /// value out of range or not fitting with the others.
     ///
     /// # Example
     ///
@@ -427,11 +418,13 @@ impl Preset {
     /// use subrange::preset::Preset;
     ///
     /// assert_eq!(Preset::from_name("static").unwrap().id(), 1);
+    /// let mix = Preset::from_name("mix:memory_mib=32").unwrap();
+    /// assert_eq!(mix.param("memory_mib"), Some(32));
     /// let err = Preset::from_name("fastest").unwrap_err();
     /// assert!(err.to_string().contains("static, adaptive"));
     /// ```
-    pub fn from_name(name: &str) -> Result<Self> {
-        PresetKind::from_name(name).map(Preset::new)
+    pub fn from_name(text: &str) -> Result<Self> {
+        text::parse(text)
     }
 
     /// Rebuilds a preset from a header's id and parameter list.
@@ -749,20 +742,6 @@ impl fmt::Debug for Preset {
     }
 }
 
-/// `name(param=value, ...)`.
-impl fmt::Display for Preset {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(f, "{}(", self.name())?;
-        for (i, (spec, v)) in self.param_specs().iter().zip(self.params()).enumerate() {
-            if i > 0 {
-                f.write_str(", ")?;
-            }
-            write!(f, "{}={}", spec.name, v)?;
-        }
-        f.write_str(")")
-    }
-}
-
 fn out_of_range(name: &'static str) -> crate::Error {
     ErrorKind::InvalidParameter {
         name,
@@ -882,7 +861,7 @@ mod tests {
         }
         assert_eq!(
             Preset::default().to_string(),
-            "static(lanes=32, log2_total=12)"
+            "static:lanes=32,log2_total=12"
         );
     }
 }

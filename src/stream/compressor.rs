@@ -7,9 +7,14 @@ use crate::stream::Options;
 
 /// Compresses everything written to it into a container on the inner writer.
 ///
-/// Bytes are gathered into blocks of the configured size; each full block is
-/// coded and written out, so memory stays a few block sizes whatever the
-/// stream length. Call [`finish`](Compressor::finish) (or
+/// Bytes are gathered into blocks of the configured size; each time
+/// [`Options::get_blocks_in_flight`] blocks are full (by default as many as
+/// threads code them) they are coded and written out, so memory stays
+/// within [`Options::memory_bound`] whatever the stream length, and output
+/// starts after that many blocks. Options whose output a default reader
+/// could not decode ([`Options::check`]) fail the first write, flush or
+/// finish with [`ErrorKind::LimitExceeded`](crate::ErrorKind::LimitExceeded)
+/// inside the `io::Error`, and nothing is written. Call [`finish`](Compressor::finish) (or
 /// [`try_finish`](Compressor::try_finish)) at the end: it writes the last
 /// block and the end record. Dropping an unfinished compressor finishes it
 /// on a best-effort basis, ignoring errors — except while the thread is

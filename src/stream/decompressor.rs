@@ -18,9 +18,13 @@ use crate::stream::DecodeOptions;
 ///
 /// [`Preset::memory_needed`]: crate::preset::Preset::memory_needed
 ///
-/// Errors come as [`io::Error`]s whose source is the crate's
-/// [`Error`](crate::Error): `InvalidData` for damage, `UnexpectedEof` for
-/// truncation. After an error every later read fails too.
+/// Errors come as [`io::Error`]s whose
+/// [`source`](std::error::Error::source) is the crate's
+/// [`Error`](crate::Error) (`err.source().and_then(|s|
+/// s.downcast_ref::<subrange::Error>())`, or `subrange::Error::from(err)`
+/// to take it back): `InvalidData` for damage, `UnexpectedEof` for
+/// truncation, with the crate error's message. After an error every later
+/// read fails too.
 ///
 /// # Example
 ///

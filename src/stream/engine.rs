@@ -1,9 +1,10 @@
 //! The compressing engine shared by [`Compressor`](super::Compressor),
 //! [`compress`](super::compress) and [`compress_reader`](super::compress_reader).
 //!
-//! Raw bytes collect in a buffer of `batch` blocks; when it is full, its
-//! blocks are coded (on several threads when there are several, `batch`
-//! being twice the thread count) and their records written in order. A write
+//! Raw bytes collect in a buffer of `batch` blocks (the blocks in flight of
+//! [`Options::get_blocks_in_flight`], by default the thread count); when it
+//! is full, its blocks are coded (on several threads when there are
+//! several) and their records written in order. A write
 //! of at least a whole batch while the buffer is empty is coded straight from
 //! the caller's slice. Block boundaries fall at multiples of the block size
 //! from the start of the stream whatever the writes look like, so the output
@@ -14,8 +15,11 @@
 //! length: about four bytes) is kept for the block index written after the
 //! end record.
 //!
-//! Invariants: memory is `batch` blocks of input plus their coded records,
-//! and the index entries, whatever the stream length; the header goes out before the first record,
+//! Invariants: memory is `batch` blocks of input plus their coded records
+//! and the models coding them (within [`Options::memory_bound`]), and the
+//! index entries, whatever the stream length; options the default reader
+//! could not decode ([`Options::check`]) fail the first write, before
+//! anything is written; the header goes out before the first record,
 //! the end record after the last; after a failed write to the inner writer
 //! nothing more is written (the output is already broken).
 
@@ -51,6 +55,8 @@ pub(crate) struct Engine<W: Write> {
     total_in: u64,
     total_out: u64,
     state: State,
+    /// Why these options cannot be written, reported by the first write.
+    refused: Option<crate::Error>,
 }
 
 fn broken() -> io::Error {
@@ -60,18 +66,15 @@ fn broken() -> io::Error {
 impl<W: Write> Engine<W> {
     pub(crate) fn new(inner: W, options: &Options) -> Self {
         let workers = Workers::new(options.get_threads());
-        let batch = if workers.count() > 1 {
-            2 * workers.count()
-        } else {
-            1
-        };
-        let block_size = options.get_block_size();
+        let batch = options.get_blocks_in_flight().max(1);
+        // At most 64 MiB (`Options::block_size` checks it).
+        let block_size = usize::try_from(options.get_block_size()).unwrap_or(usize::MAX);
         Engine {
             inner: Some(inner),
             preset: *options.get_preset(),
             block_size,
             workers,
-            batch_bytes: block_size * batch,
+            batch_bytes: block_size.saturating_mul(batch),
             buf: Vec::new(),
             header_written: false,
             index_policy: options.get_block_index(),
@@ -81,6 +84,18 @@ impl<W: Write> Engine<W> {
             total_in: 0,
             total_out: 0,
             state: State::Open,
+            refused: options.check().err(),
+        }
+    }
+
+    /// Fails (for good) when the options cannot be written.
+    fn admit(&mut self) -> io::Result<()> {
+        match self.refused.take() {
+            Some(e) => {
+                self.state = State::Failed;
+                Err(e.into())
+            }
+            None => Ok(()),
         }
     }
 
@@ -113,6 +128,7 @@ impl<W: Write> Engine<W> {
     }
 
     pub(crate) fn write(&mut self, data: &[u8]) -> io::Result<usize> {
+        self.admit()?;
         if !self.is_open() {
             return Err(broken());
         }
@@ -204,6 +220,7 @@ impl<W: Write> Engine<W> {
 
     /// Codes the buffered bytes (ending a block early) and flushes.
     pub(crate) fn flush(&mut self) -> io::Result<()> {
+        self.admit()?;
         if !self.is_open() {
             return match self.state {
                 State::Finished => Ok(()),
@@ -220,6 +237,7 @@ impl<W: Write> Engine<W> {
 
     /// Writes what is buffered and the end record; idempotent.
     pub(crate) fn finish(&mut self) -> io::Result<()> {
+        self.admit()?;
         match self.state {
             State::Finished => return Ok(()),
             State::Failed => return Err(broken()),
@@ -250,6 +268,7 @@ impl<W: Write> Engine<W> {
     /// parallel pass (for callers that hold the whole input and output in
     /// memory anyway), then finishes.
     pub(crate) fn finish_with(&mut self, data: &[u8]) -> io::Result<()> {
+        self.admit()?;
         if !self.is_open() {
             return Err(broken());
         }

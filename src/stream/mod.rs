@@ -3,7 +3,8 @@
 //! - [`Compressor`]: an [`io::Write`](std::io::Write) that compresses into
 //!   an inner writer; [`Decompressor`]: an [`io::Read`](std::io::Read) that
 //!   decompresses from an inner reader. Both keep O(block size) memory
-//!   whatever the stream length.
+//!   whatever the stream length (the compressor's bound:
+//!   [`Options::memory_bound`]).
 //! - [`compress`] / [`decompress`]: whole buffers in memory;
 //!   [`compress_reader`] / [`decompress_reader`]: reader to writer.
 //! - [`IndexedReader`]: an [`io::Read`](std::io::Read) +
@@ -57,7 +58,7 @@ pub use oneshot::{
     compress, compress_reader, decompress, decompress_reader, decompress_with_limits,
     decompress_with_options, Totals,
 };
-pub use options::{DecodeOptions, Options, DEFAULT_BLOCK_SIZE, MIN_BLOCK_SIZE};
+pub use options::{DecodeOptions, Options, DEFAULT_BLOCK_SIZE, MAX_THREADS, MIN_BLOCK_SIZE};
 
 #[allow(dead_code)]
 fn _adapters_are_send_and_sync() {

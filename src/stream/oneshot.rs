@@ -9,7 +9,9 @@
 use std::io::{self, Read, Write};
 use std::vec::Vec;
 
-use crate::error::{Error, ErrorKind, Result};
+#[cfg(doc)]
+use crate::error::ErrorKind;
+use crate::error::{Error, Result};
 use crate::format::{
     check_stored, decode_payload_into, BlockFrame, ContainerReader, DecodeLimits, Kind, Payload,
 };
@@ -20,19 +22,16 @@ use crate::stream::{Compressor, DecodeOptions, Decompressor, Options};
 
 /// Turns an I/O error back into the crate error it carries, if it does.
 pub(crate) fn from_io(e: io::Error) -> Error {
-    if e.get_ref().is_some_and(|inner| inner.is::<Error>()) {
-        let inner = e.into_inner().expect("checked above");
-        return *inner.downcast::<Error>().expect("checked above");
-    }
-    Error::from(ErrorKind::Io(e))
+    Error::from(e)
 }
 
 /// Compresses `data` into a container in memory.
 ///
 /// # Errors
 ///
-/// None are expected for valid options (the error type is shared with the
-/// rest of the crate).
+/// [`ErrorKind::LimitExceeded`] when a default reader could not decode the
+/// output ([`Options::check`]; raise [`Options::max_decoder_memory`] on
+/// purpose to write it anyway).
 ///
 /// # Example
 ///
@@ -50,7 +49,9 @@ pub(crate) fn from_io(e: io::Error) -> Error {
 pub fn compress(data: &[u8], options: &Options) -> Result<Vec<u8>> {
     // Room for the worst case (every block stored), so the output never
     // moves; pages not written are never touched.
-    let blocks = data.len() / options.get_block_size() + 1;
+    options.check()?;
+    let block_size = usize::try_from(options.get_block_size()).unwrap_or(usize::MAX);
+    let blocks = data.len() / block_size + 1;
     // A frame of up to 24 bytes and an index entry of up to 20 per block.
     let bound = data.len() + 44 * blocks + 64;
     let mut engine = Engine::new(Vec::with_capacity(bound), options);
@@ -190,13 +191,14 @@ pub struct Totals {
 
 /// Compresses everything `reader` gives into a container on `writer`.
 ///
-/// With several threads, batches of twice as many blocks as threads are
-/// read and coded at once; memory stays bounded by that batch whatever the
+/// Batches of [`Options::get_blocks_in_flight`] blocks are read and coded
+/// at once; memory stays within [`Options::memory_bound`] whatever the
 /// input length. The writer is flushed at the end.
 ///
 /// # Errors
 ///
-/// The reader's or writer's I/O error ([`ErrorKind::Io`]).
+/// [`ErrorKind::LimitExceeded`] as for [`compress`], before anything is
+/// read or written; the reader's or writer's I/O error ([`ErrorKind::Io`]).
 ///
 /// # Example
 ///
@@ -218,6 +220,7 @@ pub fn compress_reader<R: Read, W: Write>(
     writer: W,
     options: &Options,
 ) -> Result<Totals> {
+    options.check()?;
     let mut c = Compressor::new(writer, options);
     let mut buf = std::vec![0u8; 256 << 10];
     loop {

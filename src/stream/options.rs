@@ -1,16 +1,53 @@
 //! Settings for compressing and decompressing.
+//!
+//! # What the writer writes, the reader reads
+//!
+//! A reader with default [`DecodeLimits`] decodes everything a writer with
+//! default [`Options`] writes, and the writer refuses — with
+//! [`ErrorKind::LimitExceeded`], before it writes anything — options whose
+//! output the default reader would refuse. The one declared size where they
+//! could disagree is the memory needed to decode one block
+//! ([`Preset::memory_needed`] of the block size), which grows with the
+//! block size and with some preset parameters (`order2` at 64 MiB blocks,
+//! `mix` with a large `memory_mib`). A caller who wants such output raises
+//! [`Options::max_decoder_memory`] on purpose, and then every reader of it
+//! needs [`DecodeLimits::max_memory`] raised to match. Block sizes agree by
+//! construction: both sides allow up to [`MAX_BLOCK_SIZE`].
+//!
+//! # Memory of the compressor
+//!
+//! A [`Compressor`](crate::stream::Compressor) (and [`compress_reader`])
+//! holds at most [`Options::blocks_in_flight`] blocks at once: raw bytes
+//! gathered for them, then their coding (each on a thread with its model)
+//! and their coded records until written. Its memory stays within
+//! [`Options::memory_bound`], `blocks in flight × (block size +
+//! memory_needed(block size))`, whatever the stream length; by default the
+//! blocks in flight are the thread count, so output starts once that many
+//! blocks were written. Threads are capped at [`MAX_THREADS`].
+//!
+//! (The one-shot [`compress`] holds its whole input and output anyway and
+//! codes all blocks in one parallel pass.)
+//!
+//! [`compress_reader`]: crate::stream::compress_reader
+//! [`compress`]: crate::stream::compress
 
 use crate::error::{ErrorKind, Result};
 use crate::format::{DecodeLimits, IndexPolicy, TrailingData, MAX_BLOCK_SIZE};
 use crate::preset::Preset;
 
 /// Smallest block size [`Options::block_size`] accepts.
-pub const MIN_BLOCK_SIZE: usize = 16;
+pub const MIN_BLOCK_SIZE: u64 = 16;
 
 /// Block size used unless set: 1 MiB.
-pub const DEFAULT_BLOCK_SIZE: usize = 1 << 20;
+pub const DEFAULT_BLOCK_SIZE: u64 = 1 << 20;
 
-/// How to compress: preset, block size, threads.
+/// Most threads [`Options::threads`] and [`DecodeOptions::threads`] use
+/// (larger counts are capped): far above the cores of the machines this is
+/// meant for, so that a mistyped count cannot start thousands of threads.
+pub const MAX_THREADS: usize = 256;
+
+/// How to compress: preset, block size, threads, blocks in flight, and the
+/// memory a reader may need.
 ///
 /// # Example
 ///
@@ -31,9 +68,11 @@ pub const DEFAULT_BLOCK_SIZE: usize = 1 << 20;
 #[non_exhaustive]
 pub struct Options {
     preset: Preset,
-    block_size: usize,
+    block_size: u64,
     threads: usize,
     index: IndexPolicy,
+    in_flight: usize,
+    decoder_memory: u64,
 }
 
 impl Default for Options {
@@ -43,12 +82,15 @@ impl Default for Options {
             block_size: DEFAULT_BLOCK_SIZE,
             threads: 0,
             index: IndexPolicy::Auto,
+            in_flight: 0,
+            decoder_memory: DecodeLimits::new().memory_limit(),
         }
     }
 }
 
 impl Options {
-    /// The defaults: the `static` preset, 1 MiB blocks, all cores.
+    /// The defaults: the `static` preset, 1 MiB blocks, all cores, as many
+    /// blocks in flight as threads, output the default reader decodes.
     pub fn new() -> Self {
         Self::default()
     }
@@ -70,8 +112,11 @@ impl Options {
 
     /// Sets the block size: the raw bytes coded as one independent block
     /// (default 1 MiB). Larger blocks code a little better and need more
-    /// memory (a few times the block size, per thread); smaller ones limit
-    /// the loss from a damaged block and the delay before output appears.
+    /// memory (see [`memory_bound`](Options::memory_bound)); smaller ones
+    /// limit the loss from a damaged block and the delay before output
+    /// appears. Whether the default reader can decode the blocks of a
+    /// preset at this size is checked when compressing (see
+    /// [`check`](Options::check)).
     ///
     /// # Errors
     ///
@@ -86,8 +131,8 @@ impl Options {
     /// assert_eq!(opts.get_block_size(), 65536);
     /// assert!(opts.block_size(1).is_err());
     /// ```
-    pub fn block_size(&mut self, bytes: usize) -> Result<&mut Self> {
-        if bytes < MIN_BLOCK_SIZE || bytes as u64 > MAX_BLOCK_SIZE {
+    pub fn block_size(&mut self, bytes: u64) -> Result<&mut Self> {
+        if !(MIN_BLOCK_SIZE..=MAX_BLOCK_SIZE).contains(&bytes) {
             return Err(ErrorKind::InvalidParameter {
                 name: "block_size",
                 reason: "must be 16 bytes ..= 64 MiB",
@@ -99,8 +144,9 @@ impl Options {
     }
 
     /// Sets how many threads code blocks: 0 (the default) uses all cores,
-    /// 1 codes on the caller's thread. The output is identical whatever the
-    /// count. Without the `parallel` feature this is ignored.
+    /// 1 codes on the caller's thread; counts above [`MAX_THREADS`] are
+    /// capped at it. The output is identical whatever the count. Without
+    /// the `parallel` feature this is ignored.
     ///
     /// # Example
     ///
@@ -108,9 +154,11 @@ impl Options {
     /// let mut opts = subrange::Options::new();
     /// opts.threads(2);
     /// assert_eq!(opts.get_threads(), 2);
+    /// opts.threads(100_000);
+    /// assert_eq!(opts.get_threads(), subrange::stream::MAX_THREADS);
     /// ```
     pub fn threads(&mut self, threads: usize) -> &mut Self {
-        self.threads = threads;
+        self.threads = threads.min(MAX_THREADS);
         self
     }
 
@@ -152,19 +200,122 @@ impl Options {
         self.index
     }
 
+    /// Sets how many blocks a [`Compressor`](crate::stream::Compressor)
+    /// holds at once (gathered, being coded, or coded and not yet written):
+    /// 0 (the default) means as many as the threads that code them. Output
+    /// reaches the inner writer each time that many blocks are complete,
+    /// and memory stays within [`memory_bound`](Options::memory_bound).
+    /// Fewer blocks than threads leave threads idle; more even out blocks
+    /// that take unequal times. The output is identical whatever the count.
+    ///
+    /// # Example
+    ///
+    /// ```
+    /// let mut opts = subrange::Options::new();
+    /// opts.threads(4).blocks_in_flight(6);
+    /// assert_eq!(opts.get_blocks_in_flight(), 6);
+    /// opts.blocks_in_flight(0);
+    /// assert_eq!(opts.get_blocks_in_flight(), 4);
+    /// ```
+    pub fn blocks_in_flight(&mut self, blocks: usize) -> &mut Self {
+        self.in_flight = blocks;
+        self
+    }
+
+    /// Sets the most memory a reader may need to decode one block of the
+    /// output ([`Preset::memory_needed`] of the block size). The default is
+    /// the default reader's limit ([`DecodeLimits::memory_limit`], 256 MiB),
+    /// so that default readers decode whatever is written. Raising it on
+    /// purpose allows larger blocks or model memory; readers of that output
+    /// then need [`DecodeLimits::max_memory`] raised as far.
+    ///
+    /// # Example
+    ///
+    /// ```
+    /// use subrange::preset::Preset;
+    /// use subrange::{ErrorKind, Options};
+    ///
+    /// let mut opts = Options::new();
+    /// opts.preset(Preset::from_name("order2").unwrap()).block_size(64 << 20).unwrap();
+    /// // A default reader could not decode it: refused.
+    /// let err = opts.check().unwrap_err();
+    /// assert!(matches!(err.kind(), ErrorKind::LimitExceeded { .. }));
+    /// // Raised on purpose.
+    /// opts.max_decoder_memory(512 << 20);
+    /// assert!(opts.check().is_ok());
+    /// ```
+    pub fn max_decoder_memory(&mut self, bytes: u64) -> &mut Self {
+        self.decoder_memory = bytes;
+        self
+    }
+
+    /// Checks that a reader within [`max_decoder_memory`](Options::max_decoder_memory)
+    /// decodes the output of these options. Compressing checks it before
+    /// writing anything.
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::LimitExceeded`] (what: "memory needed per block") when
+    /// the preset at this block size needs more.
+    pub fn check(&self) -> Result<()> {
+        crate::format::check_limit(
+            "memory needed per block",
+            self.preset.memory_needed(self.block_size),
+            self.decoder_memory,
+        )
+    }
+
+    /// An upper bound of the memory a [`Compressor`](crate::stream::Compressor)
+    /// with these options holds, whatever the stream length: for each block
+    /// in flight, its raw bytes plus at most what decoding a block needs
+    /// ([`Preset::memory_needed`]: the coded bytes, copies and the model),
+    /// that is `get_blocks_in_flight() × (block size + memory_needed(block
+    /// size))`.
+    ///
+    /// # Example
+    ///
+    /// ```
+    /// let mut opts = subrange::Options::new();
+    /// opts.threads(2).block_size(1 << 20).unwrap();
+    /// let one = (1 << 20) + opts.get_preset().memory_needed(1 << 20);
+    /// assert_eq!(opts.memory_bound(), 2 * one);
+    /// ```
+    pub fn memory_bound(&self) -> u64 {
+        let blocks = u64::try_from(self.get_blocks_in_flight()).unwrap_or(u64::MAX);
+        self.preset
+            .memory_needed(self.block_size)
+            .saturating_add(self.block_size)
+            .saturating_mul(blocks)
+    }
+
     /// The preset in force.
     pub fn get_preset(&self) -> &Preset {
         &self.preset
     }
 
     /// The block size in force.
-    pub fn get_block_size(&self) -> usize {
+    pub fn get_block_size(&self) -> u64 {
         self.block_size
     }
 
     /// The thread count in force (0: all cores).
     pub fn get_threads(&self) -> usize {
         self.threads
+    }
+
+    /// The blocks a compressor holds at once: the count set, or when none
+    /// is, the threads that code them (all cores for a thread count of 0;
+    /// one without the `parallel` feature).
+    pub fn get_blocks_in_flight(&self) -> usize {
+        match self.in_flight {
+            0 => crate::stream::workers::Workers::new(self.threads).count(),
+            n => n,
+        }
+    }
+
+    /// The most memory a reader may need per block of the output.
+    pub fn get_max_decoder_memory(&self) -> u64 {
+        self.decoder_memory
     }
 }
 
@@ -231,8 +382,8 @@ impl DecodeOptions {
 
     /// Sets how many threads the one-shot [`decompress_with_options`]
     /// decodes blocks on (0, the default: all cores; 1: the caller's
-    /// thread). The streaming [`Decompressor`] decodes on the caller's
-    /// thread.
+    /// thread; counts above [`MAX_THREADS`] are capped at it). The
+    /// streaming [`Decompressor`] decodes on the caller's thread.
     ///
     /// [`decompress_with_options`]: crate::stream::decompress_with_options
     /// [`Decompressor`]: crate::stream::Decompressor
@@ -245,7 +396,7 @@ impl DecodeOptions {
     /// assert_eq!(opts.get_threads(), 1);
     /// ```
     pub fn threads(&mut self, threads: usize) -> &mut Self {
-        self.threads = threads;
+        self.threads = threads.min(MAX_THREADS);
         self
     }
 

@@ -55,6 +55,7 @@ impl Workers {
     pub(crate) fn new(threads: usize) -> Self {
         let global = rayon::current_num_threads();
         let count = if threads == 0 { global } else { threads };
+        let count = count.min(crate::stream::MAX_THREADS);
         Workers {
             count: count.max(1),
             own_pool: count > 1 && count != global,

@@ -158,10 +158,7 @@ impl Read for Chunked<'_> {
 /// The crate error behind an I/O error, as text (the form both paths can
 /// be compared in).
 fn io_text(e: &io::Error) -> String {
-    match e
-        .get_ref()
-        .and_then(|inner| inner.downcast_ref::<subrange::Error>())
-    {
+    match std::error::Error::source(e).and_then(|inner| inner.downcast_ref::<subrange::Error>()) {
         Some(inner) => inner.to_string(),
         None => format!("I/O error without a crate error: {e}"),
     }

@@ -82,10 +82,10 @@ fn preset_from(index: u8, params: [u8; 2]) -> Preset {
     preset
 }
 
-fn block_size_from(mode: u8, lo: u8, hi: u8) -> usize {
+fn block_size_from(mode: u8, lo: u8, hi: u8) -> u64 {
     match mode % 4 {
-        0 => MIN_BLOCK_SIZE + usize::from(lo),
-        1 => MIN_BLOCK_SIZE + usize::from(u16::from_le_bytes([lo, hi])),
+        0 => MIN_BLOCK_SIZE + u64::from(lo),
+        1 => MIN_BLOCK_SIZE + u64::from(u16::from_le_bytes([lo, hi])),
         2 => 1 << (4 + lo % 17),
         _ => DEFAULT_BLOCK_SIZE,
     }
@@ -146,7 +146,7 @@ pub fn check(input: &[u8]) {
     };
     let preset = preset_from(head[0], [head[6], head[7]]);
     let block_size = block_size_from(head[1], head[2], head[3]);
-    let max = max_data(preset.kind()).min(MAX_BLOCKS.saturating_mul(block_size));
+    let max = max_data(preset.kind()).min(MAX_BLOCKS.saturating_mul(block_size as usize));
     let data = &data[..data.len().min(max)];
     let threads = 1 + usize::from(head[4] & 1);
     let write_mode = head[4] >> 1 & 3;
@@ -154,8 +154,17 @@ pub fn check(input: &[u8]) {
     let max_write = 1 + usize::from(head[5]) * 17;
 
     // Parameters a reader with default limits (256 MiB) would refuse are
-    // not round-trip cases: the decoder rightly says "limit exceeded".
-    if preset.memory_needed(block_size as u64) > 256 << 20 {
+    // not round-trip cases: the writer refuses them with default options.
+    if preset.memory_needed(block_size) > 256 << 20 {
+        let mut opts = Options::new();
+        opts.preset(preset)
+            .block_size(block_size)
+            .expect("in range");
+        let err = compress(data, &opts).unwrap_err();
+        assert!(
+            matches!(err.kind(), ErrorKind::LimitExceeded { .. }),
+            "{err}"
+        );
         return;
     }
     pool::with_threads(threads, || {
@@ -168,7 +177,7 @@ pub fn check(input: &[u8]) {
 fn round_trip(
     data: &[u8],
     preset: Preset,
-    block_size: usize,
+    block_size: u64,
     threads: usize,
     write_mode: u8,
     seed: u32,
@@ -190,7 +199,7 @@ fn round_trip(
         "one-shot round trip differs ({preset}, block {block_size})"
     );
 
-    let blocks = data.len().div_ceil(block_size) as u64;
+    let blocks = (data.len() as u64).div_ceil(block_size);
     // Header (at most 59 bytes: 4 + 1 + 5 + 4 + 1 + 8 x 5 + 4), a stored
     // frame of at most 13 bytes per block, an end record of at most 25
     // bytes (docs/FORMAT.md, sections 2 to 4).

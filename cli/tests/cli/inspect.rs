@@ -100,3 +100,23 @@ fn a_foreign_file_is_invalid_input() {
         stderr(&out)
     );
 }
+
+#[test]
+fn the_preset_shown_is_one_compress_accepts() {
+    let dir = Scratch::new("inspect-preset");
+    let packed = container(&dir, "adaptive:period=1024,lanes=4");
+    dir.write("a.sr", &packed);
+    let out = run_in(dir.path(), &["inspect", "a.sr"], None);
+    assert_eq!(code(&out), 0, "{}", stderr(&out));
+    let report = stdout(&out);
+    let shown = report
+        .lines()
+        .find_map(|l| l.trim().strip_prefix("preset"))
+        .unwrap()
+        .trim()
+        .to_string();
+    assert!(shown.starts_with("adaptive:lanes=4,"), "{shown}");
+    // Compressing again with the text shown gives the same container.
+    let again = container(&dir, &shown);
+    assert_eq!(again, packed, "{shown}");
+}

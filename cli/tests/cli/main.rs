@@ -6,5 +6,6 @@ mod bench;
 mod inspect;
 mod roundtrip;
 mod support;
+mod targets;
 mod usage;
 mod window;

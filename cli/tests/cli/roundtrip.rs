@@ -236,3 +236,59 @@ fn preset_parameters_are_recorded_and_checked() {
         stderr(&out)
     );
 }
+
+#[test]
+fn output_a_default_reader_refuses_is_written_only_on_purpose() {
+    let dir = Scratch::new("rt-reader-memory");
+    let data = gauge_text(500);
+    dir.write("levels.csv", &data);
+    // order2 with 64 MiB blocks needs about 260 MiB a block to decode.
+    let args = ["compress", "levels.csv", "-p", "order2", "-b", "64M"];
+    let out = run_in(dir.path(), &args, None);
+    assert_one_line_failure(&out, 2);
+    assert!(stderr(&out).contains("--reader-memory"), "{}", stderr(&out));
+    assert_eq!(dir.entries(), ["levels.csv"]);
+
+    let mut raised = args.to_vec();
+    raised.extend(["--reader-memory", "300M"]);
+    let out = run_in(dir.path(), &raised, None);
+    assert_eq!(code(&out), 0, "{}", stderr(&out));
+    fs::rename(dir.join("levels.csv"), dir.join("original.csv")).unwrap();
+    let out = run_in(dir.path(), &["decompress", "levels.csv.sr"], None);
+    assert_one_line_failure(&out, 3);
+    assert!(stderr(&out).contains("--memory"), "{}", stderr(&out));
+    assert_eq!(dir.entries(), ["levels.csv.sr", "original.csv"]);
+    let out = run_in(
+        dir.path(),
+        &["decompress", "levels.csv.sr", "--memory", "300M"],
+        None,
+    );
+    assert_eq!(code(&out), 0, "{}", stderr(&out));
+    assert_eq!(fs::read(dir.join("levels.csv")).unwrap(), data);
+}
+
+#[test]
+fn decompress_caps_the_output_on_request() {
+    let dir = Scratch::new("rt-output-limit");
+    let data = vec![0u8; 300_000];
+    dir.write("zeros.bin", &data);
+    let out = run_in(dir.path(), &["compress", "zeros.bin", "-b", "64K"], None);
+    assert_eq!(code(&out), 0, "{}", stderr(&out));
+    fs::remove_file(dir.join("zeros.bin")).unwrap();
+    let out = run_in(
+        dir.path(),
+        &["decompress", "zeros.bin.sr", "--output-limit", "200K"],
+        None,
+    );
+    assert_one_line_failure(&out, 3);
+    assert!(stderr(&out).contains("--output-limit"), "{}", stderr(&out));
+    // Nothing written, not even the blocks below the cap.
+    assert_eq!(dir.entries(), ["zeros.bin.sr"]);
+    let out = run_in(
+        dir.path(),
+        &["decompress", "zeros.bin.sr", "--output-limit", "300000"],
+        None,
+    );
+    assert_eq!(code(&out), 0, "{}", stderr(&out));
+    assert_eq!(fs::read(dir.join("zeros.bin")).unwrap(), data);
+}
