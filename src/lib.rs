@@ -133,10 +133,13 @@
 //! - `std` (default): `std::io` sinks and sources, [`std::error::Error`]
 //!   conversions, and everything above the coder that needs the standard library.
 //! - `parallel` (default): code container blocks on all cores (rayon).
-//! - `cli` (default): the `subrange` command-line tool's dependencies.
 //!
 //! With `default-features = false` the crate is `no_std` + `alloc`: the coder,
 //! the models, primed messages ([`prime`]) and the MQ coder ([`mq`]).
+//!
+//! The `subrange` command-line tool is a package of its own (`subrange-cli`,
+//! in the repository's `cli/` folder), so none of its dependencies come with
+//! the library.
 #![no_std]
 #![deny(missing_docs, missing_debug_implementations)]
 #![deny(unsafe_code)]

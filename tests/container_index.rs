@@ -358,10 +358,8 @@ fn lying_indexes_are_caught_by_the_cross_checks() {
     let lie = with_entries(&packed, &moved);
     let mut r = IndexedReader::new(Cursor::new(&lie)).unwrap();
     let e = r.read(&mut [0u8; 10]).unwrap_err();
-    let inner = e
-        .get_ref()
-        .unwrap()
-        .downcast_ref::<subrange::Error>()
+    let inner = std::error::Error::source(&e)
+        .and_then(|i| i.downcast_ref::<subrange::Error>())
         .unwrap();
     assert!(is_index_damage(inner), "{inner}");
 

@@ -64,8 +64,7 @@ fn is_limit(e: &subrange::Error) -> bool {
 
 /// The crate error inside an I/O error from the reader.
 fn inner(e: &std::io::Error) -> Option<&subrange::Error> {
-    e.get_ref()
-        .and_then(|i| i.downcast_ref::<subrange::Error>())
+    std::error::Error::source(e).and_then(|i| i.downcast_ref::<subrange::Error>())
 }
 
 /// Runs every check on one input; panics on the first broken promise.
