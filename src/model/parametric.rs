@@ -395,7 +395,8 @@ fn edges(spec: ParametricSpec) -> Vec<u64> {
     let mut last = 0u64;
     for k in 1..n {
         // Edge k − h − 1/2, relative to the mean, in Q16.
-        let edge = ((k as i64 - i64::from(spec.half_width)) << PARAM_BITS) - (1 << (PARAM_BITS - 1));
+        let edge =
+            ((k as i64 - i64::from(spec.half_width)) << PARAM_BITS) - (1 << (PARAM_BITS - 1));
         let d = edge - i64::from(spec.mean_q16);
         let value = cdf_at(spec.family, d, spec.scale_q16).clamp(last, one);
         cdf.push(value);
@@ -514,7 +515,10 @@ mod tests {
             let y = y_q32 as f64 / 4294967296.0;
             let got = exp_neg_q90(y_q32) as f64 / 2f64.powi(90);
             // r is reduced to Q36: a relative error of about 2^-36.
-            assert!((got - (-y).exp()).abs() <= 1e-10 * (-y).exp() + 1e-26, "{y}");
+            assert!(
+                (got - (-y).exp()).abs() <= 1e-10 * (-y).exp() + 1e-26,
+                "{y}"
+            );
         }
     }
 
@@ -577,11 +581,27 @@ mod tests {
         let good = spec(Family::Gaussian, 1.0, 0.0, 4, 8);
         assert!(ParametricTable::new(good).is_ok());
         for bad in [
-            ParametricSpec { scale_q16: 0, ..good },
-            ParametricSpec { log2_total: 0, ..good },
-            ParametricSpec { log2_total: 17, ..good },
-            ParametricSpec { half_width: 128, ..good },
-            ParametricSpec { half_width: 40000, log2_total: 16, ..good },
+            ParametricSpec {
+                scale_q16: 0,
+                ..good
+            },
+            ParametricSpec {
+                log2_total: 0,
+                ..good
+            },
+            ParametricSpec {
+                log2_total: 17,
+                ..good
+            },
+            ParametricSpec {
+                half_width: 128,
+                ..good
+            },
+            ParametricSpec {
+                half_width: 40000,
+                log2_total: 16,
+                ..good
+            },
         ] {
             assert!(ParametricTable::new(bad).is_err(), "{bad:?}");
         }
