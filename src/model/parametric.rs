@@ -614,4 +614,28 @@ mod tests {
         .unwrap();
         assert_eq!(t.model().alphabet_size(), 65535);
     }
+
+    /// CRC-32 (crc32fast) of the little-endian frequencies of a fixed grid:
+    /// three families, means 0 and 1/4, six scales. The Python package's
+    /// tests (`python/tests/test_parametric.py`) compute the same checksum
+    /// from the tables it builds, so both sides are pinned to one set of
+    /// bytes.
+    #[test]
+    fn pinned_grid_checksum() {
+        let mut crc = crc32fast::Hasher::new();
+        for family in [Family::Gaussian, Family::Laplace, Family::Logistic] {
+            for mean in [0, 1 << 14] {
+                let grid = ParametricGrid::new(family, 16, 8 << 16, 1023);
+                let scales = [7209, 32768, 65536, 163840, 655360, 4194304];
+                for t in grid.build(&scales, mean).unwrap() {
+                    for f in t.model().frequencies() {
+                        crc.update(&f.to_le_bytes());
+                    }
+                }
+            }
+        }
+        assert_eq!(crc.finalize(), PINNED_GRID_CRC);
+    }
+
+    const PINNED_GRID_CRC: u32 = 0x283F_27F0;
 }
