@@ -9,7 +9,8 @@
 //!
 //! ```sh
 //! cargo run --release --example batch_speed                   # 10 million values
-//! cargo run --release --example batch_speed -- VALUES INDEXES  # raw little-endian i32 / u32 files
+//! cargo run --release --example batch_speed -- VALUES INDEXES SCALES
+//! #   raw little-endian files: i32 values, u32 indexes, u32 Q16 scales
 //! ```
 //!
 //! Prints one line: `symbols=N bytes=B encode_msym_s=E decode_msym_s=D`
@@ -73,14 +74,21 @@ fn best_of<T>(runs: usize, mut f: impl FnMut() -> T) -> (f64, T) {
 
 fn main() -> Result<(), subrange::Error> {
     let grid = ParametricGrid::new(Family::Gaussian, 16, 8 << 16, 1023);
-    let tables = IndexedTables::from_parametric(&grid.build(&scales(), 0)?)?;
     let args: Vec<String> = std::env::args().skip(1).collect();
-    let (values, indexes) = match args.as_slice() {
-        [v, i] => (
-            read_raw(v).into_iter().map(i32::from_le_bytes).collect(),
-            read_raw(i).into_iter().map(u32::from_le_bytes).collect(),
-        ),
-        _ => generate(&tables, 10_000_000),
+    let (values, indexes, tables) = match args.as_slice() {
+        [v, i, s] => {
+            let scales: Vec<u32> = read_raw(s).into_iter().map(u32::from_le_bytes).collect();
+            (
+                read_raw(v).into_iter().map(i32::from_le_bytes).collect(),
+                read_raw(i).into_iter().map(u32::from_le_bytes).collect(),
+                IndexedTables::from_parametric(&grid.build(&scales, 0)?)?,
+            )
+        }
+        _ => {
+            let tables = IndexedTables::from_parametric(&grid.build(&scales(), 0)?)?;
+            let (v, i) = generate(&tables, 10_000_000);
+            (v, i, tables)
+        }
     };
     let n = values.len();
     let (enc_s, bytes) = best_of(5, || encode_indexed(&tables, &values, &indexes, None));
