@@ -104,10 +104,11 @@ def test_bad_tables_and_parameters():
 
 
 def test_truncated_and_damaged_batch_streams():
-    # A batch stream is a bare range-coded stream (no length, no checksum):
-    # a cut that leaves the decoder short of bytes is an error; losing only
-    # the final byte can go unnoticed (the container's CRC-32 catches that).
-    for cut in (0, 1, len(CODED) // 2, len(CODED) - 2):
+    # A batch stream is bare range-coded lanes (no length, no checksum): a
+    # cut that leaves a decoder short of bytes is an error; losing only the
+    # last byte or two of the last lane can go unnoticed (the container's
+    # CRC-32 catches that).
+    for cut in (0, 1, 2, len(CODED) // 4, len(CODED) // 2):
         with pytest.raises(errors.TruncatedError):
             GRID.decode(CODED[:cut], INDEXES)
     with pytest.raises(errors.TrailingBytesError):

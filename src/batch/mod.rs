@@ -18,8 +18,9 @@
 //!   under its own probability vector, converted exactly by
 //!   [`ProbabilityAdapter`](crate::model::ProbabilityAdapter).
 //!
-//! Invariant: the stream of a batch call is byte for byte the stream the
-//! plain [`Encoder`] makes when it is given the same spans one at a time;
+//! Invariant: every coded stream of a batch call is byte for byte the
+//! stream the plain [`Encoder`] makes when it is given the same spans one at
+//! a time;
 //! the decoder reports damage and truncation as typed errors and checks that
 //! the whole input was used.
 
