@@ -16,6 +16,8 @@
 //!   [`ContextModel`](model::ContextModel) over the previous bytes, bit
 //!   predictors, logistic mixing and the context-mixing engines of the
 //!   `order2` and `mix` presets.
+//! - [`batch`]: whole arrays in one call: any model over a slice, values
+//!   under a set of tables chosen per value, per-value probability vectors.
 //! - [`prime`]: small messages coded from a saved, checksummed model snapshot.
 //! - [`mq`]: the MQ binary arithmetic coder of ITU-T T.88 / ISO/IEC 15444-1.
 //! - [`corpus`]: seeded synthetic demo data (river-gauge telemetry).
@@ -148,6 +150,7 @@ extern crate alloc;
 #[cfg(feature = "std")]
 extern crate std;
 
+pub mod batch;
 pub mod coder;
 pub mod corpus;
 mod error;

@@ -21,6 +21,8 @@
 //!   state.
 //! - [`ProbabilityAdapter`]: a per-step table built from probabilities that
 //!   come from outside (a learned or statistical model), see [`external`].
+//! - [`parametric`]: tables of discretised Gaussian, Laplace and logistic
+//!   distributions, built bit-exactly in fixed point.
 //!
 //! Bit-level models for the coder's binary step:
 //! - [`BitPredictor`]: the trait; [`ShiftPredictor`] (fixed-rate shift
@@ -54,6 +56,7 @@ mod kt;
 mod logistic;
 mod matcher;
 mod mix;
+pub mod parametric;
 mod quantize;
 mod refresh;
 mod serial;
