@@ -14,7 +14,7 @@ use crate::{invalid, io_to_py, to_py};
 fn options(
     py: Python<'_>,
     preset: &str,
-    block_size: Option<usize>,
+    block_size: Option<u64>,
     threads: Option<usize>,
 ) -> PyResult<Options> {
     let mut opts = Options::new();
@@ -45,7 +45,7 @@ fn compress<'py>(
     py: Python<'py>,
     data: &[u8],
     preset: &str,
-    block_size: Option<usize>,
+    block_size: Option<u64>,
     threads: Option<usize>,
 ) -> PyResult<Bound<'py, PyBytes>> {
     let opts = options(py, preset, block_size, threads)?;
@@ -77,7 +77,7 @@ impl NativeCompressor {
     fn new(
         py: Python<'_>,
         preset: &str,
-        block_size: Option<usize>,
+        block_size: Option<u64>,
         threads: Option<usize>,
     ) -> PyResult<Self> {
         let opts = options(py, preset, block_size, threads)?;

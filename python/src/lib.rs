@@ -27,7 +27,12 @@ fn error_class(kind: &subrange::ErrorKind) -> &'static str {
         K::BadMagic => "BadMagicError",
         K::UnsupportedVersion { .. } => "UnsupportedVersionError",
         K::UnknownPreset { .. } => "UnknownPresetError",
+        K::CorruptHeader { .. } => "CorruptHeaderError",
+        K::CorruptFrame { .. } => "CorruptFrameError",
         K::CorruptBlock { .. } => "CorruptBlockError",
+        K::CorruptEnd { .. } => "CorruptEndError",
+        K::CorruptIndex { .. } => "CorruptIndexError",
+        K::RangeOutsideData { .. } => "RangeOutsideDataError",
         K::ChecksumMismatch { .. } => "ChecksumMismatchError",
         K::LimitExceeded { .. } => "LimitExceededError",
         K::TrailingBytes { .. } => "TrailingBytesError",
@@ -58,10 +63,7 @@ pub(crate) fn to_py(py: Python<'_>, err: subrange::Error) -> PyErr {
 /// The Python exception for an I/O error of the stream adapters: the crate
 /// error it carries, or an `IoError`.
 pub(crate) fn io_to_py(py: Python<'_>, err: std::io::Error) -> PyErr {
-    match err
-        .get_ref()
-        .and_then(|e| e.downcast_ref::<subrange::Error>())
-    {
+    match std::error::Error::source(&err).and_then(|e| e.downcast_ref::<subrange::Error>()) {
         Some(inner) => raise(py, error_class(inner.kind()), inner.to_string()),
         None => raise(py, "IoError", err.to_string()),
     }

@@ -24,7 +24,11 @@ __all__ = [
     "BadMagicError",
     "UnsupportedVersionError",
     "UnknownPresetError",
+    "CorruptHeaderError",
+    "CorruptFrameError",
     "CorruptBlockError",
+    "CorruptEndError",
+    "CorruptIndexError",
     "ChecksumMismatchError",
     "TrailingBytesError",
     "SnapshotError",
@@ -33,6 +37,7 @@ __all__ = [
     "UncodableSymbolError",
     "InvalidModelError",
     "InvalidParameterError",
+    "RangeOutsideDataError",
     "IoError",
 ]
 
@@ -69,8 +74,24 @@ class UnknownPresetError(DataError):
     """The container names a preset this release does not know."""
 
 
+class CorruptHeaderError(DataError):
+    """The container header is damaged (its check does not match)."""
+
+
+class CorruptFrameError(DataError):
+    """The frame of a block (its lengths and checks) is damaged."""
+
+
 class CorruptBlockError(DataError):
-    """A block of the container is damaged."""
+    """The coded payload of a block is damaged."""
+
+
+class CorruptEndError(DataError):
+    """The end record of the container is damaged or disagrees with the blocks."""
+
+
+class CorruptIndexError(DataError):
+    """The block index at the end of the container is damaged or lies."""
 
 
 class ChecksumMismatchError(DataError):
@@ -103,6 +124,10 @@ class InvalidModelError(SubrangeError, ValueError):
 
 class InvalidParameterError(SubrangeError, ValueError):
     """A parameter is outside its documented range, or arrays disagree in shape."""
+
+
+class RangeOutsideDataError(SubrangeError, ValueError):
+    """A byte range asked for does not lie within the original data."""
 
 
 class IoError(SubrangeError, OSError):
