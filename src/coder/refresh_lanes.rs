@@ -76,7 +76,7 @@ pub fn encode_refresh_lanes(
         }
         rest = next;
     }
-    Ok(enc.finish())
+    Ok(enc.finish().into_vecs())
 }
 
 /// Decodes `out.len()` bytes coded by [`encode_refresh_lanes`] (or by

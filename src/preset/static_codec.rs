@@ -19,7 +19,7 @@
 
 use alloc::vec::Vec;
 
-use crate::coder::{decode_table_lanes, encode_table_lanes, log2_q32};
+use crate::coder::{decode_table_lanes, encode_counted, log2_q32};
 use crate::error::{ErrorKind, Result};
 use crate::model::TableModel;
 use crate::preset::corrupt;
@@ -95,14 +95,13 @@ pub(crate) fn encode_or_store(raw: &[u8], params: &[u32]) -> Result<Option<Vec<u
 }
 
 fn encode_with(raw: &[u8], model: &TableModel, lanes: usize) -> Result<Vec<u8>> {
-    let streams = encode_table_lanes(model, raw, lanes)?;
+    let streams = encode_counted(model, raw, lanes)?;
     let table = model.to_bytes();
-    let coded: usize = streams.iter().map(Vec::len).sum();
-    let mut out = Vec::with_capacity(coded + table.len() + 8 * lanes);
+    let mut out = Vec::with_capacity(streams.coded_len() + table.len() + 8 * lanes);
     out.push(lanes as u8);
     put_vint(&mut out, table.len() as u64);
     out.extend_from_slice(&table);
-    put_lanes(&mut out, &streams);
+    put_lanes(&mut out, &streams.views());
     Ok(out)
 }
 
