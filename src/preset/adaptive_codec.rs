@@ -120,10 +120,7 @@ fn cost(raw: &[u8], params: &[u32]) -> Result<IdealCost> {
     let mut rest = raw;
     while !rest.is_empty() {
         let (segment, next) = rest.split_at((model.segment_left() as usize).min(rest.len()));
-        let mut histogram = [0u64; 256];
-        for &b in segment {
-            histogram[usize::from(b)] += 1;
-        }
+        let histogram = crate::model::byte_counts(segment);
         for (&h, &f) in histogram.iter().zip(model.frequencies()) {
             cost.add_repeated(f, 1 << shift, h);
         }
@@ -162,10 +159,7 @@ pub(crate) fn encode(raw: &[u8], params: &[u32]) -> Result<Vec<u8>> {
 /// rare one of them that does not shrink is caught by the container's
 /// length check.
 pub(crate) fn encode_or_store(raw: &[u8], params: &[u32]) -> Result<Option<Vec<u8>>> {
-    let mut counts = [0u64; 256];
-    for &b in raw {
-        counts[usize::from(b)] += 1;
-    }
+    let counts = crate::model::byte_counts(raw);
     let n = raw.len() as u64;
     let log_n = log2_q32(n);
     let entropy_q32: u128 = counts

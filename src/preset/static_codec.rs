@@ -69,10 +69,7 @@ pub(crate) fn encode(raw: &[u8], params: &[u32]) -> Result<Vec<u8>> {
 /// reaches the block's length, coding would be wasted work.
 pub(crate) fn encode_or_store(raw: &[u8], params: &[u32]) -> Result<Option<Vec<u8>>> {
     let (max_lanes, cap) = (params[0], params[1]);
-    let mut counts = [0u64; 256];
-    for &b in raw {
-        counts[usize::from(b)] += 1;
-    }
+    let counts = crate::model::byte_counts(raw);
     let model = TableModel::from_counts(&counts, table_log2(raw.len(), cap))?;
     let lanes = lanes_for(raw.len(), max_lanes);
     let total_log = u64::from(model.log2_total()) << 32;
