@@ -404,3 +404,228 @@ unsafe fn rows_avx2<const V: usize>(mut lanes: Lanes<'_>, rows: &[u8], table: &E
         leave_state::<8>(&mut lanes, 8 * v, &a);
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::EncodeKernel;
+    use crate::coder::encode_interleaved;
+    use crate::coder::lane_enc::{EncodeTable, LaneEncoder};
+    use crate::model::TableModel;
+    use alloc::vec;
+    use alloc::vec::Vec;
+    use proptest::prelude::*;
+
+    /// The kernels this CPU runs; a skip line for each it cannot.
+    fn kernels() -> Vec<EncodeKernel> {
+        EncodeKernel::ALL
+            .into_iter()
+            .filter(|k| {
+                let ok = k.supported();
+                if !ok {
+                    std::println!("skipped: lane-encoder kernel {k:?} (this CPU lacks it)");
+                }
+                ok
+            })
+            .collect()
+    }
+
+    fn table_of(model: &TableModel) -> EncodeTable {
+        EncodeTable::new(model.frequencies(), model.cumulative(), model.log2_total())
+    }
+
+    /// Codes `data` in pieces of the lengths in `pieces` (cycled), as the
+    /// refreshed lanes do, on `kernel` (`None`: the scalar steps).
+    fn code(
+        t: &EncodeTable,
+        data: &[u8],
+        lanes: usize,
+        kernel: Option<EncodeKernel>,
+        pieces: &[usize],
+    ) -> Vec<Vec<u8>> {
+        let mut enc = LaneEncoder::with_kernel(data.len(), lanes, kernel);
+        let mut rest = data;
+        for &p in pieces.iter().cycle() {
+            if rest.is_empty() {
+                break;
+            }
+            let (piece, next) = rest.split_at(p.clamp(1, rest.len()));
+            enc.code(piece, t);
+            rest = next;
+        }
+        enc.finish().into_vecs()
+    }
+
+    /// One lane's scalar coder, to find the data the kernels' detour needs.
+    #[derive(Clone)]
+    struct Lane {
+        low: u32,
+        range: u32,
+        out: Vec<u8>,
+    }
+
+    impl Lane {
+        /// Codes `b`; returns whether its carry reached a last byte of 0xFF
+        /// (the kernels' scalar detour).
+        fn step(&mut self, model: &TableModel, b: u8) -> bool {
+            let (freq, cum, shift) = (model.frequencies(), model.cumulative(), model.log2_total());
+            let (c, f) = (cum[usize::from(b)], freq[usize::from(b)]);
+            let r = self.range >> shift;
+            let (sum, carry) = self.low.overflowing_add(r * c);
+            let spill = carry && self.out.last() == Some(&0xFF);
+            if carry {
+                let len = self.out.len();
+                crate::coder::lane_enc::propagate_carry(&mut self.out, len);
+            }
+            self.low = sum;
+            self.range = if c + f < 1 << shift {
+                r * f
+            } else {
+                self.range - r * c
+            };
+            while self.range < 1 << 24 {
+                self.out.push((self.low >> 24) as u8);
+                self.low <<= 8;
+                self.range <<= 8;
+            }
+            spill
+        }
+    }
+
+    /// Carries that reach a last byte of 0xFF in the scalar steps of the
+    /// `lanes` lanes.
+    fn spills(model: &TableModel, data: &[u8], lanes: usize) -> usize {
+        (0..lanes.min(data.len()))
+            .map(|l| {
+                let mut lane = Lane {
+                    low: 0,
+                    range: u32::MAX,
+                    out: Vec::new(),
+                };
+                data[l..]
+                    .iter()
+                    .step_by(lanes)
+                    .filter(|&&b| lane.step(model, b))
+                    .count()
+            })
+            .sum()
+    }
+
+    /// `len` bytes over symbols 0, 1 and 2 chosen, lane by lane (over
+    /// `lanes` lanes), to make carries into runs of 0xFF: each step takes
+    /// the symbol that makes one, else one that leaves 0xFF as the last
+    /// byte, else a pseudo-random one.
+    fn carry_heavy(model: &TableModel, len: usize, lanes: usize) -> Vec<u8> {
+        let mut data = vec![0u8; len];
+        let mut seed = 0x9E37_79B9u32;
+        for l in 0..lanes {
+            let mut lane = Lane {
+                low: 0,
+                range: u32::MAX,
+                out: Vec::new(),
+            };
+            for i in (l..len).step_by(lanes) {
+                seed = seed.wrapping_mul(1_664_525).wrapping_add(1_013_904_223);
+                let mut pick = (seed >> 30) as u8 % 3;
+                let mut best = 0;
+                for b in 0..3u8 {
+                    let mut next = lane.clone();
+                    let score = if next.step(model, b) {
+                        2
+                    } else {
+                        u32::from(next.out.last() == Some(&0xFF))
+                    };
+                    if score > best && seed >> 8 & 7 != 0 {
+                        (best, pick) = (score, b);
+                    }
+                }
+                lane.step(model, pick);
+                data[i] = pick;
+            }
+        }
+        data
+    }
+
+    #[test]
+    fn lane_edges_match_the_scalar_steps() {
+        let kernels = kernels();
+        for log2_total in [8u32, 12, 16] {
+            let model = TableModel::from_counts(&[3, 1, 60], log2_total).unwrap();
+            let t = table_of(&model);
+            for lanes in 1..=crate::coder::MAX_LANES {
+                let data = carry_heavy(&model, 8_000 + 300 * lanes, lanes);
+                // The data reaches the kernels' detour wherever they run.
+                if lanes % 8 == 0 {
+                    assert!(
+                        spills(&model, &data, lanes) > 0,
+                        "k={log2_total} lanes={lanes}"
+                    );
+                }
+                let mut m = model.clone();
+                let reference = encode_interleaved(&mut m, &data, lanes).unwrap();
+                assert_eq!(code(&t, &data, lanes, None, &[data.len()]), reference);
+                for &k in &kernels {
+                    let whole = code(&t, &data, lanes, Some(k), &[data.len()]);
+                    assert_eq!(whole, reference, "{k:?} k={log2_total} lanes={lanes}");
+                    let pieces = code(&t, &data, lanes, Some(k), &[1, 97, 4096, 3, lanes]);
+                    assert_eq!(
+                        pieces, reference,
+                        "{k:?} pieces k={log2_total} lanes={lanes}"
+                    );
+                    // Tiny and empty blocks: part rows, one row, a row and
+                    // a bit.
+                    for len in [0, 1, lanes - 1, lanes, lanes + 1, 2 * lanes + 3] {
+                        let d = &data[..len];
+                        let want = code(&t, d, lanes, None, &[len]);
+                        assert_eq!(code(&t, d, lanes, Some(k), &[len]), want, "{k:?} len={len}");
+                    }
+                }
+            }
+        }
+    }
+
+    /// A table of up to 256 counts (some zero) and data over its codable
+    /// bytes.
+    fn table_and_data() -> impl Strategy<Value = (Vec<u64>, u32, Vec<u8>)> {
+        (
+            prop::collection::vec(prop_oneof![Just(0u64), 1u64..4, 1u64..5000], 1..=256),
+            8u32..=16,
+            prop::collection::vec(any::<u16>(), 0..3000),
+        )
+            .prop_map(|(mut counts, log2_total, picks)| {
+                if counts.iter().all(|&c| c == 0) {
+                    counts[0] = 1;
+                }
+                let codable: Vec<u8> = (0..counts.len())
+                    .filter(|&s| counts[s] > 0)
+                    .map(|s| s as u8)
+                    .collect();
+                // Mostly the first codable bytes, so that tables are skewed.
+                let data = picks
+                    .iter()
+                    .map(|&p| codable[usize::from(p) % codable.len().min(1 + usize::from(p >> 12))])
+                    .collect();
+                (counts, log2_total, data)
+            })
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(96))]
+
+        #[test]
+        fn kernels_match_the_scalar_steps(
+            (counts, log2_total, data) in table_and_data(),
+            lanes in prop::sample::select(vec![8usize, 16, 24, 32]),
+            pieces in prop::collection::vec(1usize..300, 1..4),
+        ) {
+            let model = TableModel::from_counts(&counts, log2_total).unwrap();
+            let t = table_of(&model);
+            let want = code(&t, &data, lanes, None, &[data.len()]);
+            let mut m = model.clone();
+            prop_assert_eq!(&want, &encode_interleaved(&mut m, &data, lanes).unwrap());
+            for k in kernels() {
+                prop_assert_eq!(&code(&t, &data, lanes, Some(k), &[data.len()]), &want);
+                prop_assert_eq!(&code(&t, &data, lanes, Some(k), &pieces), &want);
+            }
+        }
+    }
+}
