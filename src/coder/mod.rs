@@ -42,9 +42,9 @@ pub use encoder::Encoder;
 #[cfg(feature = "std")]
 pub(crate) use lane_dec::LANE_PAD;
 pub use lanes::{decode_interleaved, encode_interleaved, MAX_LANES};
-#[doc(hidden)]
-pub use refresh_lanes::decode_refresh_lanes_scalar;
 pub use refresh_lanes::{decode_refresh_lanes, encode_refresh_lanes};
+#[doc(hidden)]
+pub use refresh_lanes::{decode_refresh_lanes_scalar, encode_refresh_lanes_scalar};
 pub use sink::ByteSink;
 #[cfg(feature = "std")]
 pub use sink::IoSink;
