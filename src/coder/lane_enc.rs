@@ -85,7 +85,6 @@ impl EncodeTable {
     pub(crate) fn set(&mut self, freq: &[u32], cum: &[u32], shift: u32) {
         self.shift = shift;
         self.total = 1 << shift;
-        self.last = u32::MAX;
         let n = freq.len().min(256);
         for ((e, p), (&f, &c)) in self
             .entry
@@ -95,12 +94,15 @@ impl EncodeTable {
         {
             *e = u64::from(c) | u64::from(f) << 32;
             *p = c | f.wrapping_sub(1) << 16;
-            if f > 0 && c + f == self.total {
-                self.last = *p;
-            }
         }
         self.entry[n..].fill(0);
         self.packed[n..].fill(0);
+        // The last symbol is the last one with a frequency (the symbols
+        // after it have none and start at the total).
+        self.last = match freq[..n].iter().rposition(|&f| f > 0) {
+            Some(s) if cum[s] + freq[s] == self.total => self.packed[s],
+            _ => u32::MAX,
+        };
     }
 
     /// The first byte of `data` this table cannot code.
