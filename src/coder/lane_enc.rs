@@ -238,6 +238,7 @@ impl LaneStreams {
     }
 
     /// Every lane's stream, in lane order.
+    #[cfg(feature = "std")]
     pub(crate) fn views(&self) -> Vec<&[u8]> {
         (0..self.lens.len()).map(|l| self.lane(l)).collect()
     }
@@ -250,6 +251,7 @@ impl LaneStreams {
     }
 
     /// The lanes' total length.
+    #[cfg(feature = "std")]
     pub(crate) fn coded_len(&self) -> usize {
         self.lens.iter().sum()
     }
@@ -275,6 +277,7 @@ pub(crate) struct LaneEncoder {
 impl LaneEncoder {
     /// Coders for a block of `len` bytes over `lanes` lanes (`1 ..= 32`),
     /// on the best vector kernel of this CPU.
+    #[cfg(feature = "std")]
     pub(crate) fn new(len: usize, lanes: usize) -> Self {
         Self::with_kernel(len, lanes, best_encode_kernel(lanes))
     }

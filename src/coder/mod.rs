@@ -51,6 +51,7 @@ pub use sink::IoSink;
 #[cfg(feature = "std")]
 pub use source::IoSource;
 pub use source::{ByteSource, SliceSource};
+#[cfg(feature = "std")]
 pub(crate) use table_lanes::encode_counted;
 pub use table_lanes::{decode_table_lanes, encode_table_lanes};
 #[doc(hidden)]

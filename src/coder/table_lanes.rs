@@ -112,6 +112,7 @@ pub(crate) fn encode_checked(
 ///
 /// As for [`encode_table_lanes`], but a byte the model cannot code gives
 /// unspecified streams instead of an error.
+#[cfg(feature = "std")]
 pub(crate) fn encode_counted(model: &TableModel, data: &[u8], lanes: usize) -> Result<LaneStreams> {
     check(model, lanes)?;
     let table = EncodeTable::new(model.frequencies(), model.cumulative(), model.log2_total());
