@@ -30,7 +30,7 @@ bin=${SUBRANGE:-"$root/target/release/subrange"}
 # repeats them until SIZE bytes.
 fill() {
     local out=$1 tmp="$1.part"
-    if [ -s "$out" ]; then return; fi
+    if [ -s "$out" ]; then cat >/dev/null; return; fi
     sort | tr '\n' '\0' | xargs -0 cat 2>/dev/null >"$tmp" || true
     if [ ! -s "$tmp" ]; then echo "no input for $out" >&2; exit 1; fi
     while [ "$(stat -c %s "$tmp")" -lt "$size" ]; do cat "$tmp" "$tmp" >"$tmp.2"; mv "$tmp.2" "$tmp"; done
