@@ -41,9 +41,10 @@ fn check(model: &TableModel, lanes: usize) -> Result<()> {
 /// Codes `data` with a static byte table over `lanes` interleaved coders.
 ///
 /// Output is identical to [`encode_interleaved`](super::encode_interleaved)
-/// with the same model and lane count. On x86-64 CPUs with AVX2, lane counts
-/// that are a multiple of 8 code eight lanes per vector instruction; the
-/// result is the same on every path.
+/// with the same model and lane count. On x86-64 CPUs with AVX-512, lane
+/// counts that are a multiple of 16 code sixteen lanes per vector
+/// instruction; with AVX2, multiples of 8 code eight; the result is the
+/// same on every path.
 ///
 /// # Errors
 ///
