@@ -10,7 +10,7 @@ use std::io::{Read, Write};
 
 use subrange::coder::{
     decode_interleaved, decode_refresh_lanes, decode_table_lanes, encode_interleaved,
-    encode_refresh_lanes, encode_table_lanes, Decoder, Encoder,
+    encode_refresh_lanes, encode_table_lanes, encode_table_lanes_scalar, Decoder, Encoder,
 };
 use subrange::corpus;
 use subrange::model::{AdaptiveModel, RefreshModel, TableModel};
@@ -47,6 +47,10 @@ fn bench_sets(c: &mut Criterion) {
                 b.iter(|| encode_table_lanes(&table, black_box(data), lanes).unwrap())
             });
         }
+        // The scalar steps the vector kernels are checked against.
+        group.bench_function("table-scalar/32", |b| {
+            b.iter(|| encode_table_lanes_scalar(&table, black_box(data), 32).unwrap())
+        });
         group.bench_function("table-generic", |b| {
             b.iter(|| {
                 let mut t = table.clone();

@@ -1,8 +1,10 @@
-//! Streams the context-mixing engines wrote must keep decoding: both engines
-//! are deterministic, so the coded bytes for fixed inputs and parameters are
-//! pinned here by their length and CRC-32. A speed-up that changes one coded
-//! byte fails this test; a different model belongs behind a new parameter
-//! value, so that streams with the old values still decode.
+//! Streams the context-mixing engines and the lane coders wrote must keep
+//! decoding: all are deterministic, so the coded bytes for fixed inputs and
+//! parameters are pinned here by their length and CRC-32. A speed-up that
+//! changes one coded byte fails this test; a different model belongs behind
+//! a new parameter value, so that streams with the old values still decode.
+//! The lane pins hold on every path the CPU offers (vector kernels or
+//! scalar steps: the tests of the kernels compare them with each other).
 
 mod common;
 
@@ -181,5 +183,103 @@ fn order2_streams_are_pinned() {
             check(&format!("order2 {bytes:?} {name}"), &coded, pin);
             assert_eq!(decode_order2(&coded, data.len(), &p).unwrap(), *data);
         }
+    }
+}
+
+/// The lane-coded inputs: seeded telemetry, text, skewed bytes, a short
+/// record and a run that drives long carry chains.
+fn lane_inputs() -> Vec<(&'static str, Vec<u8>)> {
+    let mut carries = vec![1u8; 30_000];
+    for i in (0..carries.len()).step_by(997) {
+        carries[i] = 0;
+    }
+    vec![
+        ("csv", subrange::corpus::gauge_csv(11, 200_000)),
+        ("text", subrange::corpus::text_like(12, 150_000)),
+        ("skewed", subrange::corpus::skewed(13, 70_001)),
+        ("short", subrange::corpus::gauge_csv(14, 777)),
+        ("carries", carries),
+    ]
+}
+
+/// Per input and kind of stream (`table`: the table lanes at three totals
+/// and every lane count; `refresh`: the refreshed lanes at six lane counts;
+/// `container`: both presets at two block sizes), the length (`u64`) and
+/// CRC-32 (`u32`) of each stream, little-endian, back to back.
+fn lane_pins() -> Vec<(&'static str, &'static str, Vec<u8>)> {
+    use subrange::coder::{encode_refresh_lanes, encode_table_lanes};
+    use subrange::model::{RefreshModel, TableModel};
+    use subrange::preset::Preset;
+    use subrange::{compress, Options};
+    let mut pins = Vec::new();
+    for (name, data) in lane_inputs() {
+        let mut groups: [Vec<u8>; 3] = Default::default();
+        let mut add = |group: usize, lanes: &[Vec<u8>]| {
+            let joined: Vec<u8> = lanes.concat();
+            groups[group].extend_from_slice(&(joined.len() as u64).to_le_bytes());
+            groups[group].extend_from_slice(&crc32fast::hash(&joined).to_le_bytes());
+        };
+        for log2_total in [10u32, 12, 16] {
+            let model = TableModel::from_bytes_histogram(&data, log2_total).unwrap();
+            for lanes in 1..=32 {
+                let s = encode_table_lanes(&model, &data, lanes).unwrap();
+                add(0, &s);
+            }
+        }
+        for lanes in [1usize, 5, 8, 16, 24, 32] {
+            let mut model = RefreshModel::new(256).unwrap();
+            let s = encode_refresh_lanes(&mut model, &data, lanes).unwrap();
+            add(1, &s);
+        }
+        for preset in ["static", "adaptive"] {
+            for block in [1usize << 20, 40_000] {
+                let mut opts = Options::new();
+                opts.preset(Preset::from_name(preset).unwrap())
+                    .block_size(block)
+                    .unwrap();
+                let c = compress(&data, &opts).unwrap();
+                add(2, &[c]);
+            }
+        }
+        let [table, refresh, container] = groups;
+        pins.push((name, "table", table));
+        pins.push((name, "refresh", refresh));
+        pins.push((name, "container", container));
+    }
+    pins
+}
+
+/// Per entry of [`lane_pins`]: (input, kind, streams, CRC-32 of the
+/// entry's bytes).
+const LANE_PINS: &[(&str, &str, usize, u32)] = &[
+    ("csv", "table", 96, 0x6475b939),
+    ("csv", "refresh", 6, 0x86429018),
+    ("csv", "container", 4, 0xd7eb99ba),
+    ("text", "table", 96, 0xc755d954),
+    ("text", "refresh", 6, 0x99e5a63c),
+    ("text", "container", 4, 0x3299da0d),
+    ("skewed", "table", 96, 0x1d376d44),
+    ("skewed", "refresh", 6, 0xcde8acc8),
+    ("skewed", "container", 4, 0x38caf0f0),
+    ("short", "table", 96, 0x7ae06b3c),
+    ("short", "refresh", 6, 0x807b6128),
+    ("short", "container", 4, 0xe42889a6),
+    ("carries", "table", 96, 0xda81ccd2),
+    ("carries", "refresh", 6, 0xad6dd172),
+    ("carries", "container", 4, 0xa1f9fd62),
+];
+
+#[test]
+fn lane_streams_are_pinned() {
+    let pins = lane_pins();
+    assert_eq!(pins.len(), LANE_PINS.len());
+    for ((name, kind, bytes), &(pin_name, pin_kind, streams, crc)) in pins.iter().zip(LANE_PINS) {
+        assert_eq!((*name, *kind), (pin_name, pin_kind));
+        assert_eq!(bytes.len(), 12 * streams, "{name} {kind}");
+        assert_eq!(
+            crc32fast::hash(bytes),
+            crc,
+            "{name} {kind}: lengths and CRC-32s of the streams"
+        );
     }
 }

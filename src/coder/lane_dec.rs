@@ -105,33 +105,11 @@ impl DecodeTables {
         self.packed = shift <= 12;
         self.slots.resize(total + FILL, 0);
         self.symbols.resize(total + FILL, 0);
-        let n = freq.len().min(cum.len());
-        for s in 0..n {
-            let (f, c) = (freq[s], cum[s]);
-            if f == 0 {
-                continue;
-            }
-            let entry = if self.packed {
-                c | (f - 1) << 12 | (s as u32) << 24
-            } else {
-                c | (f - 1) << 16
-            };
-            let (start, end) = (c as usize, (c + f) as usize);
-            let block = [entry; FILL];
-            let mut at = start;
-            while at < end {
-                self.slots[at..at + FILL].copy_from_slice(&block);
-                at += FILL;
-            }
-            if !self.packed {
-                let block = [s as u8; FILL];
-                let mut at = start;
-                while at < end {
-                    self.symbols[at..at + FILL].copy_from_slice(&block);
-                    at += FILL;
-                }
-            }
+        #[cfg(target_arch = "x86_64")]
+        if super::table_simd::fill_tables(self, freq, cum) {
+            return;
         }
+        fill_spans(self, freq, cum);
     }
 
     /// The slot's cumulative frequency and frequency.
@@ -141,6 +119,40 @@ impl DecodeTables {
             (entry & 0xFFF, (entry >> 12 & 0xFFF) + 1)
         } else {
             (entry & 0xFFFF, (entry >> 16) + 1)
+        }
+    }
+}
+
+/// Writes every span of `freq` / `cum` into the slot (and symbol) tables
+/// of `t` (see [`DecodeTables::set`]). Plain code, compiled once more for
+/// wider vectors where the CPU has them (`table_simd::fill_tables`).
+#[inline(always)]
+pub(crate) fn fill_spans(t: &mut DecodeTables, freq: &[u32], cum: &[u32]) {
+    let n = freq.len().min(cum.len());
+    for s in 0..n {
+        let (f, c) = (freq[s], cum[s]);
+        if f == 0 {
+            continue;
+        }
+        let entry = if t.packed {
+            c | (f - 1) << 12 | (s as u32) << 24
+        } else {
+            c | (f - 1) << 16
+        };
+        let (start, end) = (c as usize, (c + f) as usize);
+        let block = [entry; FILL];
+        let mut at = start;
+        while at < end {
+            t.slots[at..at + FILL].copy_from_slice(&block);
+            at += FILL;
+        }
+        if !t.packed {
+            let block = [s as u8; FILL];
+            let mut at = start;
+            while at < end {
+                t.symbols[at..at + FILL].copy_from_slice(&block);
+                at += FILL;
+            }
         }
     }
 }

@@ -42,15 +42,17 @@ pub use encoder::Encoder;
 #[cfg(feature = "std")]
 pub(crate) use lane_dec::LANE_PAD;
 pub use lanes::{decode_interleaved, encode_interleaved, MAX_LANES};
-#[doc(hidden)]
-pub use refresh_lanes::decode_refresh_lanes_scalar;
 pub use refresh_lanes::{decode_refresh_lanes, encode_refresh_lanes};
+#[doc(hidden)]
+pub use refresh_lanes::{decode_refresh_lanes_scalar, encode_refresh_lanes_scalar};
 pub use sink::ByteSink;
 #[cfg(feature = "std")]
 pub use sink::IoSink;
 #[cfg(feature = "std")]
 pub use source::IoSource;
 pub use source::{ByteSource, SliceSource};
-#[doc(hidden)]
-pub use table_lanes::decode_table_lanes_scalar;
+#[cfg(feature = "std")]
+pub(crate) use table_lanes::encode_counted;
 pub use table_lanes::{decode_table_lanes, encode_table_lanes};
+#[doc(hidden)]
+pub use table_lanes::{decode_table_lanes_scalar, encode_table_lanes_scalar};

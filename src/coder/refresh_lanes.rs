@@ -15,7 +15,7 @@
 use alloc::vec::Vec;
 
 use crate::coder::lane_dec::{best_kernel, DecodeTables, LaneDecoder, Vector};
-use crate::coder::lane_enc::{EncodeTable, LaneEncoder};
+use crate::coder::lane_enc::{best_encode_kernel, EncodeTable, EncodeVector, LaneEncoder};
 use crate::coder::lanes::check_lanes;
 #[cfg(doc)]
 use crate::error::ErrorKind;
@@ -60,11 +60,37 @@ pub fn encode_refresh_lanes(
     data: &[u8],
     lanes: usize,
 ) -> Result<Vec<Vec<u8>>> {
+    encode_with(model, data, lanes, best_encode_kernel(lanes))
+}
+
+/// [`encode_refresh_lanes`] on the scalar steps only, whatever the CPU: the
+/// reference the vector kernels are checked against (by the tests and the
+/// fuzz targets). Same results, slower.
+///
+/// # Errors
+///
+/// As for [`encode_refresh_lanes`].
+#[doc(hidden)]
+pub fn encode_refresh_lanes_scalar(
+    model: &mut RefreshModel,
+    data: &[u8],
+    lanes: usize,
+) -> Result<Vec<Vec<u8>>> {
+    encode_with(model, data, lanes, None)
+}
+
+/// [`encode_refresh_lanes`] with the vector kernel chosen by the caller.
+fn encode_with(
+    model: &mut RefreshModel,
+    data: &[u8],
+    lanes: usize,
+    kernel: EncodeVector,
+) -> Result<Vec<Vec<u8>>> {
     check_lanes(lanes)?;
     let mut table = EncodeTable::new(model.frequencies(), model.cumulative(), model.log2_total());
     // The set of codable symbols never changes, so the first table tells.
     table.check_codable(data, model.alphabet_size())?;
-    let mut enc = LaneEncoder::new(data.len(), lanes);
+    let mut enc = LaneEncoder::with_kernel(data.len(), lanes, kernel);
     let mut rest = data;
     while !rest.is_empty() {
         let left = model.segment_left();
@@ -76,7 +102,7 @@ pub fn encode_refresh_lanes(
         }
         rest = next;
     }
-    Ok(enc.finish())
+    Ok(enc.finish().into_vecs())
 }
 
 /// Decodes `out.len()` bytes coded by [`encode_refresh_lanes`] (or by

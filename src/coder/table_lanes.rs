@@ -19,7 +19,9 @@
 use alloc::vec::Vec;
 
 use crate::coder::lane_dec::{best_kernel, DecodeTables, LaneDecoder, Vector};
-use crate::coder::lane_enc::{EncodeTable, LaneEncoder};
+use crate::coder::lane_enc::{
+    best_encode_kernel, EncodeTable, EncodeVector, LaneEncoder, LaneStreams,
+};
 use crate::coder::lanes::check_lanes;
 use crate::error::{ErrorKind, Result};
 use crate::model::{Model, TableModel};
@@ -39,9 +41,10 @@ fn check(model: &TableModel, lanes: usize) -> Result<()> {
 /// Codes `data` with a static byte table over `lanes` interleaved coders.
 ///
 /// Output is identical to [`encode_interleaved`](super::encode_interleaved)
-/// with the same model and lane count. On x86-64 CPUs with AVX2, lane counts
-/// that are a multiple of 8 code eight lanes per vector instruction; the
-/// result is the same on every path.
+/// with the same model and lane count. On x86-64 CPUs with AVX-512, lane
+/// counts that are a multiple of 16 code sixteen lanes per vector
+/// instruction; with AVX2, multiples of 8 code eight; the result is the
+/// same on every path.
 ///
 /// # Errors
 ///
@@ -67,9 +70,53 @@ fn check(model: &TableModel, lanes: usize) -> Result<()> {
 /// # }
 /// ```
 pub fn encode_table_lanes(model: &TableModel, data: &[u8], lanes: usize) -> Result<Vec<Vec<u8>>> {
+    encode_checked(model, data, lanes, best_encode_kernel(lanes)).map(LaneStreams::into_vecs)
+}
+
+/// [`encode_table_lanes`] on the scalar steps only, whatever the CPU: the
+/// reference the vector kernels are checked against (by the tests and the
+/// fuzz targets). Same results, slower.
+///
+/// # Errors
+///
+/// As for [`encode_table_lanes`].
+#[doc(hidden)]
+pub fn encode_table_lanes_scalar(
+    model: &TableModel,
+    data: &[u8],
+    lanes: usize,
+) -> Result<Vec<Vec<u8>>> {
+    encode_checked(model, data, lanes, None).map(LaneStreams::into_vecs)
+}
+
+/// [`encode_table_lanes`] with the vector kernel chosen by the caller,
+/// leaving the streams in the encoder's buffer.
+pub(crate) fn encode_checked(
+    model: &TableModel,
+    data: &[u8],
+    lanes: usize,
+    kernel: EncodeVector,
+) -> Result<LaneStreams> {
     check(model, lanes)?;
     let table = EncodeTable::new(model.frequencies(), model.cumulative(), model.log2_total());
     table.check_codable(data, model.alphabet_size())?;
+    let mut enc = LaneEncoder::with_kernel(data.len(), lanes, kernel);
+    enc.code(data, &table);
+    Ok(enc.finish())
+}
+
+/// [`encode_table_lanes`] for a model built from the counts of `data`
+/// itself, which codes every byte of it (not checked again), leaving the
+/// streams in the encoder's buffer.
+///
+/// # Errors
+///
+/// As for [`encode_table_lanes`], but a byte the model cannot code gives
+/// unspecified streams instead of an error.
+#[cfg(feature = "std")]
+pub(crate) fn encode_counted(model: &TableModel, data: &[u8], lanes: usize) -> Result<LaneStreams> {
+    check(model, lanes)?;
+    let table = EncodeTable::new(model.frequencies(), model.cumulative(), model.log2_total());
     let mut enc = LaneEncoder::new(data.len(), lanes);
     enc.code(data, &table);
     Ok(enc.finish())

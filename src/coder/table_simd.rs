@@ -34,7 +34,7 @@
 
 use core::arch::x86_64::*;
 
-use crate::coder::lane_dec::{DecodeTables, LaneState};
+use crate::coder::lane_dec::{fill_spans, DecodeTables, LaneState};
 
 /// Which build of the kernel this CPU runs.
 #[derive(Clone, Copy, PartialEq, Eq, Debug)]
@@ -94,6 +94,37 @@ impl Kernel {
             }
         }
     }
+}
+
+/// Fills the decoding tables of `freq` / `cum` (see `DecodeTables::set`)
+/// with the widest stores the CPU has: the table fill of the refreshed
+/// lanes runs at every refresh, a few thousand slots for a few hundred
+/// symbols. Returns `false`, having done nothing, on a CPU with neither
+/// AVX-512 nor AVX2.
+pub(crate) fn fill_tables(t: &mut DecodeTables, freq: &[u32], cum: &[u32]) -> bool {
+    if Kernel::Avx512Wide.supported() {
+        // SAFETY: the CPU has AVX-512 F and BW (checked); the function is
+        // safe code compiled for them.
+        unsafe { fill_avx512(t, freq, cum) };
+        true
+    } else if Kernel::Avx2.supported() {
+        // SAFETY: the CPU has AVX2 (checked); the function is safe code
+        // compiled for it.
+        unsafe { fill_avx2(t, freq, cum) };
+        true
+    } else {
+        false
+    }
+}
+
+#[target_feature(enable = "avx512f,avx512bw")]
+fn fill_avx512(t: &mut DecodeTables, freq: &[u32], cum: &[u32]) {
+    fill_spans(t, freq, cum);
+}
+
+#[target_feature(enable = "avx2")]
+fn fill_avx2(t: &mut DecodeTables, freq: &[u32], cum: &[u32]) {
+    fill_spans(t, freq, cum);
 }
 
 /// Decodes whole rows of `chunk` (row-major, one symbol per lane a row),

@@ -52,6 +52,7 @@ mod counter;
 pub mod external;
 mod fenwick;
 mod hashed;
+mod histogram;
 mod kt;
 mod logistic;
 mod matcher;
@@ -73,6 +74,7 @@ pub use context::{ContextModel, ContextParams, MAX_CONTEXT_LIMIT, MAX_CONTEXT_OR
 pub use counter::{CountingPredictor, MAX_COUNT_LIMIT};
 pub use external::{quantize_probabilities, Probability, ProbabilityAdapter};
 pub use fenwick::FenwickTree;
+pub(crate) use histogram::byte_counts;
 pub use kt::KtPredictor;
 pub use logistic::{squash, stretch, STRETCH_MAX};
 pub use mix::{MixedPredictor, Mixer, MAX_MIXER_INPUTS, MAX_MIXER_SETS};

@@ -74,11 +74,7 @@ impl TableModel {
     ///
     /// As for [`from_counts`](TableModel::from_counts); `data` must not be empty.
     pub fn from_bytes_histogram(data: &[u8], log2_total: u32) -> Result<Self> {
-        let mut counts = [0u64; 256];
-        for &b in data {
-            counts[b as usize] += 1;
-        }
-        Self::from_counts(&counts, log2_total)
+        Self::from_counts(&crate::model::byte_counts(data), log2_total)
     }
 
     /// Builds a table from probabilities (any non-negative weights; they need

@@ -120,10 +120,7 @@ fn cost(raw: &[u8], params: &[u32]) -> Result<IdealCost> {
     let mut rest = raw;
     while !rest.is_empty() {
         let (segment, next) = rest.split_at((model.segment_left() as usize).min(rest.len()));
-        let mut histogram = [0u64; 256];
-        for &b in segment {
-            histogram[usize::from(b)] += 1;
-        }
+        let histogram = crate::model::byte_counts(segment);
         for (&h, &f) in histogram.iter().zip(model.frequencies()) {
             cost.add_repeated(f, 1 << shift, h);
         }
@@ -139,14 +136,18 @@ pub(crate) fn ideal(raw: &[u8], params: &[u32]) -> Result<IdealCost> {
 }
 
 pub(crate) fn encode(raw: &[u8], params: &[u32]) -> Result<Vec<u8>> {
-    let set = byte_set(raw);
+    encode_with_set(raw, params, &byte_set(raw))
+}
+
+/// [`encode`] with the block's byte set already known.
+fn encode_with_set(raw: &[u8], params: &[u32], set: &[bool; 256]) -> Result<Vec<u8>> {
     let lanes = lanes_for(raw.len(), params[0]);
-    let mut model = RefreshModel::with_symbols(&set, refresh_params(params))?;
+    let mut model = RefreshModel::with_symbols(set, refresh_params(params))?;
     let streams = encode_refresh_lanes(&mut model, raw, lanes)?;
     let coded: usize = streams.iter().map(Vec::len).sum();
     let mut out = Vec::with_capacity(coded + 34 + 8 * lanes);
     out.push(lanes as u8);
-    put_byte_set(&mut out, &set);
+    put_byte_set(&mut out, set);
     put_lanes(&mut out, &streams);
     Ok(out)
 }
@@ -162,10 +163,8 @@ pub(crate) fn encode(raw: &[u8], params: &[u32]) -> Result<Vec<u8>> {
 /// rare one of them that does not shrink is caught by the container's
 /// length check.
 pub(crate) fn encode_or_store(raw: &[u8], params: &[u32]) -> Result<Option<Vec<u8>>> {
-    let mut counts = [0u64; 256];
-    for &b in raw {
-        counts[usize::from(b)] += 1;
-    }
+    let counts = crate::model::byte_counts(raw);
+    let set: [bool; 256] = core::array::from_fn(|b| counts[b] > 0);
     let n = raw.len() as u64;
     let log_n = log2_q32(n);
     let entropy_q32: u128 = counts
@@ -174,7 +173,7 @@ pub(crate) fn encode_or_store(raw: &[u8], params: &[u32]) -> Result<Option<Vec<u
         .map(|&c| u128::from(c) * u128::from(log_n - log2_q32(c)))
         .sum();
     if entropy_q32 < u128::from(n * 8 - n / 8) << 32 {
-        return encode(raw, params).map(Some);
+        return encode_with_set(raw, params, &set).map(Some);
     }
     let lanes = lanes_for(raw.len(), params[0]) as u64;
     let bits_q32 = cost(raw, params)?.bits_q32();
@@ -185,7 +184,7 @@ pub(crate) fn encode_or_store(raw: &[u8], params: &[u32]) -> Result<Option<Vec<u
     if 2 + floor >= raw.len() as u64 {
         return Ok(None);
     }
-    encode(raw, params).map(Some)
+    encode_with_set(raw, params, &set).map(Some)
 }
 
 pub(crate) fn decode(payload: &[u8], params: &[u32], out: &mut [u8]) -> Result<()> {

@@ -13,14 +13,14 @@ use crate::preset::corrupt;
 use crate::vint::{put_vint, Cursor};
 
 /// Appends the lane lengths (all but the last) and the lanes to `out`.
-pub(crate) fn put_lanes(out: &mut Vec<u8>, streams: &[Vec<u8>]) {
+pub(crate) fn put_lanes<S: AsRef<[u8]>>(out: &mut Vec<u8>, streams: &[S]) {
     if let Some((_, first)) = streams.split_last() {
         for s in first {
-            put_vint(out, s.len() as u64);
+            put_vint(out, s.as_ref().len() as u64);
         }
     }
     for s in streams {
-        out.extend_from_slice(s);
+        out.extend_from_slice(s.as_ref());
     }
 }
 

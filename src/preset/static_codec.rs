@@ -19,7 +19,7 @@
 
 use alloc::vec::Vec;
 
-use crate::coder::{decode_table_lanes, encode_table_lanes, log2_q32};
+use crate::coder::{decode_table_lanes, encode_counted, log2_q32};
 use crate::error::{ErrorKind, Result};
 use crate::model::TableModel;
 use crate::preset::corrupt;
@@ -69,10 +69,7 @@ pub(crate) fn encode(raw: &[u8], params: &[u32]) -> Result<Vec<u8>> {
 /// reaches the block's length, coding would be wasted work.
 pub(crate) fn encode_or_store(raw: &[u8], params: &[u32]) -> Result<Option<Vec<u8>>> {
     let (max_lanes, cap) = (params[0], params[1]);
-    let mut counts = [0u64; 256];
-    for &b in raw {
-        counts[usize::from(b)] += 1;
-    }
+    let counts = crate::model::byte_counts(raw);
     let model = TableModel::from_counts(&counts, table_log2(raw.len(), cap))?;
     let lanes = lanes_for(raw.len(), max_lanes);
     let total_log = u64::from(model.log2_total()) << 32;
@@ -95,14 +92,13 @@ pub(crate) fn encode_or_store(raw: &[u8], params: &[u32]) -> Result<Option<Vec<u
 }
 
 fn encode_with(raw: &[u8], model: &TableModel, lanes: usize) -> Result<Vec<u8>> {
-    let streams = encode_table_lanes(model, raw, lanes)?;
+    let streams = encode_counted(model, raw, lanes)?;
     let table = model.to_bytes();
-    let coded: usize = streams.iter().map(Vec::len).sum();
-    let mut out = Vec::with_capacity(coded + table.len() + 8 * lanes);
+    let mut out = Vec::with_capacity(streams.coded_len() + table.len() + 8 * lanes);
     out.push(lanes as u8);
     put_vint(&mut out, table.len() as u64);
     out.extend_from_slice(&table);
-    put_lanes(&mut out, &streams);
+    put_lanes(&mut out, &streams.views());
     Ok(out)
 }
 

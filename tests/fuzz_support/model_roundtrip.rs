@@ -5,6 +5,11 @@
 //! Input layout: eight setup bytes, the table's counts, then the steps (two
 //! bytes each).
 //!
+//! The table and refreshed steps' symbols, as bytes, also go through the
+//! lane encoders (lane count from byte 3; multiples of eight reach the
+//! vector kernels): the streams must be those of the scalar steps, and
+//! decode back.
+//!
 //! | byte | picks |
 //! | --- | --- |
 //! | 0 | the table's length, `1 + b % 64` |
@@ -22,7 +27,10 @@
 //! costs more than about a millisecond while every alphabet, limit and
 //! escape setting stays reachable.
 
-use subrange::coder::{Decoder, Encoder};
+use subrange::coder::{
+    decode_refresh_lanes, decode_table_lanes, encode_refresh_lanes, encode_refresh_lanes_scalar,
+    encode_table_lanes, encode_table_lanes_scalar, Decoder, Encoder,
+};
 use subrange::model::{
     AdaptiveModel, AdaptiveParams, Model, RefreshModel, RefreshParams, TableModel, MAX_TOTAL,
 };
@@ -90,6 +98,7 @@ pub fn check(data: &[u8]) {
         return;
     };
     let refresh_start = refresh.clone();
+    let lanes = [1, 3, 8, 16, 24, 32][usize::from(head[3] % 6)];
     // Both sides create a model; both halve it at the same steps.
     let mut work = 2 * u64::from(alphabet);
 
@@ -146,4 +155,35 @@ pub fn check(data: &[u8]) {
         assert_eq!(got, symbol);
     }
     dec.finish().expect("stream consumed exactly");
+
+    let runs = |kind: u8| -> Vec<u8> {
+        coded_plan
+            .iter()
+            .filter(|((k, _), _)| *k == kind)
+            .map(|&((_, s), _)| s as u8)
+            .collect()
+    };
+    if table.alphabet_size() <= 256 {
+        let data = runs(0);
+        let fast = encode_table_lanes(&table, &data, lanes).expect("codable bytes");
+        let slow = encode_table_lanes_scalar(&table, &data, lanes).expect("codable bytes");
+        assert!(fast == slow, "vector and scalar lane encoders disagree");
+        let views: Vec<&[u8]> = fast.iter().map(Vec::as_slice).collect();
+        let mut back = vec![0u8; data.len()];
+        decode_table_lanes(&table, &views, &mut back).expect("valid lanes");
+        assert_eq!(back, data);
+    }
+    let data = runs(3);
+    let fresh =
+        || RefreshModel::with_params(refresh_alphabet, refresh_params).expect("same params");
+    let fast = encode_refresh_lanes(&mut fresh(), &data, lanes).expect("codable bytes");
+    let slow = encode_refresh_lanes_scalar(&mut fresh(), &data, lanes).expect("codable bytes");
+    assert!(
+        fast == slow,
+        "vector and scalar refreshed lane encoders disagree"
+    );
+    let views: Vec<&[u8]> = fast.iter().map(Vec::as_slice).collect();
+    let mut back = vec![0u8; data.len()];
+    decode_refresh_lanes(&mut fresh(), &views, &mut back).expect("valid lanes");
+    assert_eq!(back, data);
 }
