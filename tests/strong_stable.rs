@@ -204,10 +204,12 @@ fn lane_inputs() -> Vec<(&'static str, Vec<u8>)> {
 
 /// Per input and kind of stream (`table`: the table lanes at three totals
 /// and every lane count; `refresh`: the refreshed lanes at six lane counts;
-/// `container`: both presets at two block sizes), the length (`u64`) and
+/// `container`: both presets at two block sizes, written without a block
+/// index so the pins hold the coded blocks alone), the length (`u64`) and
 /// CRC-32 (`u32`) of each stream, little-endian, back to back.
 fn lane_pins() -> Vec<(&'static str, &'static str, Vec<u8>)> {
     use subrange::coder::{encode_refresh_lanes, encode_table_lanes};
+    use subrange::format::IndexPolicy;
     use subrange::model::{RefreshModel, TableModel};
     use subrange::preset::Preset;
     use subrange::{compress, Options};
@@ -232,9 +234,10 @@ fn lane_pins() -> Vec<(&'static str, &'static str, Vec<u8>)> {
             add(1, &s);
         }
         for preset in ["static", "adaptive"] {
-            for block in [1usize << 20, 40_000] {
+            for block in [1u64 << 20, 40_000] {
                 let mut opts = Options::new();
                 opts.preset(Preset::from_name(preset).unwrap())
+                    .block_index(IndexPolicy::Never)
                     .block_size(block)
                     .unwrap();
                 let c = compress(&data, &opts).unwrap();
