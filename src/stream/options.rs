@@ -7,7 +7,8 @@ use crate::preset::Preset;
 /// Smallest block size [`Options::block_size`] accepts.
 pub const MIN_BLOCK_SIZE: usize = 16;
 
-/// Block size used unless set: 1 MiB.
+/// Block size used unless set, for every preset but `history`
+/// ([`Preset::default_block_size`]): 1 MiB.
 pub const DEFAULT_BLOCK_SIZE: usize = 1 << 20;
 
 /// How to compress: preset, block size, threads.
@@ -27,22 +28,13 @@ pub const DEFAULT_BLOCK_SIZE: usize = 1 << 20;
 /// # Ok(())
 /// # }
 /// ```
-#[derive(Debug, Clone, PartialEq, Eq)]
+#[derive(Debug, Clone, PartialEq, Eq, Default)]
 #[non_exhaustive]
 pub struct Options {
     preset: Preset,
-    block_size: usize,
+    /// `None`: the preset's default.
+    block_size: Option<usize>,
     threads: usize,
-}
-
-impl Default for Options {
-    fn default() -> Self {
-        Options {
-            preset: Preset::default(),
-            block_size: DEFAULT_BLOCK_SIZE,
-            threads: 0,
-        }
-    }
 }
 
 impl Options {
@@ -67,7 +59,8 @@ impl Options {
     }
 
     /// Sets the block size: the raw bytes coded as one independent block
-    /// (default 1 MiB). Larger blocks code a little better and need more
+    /// (default: [`Preset::default_block_size`], 1 MiB for every
+    /// preset but `history`, whose default is 32 MiB). Larger blocks code a little better and need more
     /// memory (a few times the block size, per thread); smaller ones limit
     /// the loss from a damaged block and the delay before output appears.
     ///
@@ -92,7 +85,7 @@ impl Options {
             }
             .into());
         }
-        self.block_size = bytes;
+        self.block_size = Some(bytes);
         Ok(self)
     }
 
@@ -117,9 +110,10 @@ impl Options {
         &self.preset
     }
 
-    /// The block size in force.
+    /// The block size in force: the one set, or the preset's default.
     pub fn get_block_size(&self) -> usize {
         self.block_size
+            .unwrap_or_else(|| self.preset.default_block_size())
     }
 
     /// The thread count in force (0: all cores).
