@@ -10,15 +10,19 @@
 //! packers of the 1990s; from memory); the details below are our own.
 //!
 //! Scanning from the start, at every position `i` with `i + 5 <= len` whose
-//! byte is `E8` or `E9` and whose displacement's top byte is `00` or `FF` (a
-//! target within 16 MiB, as real code has), the low 24 bits of the
-//! displacement get `i` added ([`to_absolute`]) or subtracted
-//! ([`to_relative`]) modulo 2^24, the top byte is left alone, and the scan
-//! resumes after the four bytes. Everywhere else it moves on by one byte.
+//! byte is `E8` or `E9`, the scan takes the four bytes after it as a
+//! displacement and resumes after them; when the displacement's top byte is
+//! `00` or `FF` (a target within 16 MiB, as real code has), its low 24 bits
+//! get `i` added ([`to_absolute`]) or subtracted ([`to_relative`]) modulo
+//! 2^24 and the top byte is left alone. Everywhere else the scan moves on by
+//! one byte.
 //!
-//! Invariant: the scan decides only on bytes the transform never changes
-//! (opcodes and top bytes), so both directions take the same decisions and
-//! `to_relative(to_absolute(x)) == x` for every byte string.
+//! Invariant: the scan's decisions read the opcode and the top byte, which
+//! no step changes, at positions no earlier step has changed (a step
+//! changes only the three bytes after its opcode, and the scan skips past
+//! them), and no later step changes them either; so both directions take
+//! the same decisions and `to_relative(to_absolute(x)) == x` for every
+//! byte string.
 //! [`looks_like_x86`] decides whether a block is worth transforming, so the
 //! transform is never applied blindly.
 //!
@@ -43,10 +47,12 @@ fn walk(data: &mut [u8], f: impl Fn(u32, u32) -> u32) {
     while i + 5 <= data.len() {
         let op = data[i];
         let top = data[i + 4];
-        if (op == 0xE8 || op == 0xE9) && (top == 0 || top == 0xFF) {
-            let low = u32::from_le_bytes([data[i + 1], data[i + 2], data[i + 3], 0]);
-            let v = f(low, i as u32) & 0xFF_FFFF;
-            data[i + 1..i + 4].copy_from_slice(&v.to_le_bytes()[..3]);
+        if op == 0xE8 || op == 0xE9 {
+            if top == 0 || top == 0xFF {
+                let low = u32::from_le_bytes([data[i + 1], data[i + 2], data[i + 3], 0]);
+                let v = f(low, i as u32) & 0xFF_FFFF;
+                data[i + 1..i + 4].copy_from_slice(&v.to_le_bytes()[..3]);
+            }
             i += 5;
         } else {
             i += 1;

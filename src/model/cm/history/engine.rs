@@ -35,7 +35,6 @@ use super::slots::Slots;
 use super::state::{next_state, StateMap};
 use crate::error::Result;
 use crate::model::cm::io::BitIo;
-use crate::model::counter::{counter_p16, counter_update, COUNTER_INIT};
 use crate::model::hashed::hash2;
 use crate::model::logistic::stretch;
 use crate::model::matcher::MatchModel;
@@ -53,8 +52,36 @@ pub(crate) const FINAL_SETS: usize = 256;
 /// Contexts of each refinement map.
 pub(crate) const APM_CONTEXTS: usize = 1 << 16;
 
-/// Count limit of the direct counters.
-const DIRECT_LIMIT: u32 = 1023;
+/// The direct counts are halved when a node's total reaches this: up to
+/// there, the estimate is the exact running frequency.
+const DIRECT_LIMIT: u32 = 1 << 16;
+
+/// A pair of bit counts `(n0, n1)` in one `u32` (16 bits each), predicting
+/// `(2 n1 + 1) / (2 n + 2)`: the Krichevsky–Trofimov estimate (from
+/// memory: Krichevsky & Trofimov, IEEE Trans. Inf. Theory, 1981), whose
+/// excess cost over a memoryless source's entropy grows only as
+/// `½ log2 n` per node, so such a source is coded at its entropy.
+#[inline(always)]
+fn counts_p16(c: u32) -> u32 {
+    let (n0, n1) = (c & 0xFFFF, c >> 16);
+    ((2 * n1 + 1) << 16) / (2 * (n0 + n1) + 2)
+}
+
+/// Counts `bit`, halving both counts when the total reaches the limit.
+#[inline(always)]
+fn counts_update(c: &mut u32, bit: bool) {
+    let (mut n0, mut n1) = (*c & 0xFFFF, *c >> 16);
+    if bit {
+        n1 += 1;
+    } else {
+        n0 += 1;
+    }
+    if n0 + n1 >= DIRECT_LIMIT {
+        n0 = n0.div_ceil(2);
+        n1 = n1.div_ceil(2);
+    }
+    *c = n0 | (n1 << 16);
+}
 
 /// The predictor state.
 pub(crate) struct Engine {
@@ -81,8 +108,8 @@ impl Engine {
             maps: StateMap::new(CONTEXTS),
             ctx: Contexts::default(),
             offs: [0; CONTEXTS],
-            order0: [COUNTER_INIT; 256],
-            order1: vec![COUNTER_INIT; 1 << 16],
+            order0: [0; 256],
+            order1: vec![0; 1 << 16],
             matcher: MatchModel::new(HistoryParams::match_bits_for(len)),
             mixer: Mixer2::new(INPUTS, SETS, FINAL_SETS, i32::from(params.rate)),
             apm1: Refiner::new(APM_CONTEXTS, 7),
@@ -165,8 +192,8 @@ impl Engine {
             x[2 * k + 1] = if s == 0 { 0 } else { (p - 32768) >> 4 };
         }
         let i = 2 * CONTEXTS;
-        x[i] = stretch(counter_p16(self.order0[c0]));
-        x[i + 1] = stretch(counter_p16(self.order1[c1 << 8 | c0]));
+        x[i] = stretch(counts_p16(self.order0[c0]));
+        x[i + 1] = stretch(counts_p16(self.order1[c1 << 8 | c0]));
         x[i + 2] = self.matcher.input();
         x[i + 3] = match self.matcher.expected() {
             Some(b) => {
@@ -211,8 +238,8 @@ impl Engine {
             self.maps.update(k, s, bit);
             bytes[at] = next_state(s, bit);
         }
-        counter_update(&mut self.order0[c0], bit, DIRECT_LIMIT);
-        counter_update(&mut self.order1[c1 << 8 | c0], bit, DIRECT_LIMIT);
+        counts_update(&mut self.order0[c0], bit);
+        counts_update(&mut self.order1[c1 << 8 | c0], bit);
         self.matcher.update_bit(bit);
     }
 

@@ -13,7 +13,8 @@
 //! apart, and the second layer learns which one to believe when.
 //!
 //! The learning rate starts high and falls with the bits coded towards its
-//! floor, so the weights settle fast and then stop jittering: on stationary
+//! floor (as `1/t`, the annealing of stochastic gradient descent), so the
+//! weights settle fast and then stop jittering: on stationary
 //! data the mixing noise, which costs bits, shrinks as the block goes on.
 //!
 //! Fixed point: inputs and sums carry 8 fractional bits and stay within
@@ -36,7 +37,7 @@ pub(crate) const MAX_INPUTS: usize = 48;
 /// Weight sets in use at once in the first layer.
 pub(crate) const SELECTORS: usize = 3;
 
-/// Largest weight magnitude (8.0).
+/// Largest weight magnitude (8.0). Weights start at `1 / n`.
 const WEIGHT_LIMIT: i32 = (8 << 16) - 1;
 
 /// The two-layer mixer.
@@ -77,7 +78,7 @@ impl Mixer2 {
             base[k] = total;
             total += sets[k] * n;
         }
-        let w0 = (65536 / 4).min(WEIGHT_LIMIT);
+        let w0 = (65536 / n.max(1) as i32).min(WEIGHT_LIMIT);
         let mut final_w = vec![0; final_sets * (SELECTORS + 1)];
         for (i, w) in final_w.iter_mut().enumerate() {
             if i % (SELECTORS + 1) < SELECTORS {
@@ -167,8 +168,8 @@ impl Mixer2 {
         }
         self.bits += 1;
         if self.bits & 1023 == 0 {
-            // Rate falls as 1 / (1 + bits / 2^16) towards the floor.
-            let decayed = (16 * 16 * 65536 / (65536 + (self.bits >> 4) as i64)) as i32;
+            // Rate falls as 1 / (1 + bits / 2^16) to the floor.
+            let decayed = (16 * 16 * 65536 / (65536 + self.bits as i64)) as i32;
             self.rate = decayed.max(self.floor);
             self.final_rate = (decayed / 4).max(self.floor / 4).max(2);
         }
