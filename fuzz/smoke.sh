@@ -30,6 +30,7 @@ build_flags() {
 run_flags() {
   case "$1" in
     roundtrip) echo -max_len=2056 ;;
+    decode_history) echo -max_len=2050 ;;
   esac
   if [ -f "dicts/$1.dict" ]; then echo "-dict=dicts/$1.dict"; fi
 }

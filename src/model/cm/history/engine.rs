@@ -49,8 +49,15 @@ pub(crate) const SETS: [usize; 3] = [4 * 256, 8 * 256, 256 * 8];
 /// Second-layer weight sets.
 pub(crate) const FINAL_SETS: usize = 256;
 
-/// Contexts of each refinement map.
-pub(crate) const APM_CONTEXTS: usize = 1 << 16;
+/// Contexts of each refinement map for a block of `len` bytes: 16 per
+/// byte, from 2^10 to 2^16 (a short block cannot visit more, and sets up
+/// in microseconds).
+fn apm_contexts(len: usize) -> usize {
+    len.saturating_mul(16)
+        .checked_next_power_of_two()
+        .unwrap_or(usize::MAX)
+        .clamp(1 << 10, 1 << 16)
+}
 
 /// The direct counts are halved when a node's total reaches this: up to
 /// there, the estimate is the exact running frequency.
@@ -112,8 +119,8 @@ impl Engine {
             order1: vec![0; 1 << 16],
             matcher: MatchModel::new(HistoryParams::match_bits_for(len)),
             mixer: Mixer2::new(INPUTS, SETS, FINAL_SETS, i32::from(params.rate)),
-            apm1: Refiner::new(APM_CONTEXTS, 7),
-            apm2: Refiner::new(APM_CONTEXTS, 7),
+            apm1: Refiner::new(apm_contexts(len), 7),
+            apm2: Refiner::new(apm_contexts(len), 7),
             warm: 0,
         })
     }
@@ -126,7 +133,7 @@ impl Engine {
             + 4 * (1 << 16)
             + MatchModel::memory_needed(HistoryParams::match_bits_for(len))
             + Mixer2::memory_needed(INPUTS, SETS, FINAL_SETS)
-            + 2 * Refiner::memory_needed(APM_CONTEXTS)
+            + 2 * Refiner::memory_needed(apm_contexts(len))
     }
 
     /// Finds the nibble slots of every context; `c0` is the partial byte
