@@ -82,9 +82,9 @@ mod tests {
             .map(|p| p.default)
             .collect();
         assert_eq!(params(&d).unwrap(), HistoryParams::default());
-        assert!(params(&[3, 1, 24]).is_err());
-        assert!(params(&[128, 2, 24]).is_err());
+        assert!(params(&[3, 1, 32]).is_err());
+        assert!(params(&[128, 2, 32]).is_err());
         assert!(params(&[128, 1, 0]).is_err());
-        assert_eq!(memory(&[3, 1, 24], 10), u64::MAX);
+        assert_eq!(memory(&[3, 1, 32], 10), u64::MAX);
     }
 }

@@ -301,7 +301,7 @@ const HISTORY_PARAMS: &[ParamSpec] = &[
     },
     ParamSpec {
         name: "rate",
-        default: 24,
+        default: 32,
         min: 1,
         max: 255,
         help: "settled mixer learning rate (lower: steadier on stationary data)",

@@ -5,9 +5,10 @@
 //! - for each of the [`CONTEXTS`] hashed contexts, the bit history of the
 //!   current tree node in the context's nibble slot, mapped to a
 //!   probability by that context's [`StateMap`]; two inputs: the stretched
-//!   probability, and a confidence term `p - ½` (linear, so a near-certain
-//!   history does not saturate the sum); a history never seen gives 0 for
-//!   the confidence;
+//!   probability, and the same again when the history is a run (a
+//!   deterministic context: only one bit value seen), else 0, so the mixer
+//!   weighs deterministic contexts on their own (a linear confidence term
+//!   `p - ½` in this place measured 3 % worse on text);
 //! - order 0 and order 1 from direct tables of counters with `1/n`
 //!   adaptation: a memoryless source is learned as fast as counting allows;
 //! - the match model: its learned confidence for the current length, and
@@ -32,7 +33,7 @@ use super::mixer::Mixer2;
 use super::params::HistoryParams;
 use super::refine::Refiner;
 use super::slots::Slots;
-use super::state::{next_state, StateMap};
+use super::state::{next_state, StateMap, RUN};
 use crate::error::Result;
 use crate::model::cm::io::BitIo;
 use crate::model::hashed::hash2;
@@ -196,7 +197,7 @@ impl Engine {
             let s = bytes[self.offs[k] + node];
             let p = self.maps.p(k, s) as i32;
             x[2 * k] = stretch(p as u32);
-            x[2 * k + 1] = if s == 0 { 0 } else { (p - 32768) >> 4 };
+            x[2 * k + 1] = if RUN[usize::from(s)] { x[2 * k] } else { 0 };
         }
         let i = 2 * CONTEXTS;
         x[i] = stretch(counts_p16(self.order0[c0]));

@@ -33,7 +33,7 @@ pub struct HistoryParams {
     /// Detect x86 code in each block and transform its call and jump
     /// targets (default `true`; see [`x86`](crate::model::x86)).
     pub x86: bool,
-    /// Settled learning rate of the mixer, `1 ..= 255` (default 24): lower
+    /// Settled learning rate of the mixer, `1 ..= 255` (default 32): lower
     /// is steadier on stationary data, higher follows change faster.
     pub rate: u8,
 }
@@ -43,7 +43,7 @@ impl Default for HistoryParams {
         HistoryParams {
             mem_log2: 7,
             x86: true,
-            rate: 24,
+            rate: 32,
         }
     }
 }
