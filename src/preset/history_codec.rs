@@ -87,4 +87,15 @@ mod tests {
         assert!(params(&[128, 1, 0]).is_err());
         assert_eq!(memory(&[3, 1, 32], 10), u64::MAX);
     }
+
+    #[test]
+    fn default_containers_decode_within_the_default_limit() {
+        let p = crate::preset::Preset::new(PresetKind::History);
+        let need = p.memory_needed(p.default_block_size() as u64);
+        let limit = crate::format::DecodeLimits::default().memory_limit();
+        assert!(need <= limit, "{need} > {limit}");
+        assert!(need > 200 << 20, "{need}");
+        // Short blocks take little.
+        assert!(p.memory_needed(4096) < 4 << 20, "{}", p.memory_needed(4096));
+    }
 }

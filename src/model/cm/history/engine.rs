@@ -50,11 +50,11 @@ pub(crate) const SETS: [usize; 3] = [4 * 256, 8 * 256, 256 * 8];
 /// Second-layer weight sets.
 pub(crate) const FINAL_SETS: usize = 256;
 
-/// Contexts of each refinement map for a block of `len` bytes: 16 per
-/// byte, from 2^10 to 2^16 (a short block cannot visit more, and sets up
-/// in microseconds).
+/// Contexts of each refinement map for a block of `len` bytes: two per
+/// byte, from 2^10 to 2^16 (a short block visits few, and sets up in
+/// microseconds).
 fn apm_contexts(len: usize) -> usize {
-    len.saturating_mul(16)
+    len.saturating_mul(2)
         .checked_next_power_of_two()
         .unwrap_or(usize::MAX)
         .clamp(1 << 10, 1 << 16)
