@@ -10,7 +10,10 @@
 //!   detected from repeated distances between equal bytes; the byte one
 //!   record back ("above") with the last byte, and with the byte two records
 //!   back. Without a detected length the previous line stands in, so the
-//!   column of text tables works alike.
+//!   column of text tables works alike;
+//! - the column: the byte above in the previous line, with the column (for
+//!   text tables whose lines differ in length, where no record length
+//!   holds).
 //!
 //! Record detection: for each byte value, the distance to its previous
 //! occurrence is a vote; a candidate length gains on a vote for it and loses
@@ -25,7 +28,7 @@ use crate::model::hashed::hash2;
 use crate::model::word::WordContext;
 
 /// Hashed contexts.
-pub(crate) const CONTEXTS: usize = 11;
+pub(crate) const CONTEXTS: usize = 12;
 
 /// Votes a record length needs.
 const RECORD_VOTES: u32 = 12;
@@ -132,6 +135,13 @@ impl Contexts {
         if back > 1 {
             return 0;
         }
+        self.line_above(history)
+    }
+
+    /// The byte in the previous line at the next byte's column, 0 if none.
+    #[inline]
+    fn line_above(&self, history: &[u8]) -> u64 {
+        let pos = history.len();
         let col = pos - self.line_start;
         let at = self.prev_line_start + col;
         if self.line_start > 0 && at < self.line_start {
@@ -146,6 +156,8 @@ impl Contexts {
         let c1 = c & 0xFF;
         let a1 = self.above(history, 1);
         let a2 = self.above(history, 2);
+        let col = (history.len() - self.line_start).min(255) as u64;
+        let column = hash2(self.line_above(history) | (col << 8), 13);
         let h = &mut self.hashes;
         h[0] = hash2(c1, 1);
         h[1] = hash2(c & 0xFFFF, 2);
@@ -160,6 +172,7 @@ impl Contexts {
         let rec = self.record.min(0xFFFF) as u64;
         h[9] = hash2(a1 | (c1 << 8) | (rec << 16), 11);
         h[10] = hash2(a1 | (a2 << 8) | (rec << 16), 12);
+        h[11] = column;
     }
 }
 
