@@ -188,6 +188,7 @@ fn memory_stays_within_the_estimate_as_payloads_grow() {
 #[test]
 fn history_checks_hold_on_real_and_damaged_payloads() {
     use subrange::model::cm::{encode_history, HistoryParams};
+    let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
     let text = subrange::corpus::gauge_csv(12, 900);
     let mut p = HistoryParams::default();
     p.mem_log2 = 0;
