@@ -30,7 +30,7 @@
 //!   word and column contexts and a match model, logistically mixed and
 //!   refined; strong and slow.
 //! - `history` (id 6): the strongest model: bit-history (indirect) context
-//!   models of orders 1–6, words, sparse and record contexts, direct order
+//!   models of orders 1–4 and 6, words, column, sparse and record contexts, direct order
 //!   0 and 1, a match model, two mixing layers and a chain of refinement
 //!   maps, with x86 code detected per block and its call targets
 //!   transformed; 32 MiB blocks by default ([`Preset::default_block_size`]).
