@@ -30,6 +30,7 @@ build_flags() {
 run_flags() {
   case "$1" in
     roundtrip) echo -max_len=2056 ;;
+    decode_history) echo -max_len=2050 ;;
   esac
   # The index target reads containers too: the container dictionary.
   case "$1" in

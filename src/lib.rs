@@ -14,8 +14,9 @@
 //!   and [`RefreshModel`](model::RefreshModel), whose table is rebuilt at
 //!   intervals so it codes over the fast lanes), a
 //!   [`ContextModel`](model::ContextModel) over the previous bytes, bit
-//!   predictors, logistic mixing and the context-mixing engines of the
-//!   `order2` and `mix` presets.
+//!   predictors, logistic mixing, the context-mixing engines of the
+//!   `order2`, `mix` and `history` presets, and the reversible x86
+//!   call-target transform ([`model::x86`]).
 //! - [`batch`]: whole arrays in one call: any model over a slice, values
 //!   under a set of tables chosen per value, per-value probability vectors.
 //! - [`prime`]: small messages coded from a saved, checksummed model snapshot.

@@ -114,6 +114,19 @@ impl MatchModel {
         (self.active != IDLE).then_some(self.active & 1 == 1)
     }
 
+    /// The expected next bit while the match still predicts the current
+    /// byte (before [`update_bit`](MatchModel::update_bit) of that bit).
+    #[inline]
+    pub(crate) fn expected(&self) -> Option<bool> {
+        (self.predicted != 0).then_some((self.predicted >> self.depth) & 1 == 1)
+    }
+
+    /// The current match length (0 when idle).
+    #[inline]
+    pub(crate) fn length(&self) -> u32 {
+        self.len
+    }
+
     /// The stretched prediction for the next bit (0 when there is none).
     #[inline]
     pub(crate) fn input(&mut self) -> i32 {

@@ -64,6 +64,7 @@ mod serial;
 pub mod snapshot;
 mod table;
 mod word;
+pub mod x86;
 
 pub use adaptive::{AdaptiveModel, AdaptiveParams};
 pub use apm::Apm;

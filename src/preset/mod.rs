@@ -28,7 +28,12 @@
 //!   order-2 conditional entropy.
 //! - `mix` (id 4): the strongest model: hashed contexts of orders 1 to 6,
 //!   word and column contexts and a match model, logistically mixed and
-//!   refined; slowest, smallest output on text and records.
+//!   refined; strong and slow.
+//! - `history` (id 6): the strongest model: bit-history (indirect) context
+//!   models of orders 1–4 and 6, words, column, sparse and record contexts, direct order
+//!   0 and 1, a match model, two mixing layers and a chain of refinement
+//!   maps, with x86 code detected per block and its call targets
+//!   transformed; 32 MiB blocks by default ([`Preset::default_block_size`]).
 //!
 //! In a container, an `order2` or `mix` block whose first sixteenth (at least
 //! 64 KiB) does not shrink is stored without coding the rest, and a `static`
@@ -51,6 +56,7 @@
 
 mod adaptive_codec;
 mod cm_codec;
+mod history_codec;
 mod lanes;
 mod static_codec;
 mod stepwise_codec;
@@ -66,7 +72,8 @@ pub const MAX_PARAMS: usize = 8;
 
 /// Valid preset names, for messages (a unit test keeps it in step with
 /// [`PresetKind::ALL`]).
-const NAME_LIST: &str = "unknown preset name: expected one of static, adaptive, order2, mix";
+const NAME_LIST: &str =
+    "unknown preset name: expected one of static, adaptive, order2, mix, history";
 
 /// One integer parameter of a preset: its name, default and valid range.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -102,8 +109,13 @@ pub enum PresetKind {
     Stepwise,
     /// The fast order-2 context model, restarted at each block.
     Order2,
-    /// The strongest mixing model, restarted at each block.
+    /// Orders 1–6, word and column contexts and a match model, mixed;
+    /// restarted at each block.
     Mix,
+    /// Bit-history context models, two mixing layers and a refinement
+    /// chain, x86 code detected per block; the strongest model, restarted
+    /// at each block (of 32 MiB by default).
+    History,
 }
 
 /// The lane count of the lane-coded presets.
@@ -258,6 +270,33 @@ const MIX_PARAMS: &[ParamSpec] = &[
     PRECISE,
 ];
 
+const HISTORY_PARAMS: &[ParamSpec] = &[
+    ParamSpec {
+        name: "memory_mib",
+        default: 128,
+        min: 1,
+        max: 1024,
+        help: "most context slot memory in MiB, a power of two (a block of n bytes uses at most 256 n)",
+        absent: None,
+    },
+    ParamSpec {
+        name: "x86",
+        default: 1,
+        min: 0,
+        max: 1,
+        help: "detect x86 code per block and code its call/jump targets as absolute (1), or never (0)",
+        absent: None,
+    },
+    ParamSpec {
+        name: "rate",
+        default: 32,
+        min: 1,
+        max: 255,
+        help: "settled mixer learning rate (lower: steadier on stationary data)",
+        absent: None,
+    },
+];
+
 impl PresetKind {
     /// Every preset kind this release offers for writing, fastest first.
     pub const ALL: &'static [PresetKind] = &[
@@ -265,6 +304,7 @@ impl PresetKind {
         PresetKind::Adaptive,
         PresetKind::Order2,
         PresetKind::Mix,
+        PresetKind::History,
     ];
 
     /// Preset kinds kept only so that older containers decode.
@@ -278,6 +318,7 @@ impl PresetKind {
             PresetKind::Order2 => 3,
             PresetKind::Mix => 4,
             PresetKind::Adaptive => 5,
+            PresetKind::History => 6,
         }
     }
 
@@ -289,6 +330,7 @@ impl PresetKind {
             PresetKind::Stepwise => "stepwise",
             PresetKind::Order2 => "order2",
             PresetKind::Mix => "mix",
+            PresetKind::History => "history",
         }
     }
 
@@ -306,7 +348,10 @@ impl PresetKind {
             }
             PresetKind::Order2 => "order-2 context model, bit by bit; fast, near order-2 entropy",
             PresetKind::Mix => {
-                "orders 1-6, word, column and match models, logistically mixed; smallest, slowest"
+                "orders 1-6, word, column and match models, logistically mixed; strong, slow"
+            }
+            PresetKind::History => {
+                "bit-history contexts, two-layer mixing, x86 and record models, 32 MiB blocks; smallest, slowest"
             }
         }
     }
@@ -319,6 +364,7 @@ impl PresetKind {
             PresetKind::Stepwise => STEPWISE_PARAMS,
             PresetKind::Order2 => ORDER2_PARAMS,
             PresetKind::Mix => MIX_PARAMS,
+            PresetKind::History => HISTORY_PARAMS,
         }
     }
 
@@ -512,6 +558,26 @@ impl Preset {
         &self.values[..self.kind.param_specs().len()]
     }
 
+    /// The block size a container uses with this preset unless told
+    /// otherwise: 32 MiB for `history` (whole inputs up to that size, as
+    /// its models keep learning over the block; one block codes on one
+    /// core), 1 MiB for the others.
+    ///
+    /// # Example
+    ///
+    /// ```
+    /// use subrange::preset::Preset;
+    ///
+    /// assert_eq!(Preset::from_name("history").unwrap().default_block_size(), 32 << 20);
+    /// assert_eq!(Preset::from_name("mix").unwrap().default_block_size(), 1 << 20);
+    /// ```
+    pub fn default_block_size(&self) -> u64 {
+        match self.kind {
+            PresetKind::History => 32 << 20,
+            _ => 1 << 20,
+        }
+    }
+
     /// The parameter descriptions.
     pub fn param_specs(&self) -> &'static [ParamSpec] {
         self.kind.param_specs()
@@ -568,6 +634,7 @@ impl Preset {
             PresetKind::Stepwise => stepwise_codec::check(self.params()),
             PresetKind::Order2 => cm_codec::order2_params(self.params()).map(drop),
             PresetKind::Mix => cm_codec::mix_params(self.params()).map(drop),
+            PresetKind::History => history_codec::params(self.params()).map(drop),
         }
     }
 
@@ -589,6 +656,7 @@ impl Preset {
             PresetKind::Stepwise => stepwise_codec::encode(raw, self.params()),
             PresetKind::Order2 => cm_codec::encode_o2(raw, self.params()),
             PresetKind::Mix => cm_codec::encode_mx(raw, self.params()),
+            PresetKind::History => history_codec::encode(raw, self.params()),
         }
     }
 
@@ -610,6 +678,9 @@ impl Preset {
                 cm_codec::encode_o2_or_store(raw, self.params())
             }
             PresetKind::Mix if !raw.is_empty() => cm_codec::encode_mx_or_store(raw, self.params()),
+            PresetKind::History if !raw.is_empty() => {
+                history_codec::encode_or_store(raw, self.params())
+            }
             _ => self.encode_block(raw).map(Some),
         }
     }
@@ -671,6 +742,7 @@ impl Preset {
             PresetKind::Stepwise => stepwise_codec::decode(payload, self.params(), out),
             PresetKind::Order2 => cm_codec::decode_o2(payload, self.params(), out),
             PresetKind::Mix => cm_codec::decode_mx(payload, self.params(), out),
+            PresetKind::History => history_codec::decode(payload, self.params(), out),
         }
     }
 
@@ -707,6 +779,7 @@ impl Preset {
             PresetKind::Stepwise => stepwise_codec::ideal(raw, self.params()),
             PresetKind::Order2 => cm_codec::ideal_o2(raw, self.params()),
             PresetKind::Mix => cm_codec::ideal_mx(raw, self.params()),
+            PresetKind::History => history_codec::ideal(raw, self.params()),
         }
     }
 
@@ -731,6 +804,7 @@ impl Preset {
             PresetKind::Stepwise => stepwise_codec::model_memory(),
             PresetKind::Order2 => cm_codec::order2_memory(self.params(), block_size),
             PresetKind::Mix => cm_codec::mix_memory(self.params(), block_size),
+            PresetKind::History => history_codec::memory(self.params(), block_size),
         };
         buffers.saturating_add(model)
     }

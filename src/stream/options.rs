@@ -38,7 +38,8 @@ use crate::preset::Preset;
 /// Smallest block size [`Options::block_size`] accepts.
 pub const MIN_BLOCK_SIZE: u64 = 16;
 
-/// Block size used unless set: 1 MiB.
+/// Block size used unless set, for every preset but `history`
+/// ([`Preset::default_block_size`]): 1 MiB.
 pub const DEFAULT_BLOCK_SIZE: u64 = 1 << 20;
 
 /// Most threads [`Options::threads`] and [`DecodeOptions::threads`] use
@@ -68,7 +69,8 @@ pub const MAX_THREADS: usize = 256;
 #[non_exhaustive]
 pub struct Options {
     preset: Preset,
-    block_size: u64,
+    /// `None`: the preset's default.
+    block_size: Option<u64>,
     threads: usize,
     index: IndexPolicy,
     in_flight: usize,
@@ -79,7 +81,7 @@ impl Default for Options {
     fn default() -> Self {
         Options {
             preset: Preset::default(),
-            block_size: DEFAULT_BLOCK_SIZE,
+            block_size: None,
             threads: 0,
             index: IndexPolicy::Auto,
             in_flight: 0,
@@ -111,10 +113,11 @@ impl Options {
     }
 
     /// Sets the block size: the raw bytes coded as one independent block
-    /// (default 1 MiB). Larger blocks code a little better and need more
-    /// memory (see [`memory_bound`](Options::memory_bound)); smaller ones
-    /// limit the loss from a damaged block and the delay before output
-    /// appears. Whether the default reader can decode the blocks of a
+    /// (default: [`Preset::default_block_size`], 1 MiB for every preset
+    /// but `history`, whose default is 32 MiB). Larger blocks code a little
+    /// better and need more memory (see [`memory_bound`](Options::memory_bound));
+    /// smaller ones limit the loss from a damaged block and the delay before
+    /// output appears. Whether the default reader can decode the blocks of a
     /// preset at this size is checked when compressing (see
     /// [`check`](Options::check)).
     ///
@@ -139,7 +142,7 @@ impl Options {
             }
             .into());
         }
-        self.block_size = bytes;
+        self.block_size = Some(bytes);
         Ok(self)
     }
 
@@ -260,7 +263,7 @@ impl Options {
     pub fn check(&self) -> Result<()> {
         crate::format::check_limit(
             "memory needed per block",
-            self.preset.memory_needed(self.block_size),
+            self.preset.memory_needed(self.get_block_size()),
             self.decoder_memory,
         )
     }
@@ -283,8 +286,8 @@ impl Options {
     pub fn memory_bound(&self) -> u64 {
         let blocks = u64::try_from(self.get_blocks_in_flight()).unwrap_or(u64::MAX);
         self.preset
-            .memory_needed(self.block_size)
-            .saturating_add(self.block_size)
+            .memory_needed(self.get_block_size())
+            .saturating_add(self.get_block_size())
             .saturating_mul(blocks)
     }
 
@@ -293,9 +296,10 @@ impl Options {
         &self.preset
     }
 
-    /// The block size in force.
+    /// The block size in force: the one set, or the preset's default.
     pub fn get_block_size(&self) -> u64 {
         self.block_size
+            .unwrap_or_else(|| self.preset.default_block_size())
     }
 
     /// The thread count in force (0: all cores).

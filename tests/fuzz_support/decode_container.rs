@@ -40,7 +40,7 @@ pub const MAX_BLOCK: u64 = 64 << 10;
 /// is walked this far only).
 pub const MAX_TOTAL: u64 = 128 << 10;
 /// Largest block size when the input holds a header of the `mix` preset
-/// (id 4), which decodes about fifty times slower per byte than `static`:
+/// (id 4) or the `history` preset (id 6), which decodes about fifty times slower per byte than `static`:
 /// a 64 KiB block decoded three times in an instrumented build came close
 /// to the 1 s timeout.
 pub const MAX_BLOCK_MIX: u64 = 16 << 10;
@@ -105,7 +105,9 @@ fn setup(data: &[u8]) -> Setup {
         data.windows(6)
             .any(|w| w[..4] == subrange::format::MAGIC && w[5] == id)
     };
-    let (max_block, total) = if holds(4) {
+    // `history` (id 6) costs about what `mix` does per byte, with a larger
+    // set-up per block.
+    let (max_block, total) = if holds(4) || holds(6) {
         (MAX_BLOCK_MIX, MAX_TOTAL_MIX)
     } else if holds(3) {
         (MAX_BLOCK, MAX_TOTAL_ORDER2)

@@ -13,6 +13,7 @@
 pub mod alloc;
 pub mod decode_container;
 pub mod decode_frame;
+pub mod decode_history;
 pub mod decode_index;
 pub mod decode_raw;
 pub mod model_roundtrip;
@@ -28,6 +29,7 @@ pub const TARGETS: &[(&str, Check)] = &[
     ("decode_container", decode_container::check),
     ("decode_frame", decode_frame::check),
     ("decode_index", decode_index::check),
+    ("decode_history", decode_history::check),
     ("decode_raw", decode_raw::check),
     ("model_roundtrip", model_roundtrip::check),
     ("mq_decode", mq_decode::check),

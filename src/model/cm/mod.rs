@@ -45,6 +45,7 @@
 
 pub(crate) mod arena;
 mod fast;
+mod history;
 mod io;
 mod params;
 mod shrink;
@@ -53,6 +54,9 @@ mod strong;
 #[cfg(feature = "std")]
 pub(crate) use fast::encode_order2_or_store;
 pub use fast::{decode_order2, encode_order2, ideal_cost_order2};
+#[cfg(feature = "std")]
+pub(crate) use history::encode_history_or_store;
+pub use history::{decode_history, encode_history, ideal_cost_history, HistoryParams};
 pub use params::{check_memory, MixParams, Order2Params};
 #[cfg(feature = "std")]
 pub(crate) use strong::encode_mix_or_store;
