@@ -93,7 +93,7 @@ fn cuts(exhaustive: bool) {
 /// depend on the preset; `exhaustive_damage_of_context_presets` (ignored by
 /// default) sweeps every position.
 fn positions(preset: Preset, n: usize, stride: usize, exhaustive: bool) -> Vec<usize> {
-    if exhaustive || !matches!(preset.name(), "order2" | "mix") {
+    if exhaustive || !matches!(preset.name(), "order2" | "mix" | "history") {
         return (0..n).collect();
     }
     (0..n)
