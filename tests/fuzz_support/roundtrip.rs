@@ -202,8 +202,10 @@ fn round_trip(
     let blocks = (data.len() as u64).div_ceil(block_size);
     // Header (at most 59 bytes: 4 + 1 + 5 + 4 + 1 + 8 x 5 + 4), a stored
     // frame of at most 13 bytes per block, an end record of at most 25
-    // bytes (docs/FORMAT.md, sections 2 to 4).
-    let bound = data.len() as u64 + 13 * blocks + 59 + 25;
+    // bytes, and for two or more blocks the block index: at most 20 bytes
+    // an entry and its 16-byte tail (docs/FORMAT.md, sections 2 to 4.1).
+    let index = if blocks >= 2 { 20 * blocks + 16 } else { 0 };
+    let bound = data.len() as u64 + 13 * blocks + 59 + 25 + index;
     assert!(
         packed.len() as u64 <= bound,
         "{} bytes packed to {}, above the stored bound {bound}",
