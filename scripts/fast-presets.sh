@@ -90,7 +90,7 @@ for name in ["text", "source", "exe", "iid"]:
     for preset in ["static", "adaptive"]:
         sr = os.path.join(dir, f"{name}.{preset}.sr")
         sc = median([bin, "compress", "-q", "-t", "1", "-p", preset, "-o", "-"], raw, sr)
-        sd = median([bin, "decompress", "-q", "-o", "-"], sr, back)
+        sd = median([bin, "decompress", "-q", "-t", "1", "-o", "-"], sr, back)
         if open(back, "rb").read() != open(raw, "rb").read():
             sys.exit(f"{name} {preset}: round trip failed")
         size = os.path.getsize(sr)

@@ -227,10 +227,10 @@ fn compressor_output_starts_once_the_blocks_in_flight_are_full() {
         std::io::Write::write_all(&mut c, &data[n * block - 1..n * block]).unwrap();
         assert!(c.total_out() > 0, "threads {threads}, in flight {n}");
     }
-    // By default, as many blocks as threads.
+    // By default, one block more than threads.
     let mut opts = subrange::Options::new();
     opts.threads(2);
-    assert_eq!(opts.get_blocks_in_flight(), 2);
+    assert_eq!(opts.get_blocks_in_flight(), 3);
 }
 
 #[test]
@@ -262,5 +262,35 @@ fn compressor_memory_follows_the_blocks_in_flight_within_its_bound() {
             peaks[1] >= peaks[0] + 3 * block,
             "{name}: peaks {peaks:?} do not follow the blocks in flight"
         );
+    }
+}
+
+#[test]
+fn compress_reader_memory_stays_within_the_bound_while_it_overlaps_io() {
+    let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    let block: u64 = 128 << 10;
+    let data = subrange::corpus::gauge_csv(9, 10 * block as usize);
+    for (name, threads, in_flight) in [
+        ("static", 1, 0),
+        ("static", 2, 0),
+        ("adaptive", 1, 2),
+        ("adaptive", 2, 5),
+        ("order2", 1, 1),
+    ] {
+        let mut opts = subrange::Options::new();
+        opts.preset(subrange::preset::Preset::from_name(name).unwrap())
+            .threads(threads)
+            .blocks_in_flight(in_flight);
+        opts.block_size(block).unwrap();
+        let mut out = Vec::with_capacity(data.len() + 4096);
+        let peak = peak_during(|| {
+            subrange::compress_reader(&data[..], &mut out, &opts).unwrap();
+        }) as u64;
+        let bound = opts.memory_bound();
+        assert!(
+            peak <= bound,
+            "{name}, {threads} threads, {in_flight} in flight: peak {peak} above {bound}"
+        );
+        assert_eq!(subrange::decompress(&out).unwrap(), data);
     }
 }

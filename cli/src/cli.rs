@@ -84,9 +84,9 @@ pub struct CompressArgs {
     #[arg(short, long, value_name = "N", value_parser = parse_threads)]
     pub threads: Option<usize>,
 
-    /// Blocks held in memory at once (default: as many as threads). Memory
-    /// stays within this many times the block size plus what a block's
-    /// model needs; output starts after this many blocks.
+    /// Blocks held in memory at once (default: one more than threads: one
+    /// is read or written while the others are coded). Memory stays within
+    /// this many times the block size plus what a block's model needs.
     #[arg(long, value_name = "N", value_parser = clap::value_parser!(u32).range(1..=4096))]
     pub blocks_in_flight: Option<u32>,
 
@@ -140,6 +140,12 @@ pub struct DecompressArgs {
     /// written to a file target when the cap is passed.
     #[arg(long, value_name = "SIZE", value_parser = parse_size)]
     pub output_limit: Option<u64>,
+
+    /// Threads decoding blocks (default: all cores; at most 256). One more
+    /// block than threads is held in memory, fewer when --memory would be
+    /// passed.
+    #[arg(short, long, value_name = "N", value_parser = parse_threads)]
+    pub threads: Option<usize>,
 
     /// Overwrite OUTPUT if it is an existing regular file. Devices, FIFOs
     /// and sockets are written in place without it.

@@ -1,7 +1,9 @@
 //! `subrange compress` and `subrange decompress`.
 //!
-//! Both stream: compressing holds `--blocks-in-flight` blocks (by default
-//! one per thread) and their models, decompressing one block and its model,
+//! Both stream through the library's reader-to-writer pipeline (reading and
+//! writing overlap the coding of other blocks): compressing holds
+//! `--blocks-in-flight` blocks (by default one more than threads) and their
+//! models, decompressing one block more than `--threads` and their models,
 //! whatever the input length. Compressing refuses options a default
 //! decompress could not read unless `--reader-memory` raises the limit on
 //! purpose; decompressing takes the matching `--memory`, and
@@ -10,12 +12,13 @@
 //! not appear at all. Standard output gets whole verified blocks as they are
 //! decoded; an error stops it after the last good block.
 
+use std::cell::Cell;
 use std::io::{self, Read, Write};
 use std::path::Path;
 
 use subrange::format::DecodeLimits;
 use subrange::stream::DecodeOptions;
-use subrange::{Compressor, Decompressor, ErrorKind, Options};
+use subrange::{ErrorKind, Options};
 
 use crate::cli::{CompressArgs, DecompressArgs};
 use crate::exit::{CliError, CliResult};
@@ -114,6 +117,7 @@ pub fn decode_limits(args: &DecompressArgs) -> DecodeLimits {
 pub fn decode_options(args: &DecompressArgs) -> DecodeOptions {
     let mut opts = DecodeOptions::new();
     opts.limits(decode_limits(args));
+    opts.threads(args.threads.unwrap_or(0));
     opts
 }
 
@@ -147,23 +151,66 @@ pub fn compress(args: &CompressArgs) -> CliResult {
     let mut out = open_output(&d, args.force, &input)?;
     let target = out.describe();
     let progress = Progress::bytes(size, args.quiet, "compressing");
-    let mut reader = progress.reader(reader);
-    let mut c = Compressor::new(&mut out, &opts);
-    let mut buf = vec![0u8; 256 << 10];
-    loop {
-        let n = match reader.read(&mut buf) {
-            Ok(0) => break,
-            Ok(n) => n,
-            Err(e) if e.kind() == io::ErrorKind::Interrupted => continue,
-            Err(e) => return Err(CliError::io(format!("cannot read {}", input.describe()), e)),
-        };
-        c.write_all(&buf[..n])
-            .map_err(|e| CliError::io(format!("cannot write {target}"), e))?;
+    let failed = Failed::default();
+    let reader = Watched::new(progress.reader(reader), &failed.read);
+    let writer = Watched::new(&mut out, &failed.write);
+    if let Err(e) = subrange::compress_reader(reader, writer, &opts) {
+        let e = io::Error::from(e);
+        return Err(if failed.read.get() {
+            CliError::io(format!("cannot read {}", input.describe()), e)
+        } else {
+            CliError::io(format!("cannot write {target}"), e)
+        });
     }
-    c.finish()
-        .map_err(|e| CliError::io(format!("cannot write {target}"), e))?;
-    drop(reader);
     out.finish()
+}
+
+/// Which side of a reader-to-writer run failed.
+#[derive(Default)]
+struct Failed {
+    read: Cell<bool>,
+    write: Cell<bool>,
+}
+
+/// A reader or writer that marks `failed` when it returns an error (other
+/// than `Interrupted`), so that a message can name the side that failed.
+struct Watched<'a, T> {
+    inner: T,
+    failed: &'a Cell<bool>,
+}
+
+impl<'a, T> Watched<'a, T> {
+    fn new(inner: T, failed: &'a Cell<bool>) -> Self {
+        Watched { inner, failed }
+    }
+
+    fn watch<U>(&self, r: io::Result<U>) -> io::Result<U> {
+        if r.as_ref()
+            .is_err_and(|e| e.kind() != io::ErrorKind::Interrupted)
+        {
+            self.failed.set(true);
+        }
+        r
+    }
+}
+
+impl<T: Read> Read for Watched<'_, T> {
+    fn read(&mut self, buf: &mut [u8]) -> io::Result<usize> {
+        let r = self.inner.read(buf);
+        self.watch(r)
+    }
+}
+
+impl<T: Write> Write for Watched<'_, T> {
+    fn write(&mut self, buf: &[u8]) -> io::Result<usize> {
+        let r = self.inner.write(buf);
+        self.watch(r)
+    }
+
+    fn flush(&mut self) -> io::Result<()> {
+        let r = self.inner.flush();
+        self.watch(r)
+    }
 }
 
 /// Runs `subrange decompress`.
@@ -177,18 +224,16 @@ pub fn decompress(args: &DecompressArgs) -> CliResult {
     let mut out = open_output(&d, args.force, &input)?;
     let target = out.describe();
     let progress = Progress::bytes(size, args.quiet, "decompressing");
-    let mut dec = Decompressor::with_options(progress.reader(reader), &decode_options(args));
-    let mut buf = vec![0u8; 256 << 10];
-    loop {
-        let n = match dec.read(&mut buf) {
-            Ok(0) => break,
-            Ok(n) => n,
-            Err(e) if e.kind() == io::ErrorKind::Interrupted => continue,
-            Err(e) => return Err(decode_error(&input, e)),
-        };
-        out.write_all(&buf[..n])
-            .map_err(|e| CliError::io(format!("cannot write {target}"), e))?;
+    let failed = Failed::default();
+    let writer = Watched::new(&mut out, &failed.write);
+    let reader = progress.reader(reader);
+    if let Err(e) = subrange::stream::decompress_reader(reader, writer, &decode_options(args)) {
+        let e = io::Error::from(e);
+        return Err(if failed.write.get() {
+            CliError::io(format!("cannot write {target}"), e)
+        } else {
+            decode_error(&input, e)
+        });
     }
-    drop(dec);
     out.finish()
 }

@@ -1,9 +1,11 @@
 //! The compressing engine shared by [`Compressor`](super::Compressor),
-//! [`compress`](super::compress) and [`compress_reader`](super::compress_reader).
+//! [`compress`](super::compress) and [`compress_reader`](super::compress_reader)
+//! (which codes its blocks in the pipeline of `super::pipeline` and hands
+//! them to [`Engine::put_block`] to be written).
 //!
 //! Raw bytes collect in a buffer of `batch` blocks (the blocks in flight of
-//! [`Options::get_blocks_in_flight`], by default the thread count); when it
-//! is full, its blocks are coded (on several threads when there are
+//! [`Options::get_blocks_in_flight`], by default one more than the thread
+//! count); when it is full, its blocks are coded (on several threads when there are
 //! several) and their records written in order. A write
 //! of at least a whole batch while the buffer is empty is coded straight from
 //! the caller's slice. Block boundaries fall at multiples of the block size
@@ -179,19 +181,41 @@ impl<W: Write> Engine<W> {
                     self.state = State::Failed;
                     io::Error::from(e)
                 })?;
-                self.put_header()?;
-                self.put(&block.frame)?;
-                let payload = block.coded.as_deref().unwrap_or(chunk);
-                self.put(payload)?;
-                if let Some(index) = &mut self.index {
-                    index.push(
-                        (block.frame.len() + payload.len()) as u64,
-                        chunk.len() as u64,
-                    );
-                }
-                self.blocks += 1;
+                self.put_coded(chunk, block)?;
             }
         }
+        Ok(())
+    }
+
+    /// Writes block number [`blocks`](Self::blocks), coded from `raw` by
+    /// the caller, and counts `raw` as taken in.
+    pub(crate) fn put_block(&mut self, raw: &[u8], block: EncodedBlock) -> io::Result<()> {
+        self.admit()?;
+        if !self.is_open() {
+            return Err(broken());
+        }
+        self.put_coded(raw, block)?;
+        self.total_in += raw.len() as u64;
+        Ok(())
+    }
+
+    /// The blocks written so far (the index of the next one).
+    pub(crate) fn blocks(&self) -> u64 {
+        self.blocks
+    }
+
+    fn put_coded(&mut self, chunk: &[u8], block: EncodedBlock) -> io::Result<()> {
+        self.put_header()?;
+        self.put(&block.frame)?;
+        let payload = block.coded.as_deref().unwrap_or(chunk);
+        self.put(payload)?;
+        if let Some(index) = &mut self.index {
+            index.push(
+                (block.frame.len() + payload.len()) as u64,
+                chunk.len() as u64,
+            );
+        }
+        self.blocks += 1;
         Ok(())
     }
 

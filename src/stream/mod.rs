@@ -48,6 +48,7 @@ mod engine;
 mod indexed;
 mod oneshot;
 mod options;
+mod pipeline;
 mod workers;
 
 pub use crate::format::{DecodeLimits, IndexPolicy, TrailingData};

@@ -18,7 +18,7 @@ use crate::format::{
 use crate::preset::Preset;
 use crate::stream::engine::Engine;
 use crate::stream::workers::Workers;
-use crate::stream::{Compressor, DecodeOptions, Decompressor, Options};
+use crate::stream::{DecodeOptions, Options};
 
 /// Turns an I/O error back into the crate error it carries, if it does.
 pub(crate) fn from_io(e: io::Error) -> Error {
@@ -191,9 +191,14 @@ pub struct Totals {
 
 /// Compresses everything `reader` gives into a container on `writer`.
 ///
-/// Batches of [`Options::get_blocks_in_flight`] blocks are read and coded
-/// at once; memory stays within [`Options::memory_bound`] whatever the
-/// input length. The writer is flushed at the end.
+/// Reading and writing (on the caller's thread) overlap the coding of the
+/// other blocks in flight ([`Options::get_blocks_in_flight`], by default
+/// one more than the threads, which code them); block buffers are reused,
+/// so raw bytes are read straight into the buffer a block is coded from.
+/// Memory stays within [`Options::memory_bound`] whatever the input
+/// length; the output is the same whatever the thread count and blocks in
+/// flight. The writer is flushed at the end. With one block in flight,
+/// blocks are read, coded and written in turn on the caller's thread.
 ///
 /// # Errors
 ///
@@ -216,37 +221,27 @@ pub struct Totals {
 /// # }
 /// ```
 pub fn compress_reader<R: Read, W: Write>(
-    mut reader: R,
+    reader: R,
     writer: W,
     options: &Options,
 ) -> Result<Totals> {
-    options.check()?;
-    let mut c = Compressor::new(writer, options);
-    let mut buf = std::vec![0u8; 256 << 10];
-    loop {
-        let n = match reader.read(&mut buf) {
-            Ok(0) => break,
-            Ok(n) => n,
-            Err(e) if e.kind() == io::ErrorKind::Interrupted => continue,
-            Err(e) => return Err(e.into()),
-        };
-        c.write_all(&buf[..n]).map_err(from_io)?;
-    }
-    c.try_finish().map_err(from_io)?;
-    Ok(Totals {
-        read: c.total_in(),
-        written: c.total_out(),
-    })
+    crate::stream::pipeline::compress(reader, writer, options)
 }
 
-/// Decompresses a container from `reader` onto `writer`, one block at a
-/// time (memory: what the preset needs for one block, two to three block
-/// sizes). The writer is flushed at the end.
+/// Decompresses a container from `reader` onto `writer`. Reading and
+/// writing (on the caller's thread) overlap the decoding of other blocks:
+/// with `options.threads` decoding threads (0: all cores), up to one block
+/// more than the threads is in flight, fewer when their memory (what the
+/// preset needs for one block, two to three block sizes, each) would pass
+/// the memory limit; with one block in flight everything runs on the
+/// caller's thread. Buffers are reused from block to block. The writer is
+/// flushed at the end.
 ///
 /// # Errors
 ///
 /// As for [`decompress`], plus the reader's or writer's I/O error. Bytes of
-/// blocks before a damaged one have been written by then.
+/// blocks before a damaged one have been written by then, and the first
+/// error in stream order is the one returned.
 ///
 /// # Example
 ///
@@ -266,14 +261,8 @@ pub fn compress_reader<R: Read, W: Write>(
 /// ```
 pub fn decompress_reader<R: Read, W: Write>(
     reader: R,
-    mut writer: W,
+    writer: W,
     options: &DecodeOptions,
 ) -> Result<Totals> {
-    let mut d = Decompressor::with_options(reader, options);
-    let written = io::copy(&mut d, &mut writer).map_err(from_io)?;
-    writer.flush()?;
-    Ok(Totals {
-        read: d.total_in(),
-        written,
-    })
+    crate::stream::pipeline::decompress(reader, writer, options)
 }

@@ -22,8 +22,9 @@
 //! and their coded records until written. Its memory stays within
 //! [`Options::memory_bound`], `blocks in flight × (block size +
 //! memory_needed(block size))`, whatever the stream length; by default the
-//! blocks in flight are the thread count, so output starts once that many
-//! blocks were written. Threads are capped at [`MAX_THREADS`].
+//! blocks in flight are one more than the thread count (one is read or
+//! written while the others are coded). Threads are capped at
+//! [`MAX_THREADS`].
 //!
 //! (The one-shot [`compress`] holds its whole input and output anyway and
 //! codes all blocks in one parallel pass.)
@@ -205,9 +206,12 @@ impl Options {
 
     /// Sets how many blocks a [`Compressor`](crate::stream::Compressor)
     /// holds at once (gathered, being coded, or coded and not yet written):
-    /// 0 (the default) means as many as the threads that code them. Output
-    /// reaches the inner writer each time that many blocks are complete,
-    /// and memory stays within [`memory_bound`](Options::memory_bound).
+    /// 0 (the default) means one more than the threads that code them.
+    /// [`compress_reader`](crate::stream::compress_reader) reads and writes
+    /// on the caller's thread while the other blocks in flight are coded
+    /// (with one block in flight it reads, codes and writes in turn); a
+    /// [`Compressor`](crate::stream::Compressor) codes the blocks it
+    /// gathered once that many are full, then writes them. Memory stays within [`memory_bound`](Options::memory_bound).
     /// Fewer blocks than threads leave threads idle; more even out blocks
     /// that take unequal times. The output is identical whatever the count.
     ///
@@ -218,7 +222,7 @@ impl Options {
     /// opts.threads(4).blocks_in_flight(6);
     /// assert_eq!(opts.get_blocks_in_flight(), 6);
     /// opts.blocks_in_flight(0);
-    /// assert_eq!(opts.get_blocks_in_flight(), 4);
+    /// assert_eq!(opts.get_blocks_in_flight(), 5);
     /// ```
     pub fn blocks_in_flight(&mut self, blocks: usize) -> &mut Self {
         self.in_flight = blocks;
@@ -281,7 +285,7 @@ impl Options {
     /// let mut opts = subrange::Options::new();
     /// opts.threads(2).block_size(1 << 20).unwrap();
     /// let one = (1 << 20) + opts.get_preset().memory_needed(1 << 20);
-    /// assert_eq!(opts.memory_bound(), 2 * one);
+    /// assert_eq!(opts.memory_bound(), 3 * one);
     /// ```
     pub fn memory_bound(&self) -> u64 {
         let blocks = u64::try_from(self.get_blocks_in_flight()).unwrap_or(u64::MAX);
@@ -308,11 +312,12 @@ impl Options {
     }
 
     /// The blocks a compressor holds at once: the count set, or when none
-    /// is, the threads that code them (all cores for a thread count of 0;
-    /// one without the `parallel` feature).
+    /// is, one more than the threads that code them (all cores for a thread
+    /// count of 0; one without the `parallel` feature), so that one block
+    /// is read or written while the others are coded.
     pub fn get_blocks_in_flight(&self) -> usize {
         match self.in_flight {
-            0 => crate::stream::workers::Workers::new(self.threads).count(),
+            0 => crate::stream::workers::Workers::new(self.threads).count() + 1,
             n => n,
         }
     }
@@ -384,12 +389,13 @@ impl DecodeOptions {
         self
     }
 
-    /// Sets how many threads the one-shot [`decompress_with_options`]
-    /// decodes blocks on (0, the default: all cores; 1: the caller's
+    /// Sets how many threads the one-shot [`decompress_with_options`] and
+    /// [`decompress_reader`] decode blocks on (0, the default: all cores; 1: the caller's
     /// thread; counts above [`MAX_THREADS`] are capped at it). The
     /// streaming [`Decompressor`] decodes on the caller's thread.
     ///
     /// [`decompress_with_options`]: crate::stream::decompress_with_options
+    /// [`decompress_reader`]: crate::stream::decompress_reader
     /// [`Decompressor`]: crate::stream::Decompressor
     ///
     /// # Example
