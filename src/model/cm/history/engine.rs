@@ -273,3 +273,24 @@ impl Engine {
         self.ctx.push(history);
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn counts_predict_without_wrapping() {
+        // (2 n1 + 1) / (2 n + 2) of 65536, the Krichevsky–Trofimov estimate.
+        assert_eq!(counts_p16(0), 32768);
+        assert_eq!(counts_p16(3 << 16 | 1), (7 << 16) / 10);
+        // Deterministic nodes of large counts stay at their end of the range.
+        assert_eq!(counts_p16(60_000 << 16), 65535);
+        assert_eq!(counts_p16(60_000), 1);
+        let mut c = 0;
+        for _ in 0..200_000 {
+            counts_update(&mut c, true);
+        }
+        assert!(c >> 16 < DIRECT_LIMIT && c & 0xFFFF == 0);
+        assert_eq!(counts_p16(c), 65535);
+    }
+}

@@ -4,7 +4,7 @@
 //! On a memoryless source the order-0 `1/n` counts (the Krichevsky–Trofimov
 //! estimate) cost the entropy plus `½ log2 n` per tree node, while the
 //! mixer and the refinement chain, however well they learn, keep some
-//! noise of their own (about 0.2 % on i.i.d. bytes). The referee measures
+//! noise of their own, which a memoryless source never pays back. The referee measures
 //! both: it keeps the difference of their code lengths, `log2` of the ratio
 //! of the probabilities they gave the coded bit, in 1/4096 bit, decayed by
 //! `2^-DECAY` per bit (a window of about 64 Ki bits). The coded
