@@ -136,9 +136,10 @@ fn containers_are_the_same_for_any_thread_count() {
 /// Theory, 2nd ed., ch. 5): no code takes fewer than `n·H` bits on average
 /// for `n` draws of a memoryless source of entropy `H`, and a good adaptive
 /// model comes close. Bytes drawn independently from a fixed distribution
-/// over 16 symbols must cost within 0.25 % of `n·H` (measured: 0.22 % for
-/// these 2^19 bytes; the project's target is 0.2 %). The `mix` engine, with
-/// no order-0 input, is over 1 % above.
+/// over 16 symbols must cost within 0.2 % of `n·H` (the project's target;
+/// measured: at most `n·H` for these 2^19 bytes, whose own frequencies fall
+/// slightly below `H`). The `mix` engine, with no order-0 input, is over
+/// 1 % above.
 #[test]
 fn memoryless_source_costs_its_entropy() {
     let freq = [64u32, 40, 32, 24, 20, 16, 12, 10, 8, 8, 6, 5, 4, 3, 2, 2];
@@ -153,7 +154,7 @@ fn memoryless_source_costs_its_entropy() {
     let bits = 8.0 * coded.len() as f64;
     assert!(bits >= bound * 0.99, "{bits} {bound}");
     assert!(
-        bits <= bound * 1.0025,
+        bits <= bound * 1.002,
         "{:.4} % above n·H",
         100.0 * (bits / bound - 1.0)
     );
@@ -231,8 +232,8 @@ fn output_is_pinned() {
 }
 
 const PINS: [(usize, u32); 4] = [
-    (6431, 0x079C6814),
-    (1633, 0xAB12F303),
+    (6433, 0xDB46640A),
+    (1632, 0x526EB0E3),
     (5592, 0x2F5752EF),
-    (116, 0xC6460F78),
+    (116, 0xD08EF4BD),
 ];

@@ -15,7 +15,8 @@
 //! - *adaptive probability maps* with interpolation, in a chain keyed by
 //!   order 1 and order 2 (secondary estimation, from the same textbook);
 //! - orders 1–4 and 6, word, sparse and record contexts ([`contexts`]), a
-//!   direct order 0 and order 1 with `1/n` counting, and a match model over
+//!   direct order 0 and order 1 with `1/n` counting (the order-0 counts
+//!   coded in place of the mix while they predict better, [`referee`]), and a match model over
 //!   the whole block with a minimum length and a backward check
 //!   ([`MatchModel`](crate::model::matcher));
 //! - the x86 call/jump target transform ([`x86`](crate::model::x86)),
@@ -52,6 +53,7 @@ mod contexts;
 mod engine;
 mod mixer;
 mod params;
+mod referee;
 mod refine;
 mod slots;
 mod state;
