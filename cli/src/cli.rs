@@ -208,7 +208,7 @@ pub struct BenchArgs {
     pub json: bool,
 
     /// Bytes per data set of the demo corpus (suffixes K, M, G).
-    #[arg(long, value_name = "SIZE", default_value = "1M", value_parser = parse_size)]
+    #[arg(long, value_name = "SIZE", default_value = "512K", value_parser = parse_size)]
     pub corpus_size: u64,
 
     /// Timed runs per measurement; the best is reported. Measurements that
