@@ -216,8 +216,8 @@ impl<S: ByteSink> Encoder<S> {
         self.bit_step(bit, p1, bound)
     }
 
-    /// Codes one binary decision with the coarser split of streams written
-    /// by earlier builds: `bound = (range >> 16) · p1`, which drops the low
+    /// Codes one binary decision with the coarser split of streams whose
+    /// header records `precise=0`: `bound = (range >> 16) · p1`, which drops the low
     /// 16 bits of the range and so costs up to 2^-8 (typically 2^-12) of a
     /// bit's share. Kept so that such streams (the `order2` and `mix`
     /// containers with `precise` 0) still decode; new streams use

@@ -17,9 +17,8 @@
 //!   to store, follows drifting statistics, nearly as fast as `static`.
 //! - `stepwise` (id 2), kept for reading: an
 //!   [`AdaptiveModel`](crate::model::AdaptiveModel) over 256 symbols,
-//!   restarted at every block, updated after every byte, one coder lane. It
-//!   was the adaptive preset of earlier builds; containers that use it still
-//!   decode, and [`Preset::new`] still writes it, but it is not offered
+//!   restarted at every block, updated after every byte, one coder lane.
+//!   Containers that use it (preset id 2) decode, and [`Preset::new`] still writes it, but it is not offered
 //!   among the presets ([`PresetKind::ALL`], the command line): `adaptive`
 //!   compresses about as well at several times its speed in both
 //!   directions.
@@ -104,8 +103,8 @@ pub enum PresetKind {
     /// over lanes.
     Adaptive,
     /// An adaptive order-0 model updated after every byte, restarted at
-    /// each block, one lane; kept so that containers of earlier builds
-    /// decode (not among [`PresetKind::ALL`]).
+    /// each block, one lane; containers with preset id 2 decode (not among
+    /// [`PresetKind::ALL`]).
     Stepwise,
     /// The fast order-2 context model, restarted at each block.
     Order2,

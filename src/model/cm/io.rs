@@ -4,7 +4,7 @@
 //! encoding side codes the bit it is given, the decoding side ignores it and
 //! returns the decoded bit. Both sides thus run literally the same model code,
 //! which is what keeps their states identical. [`Coarse`] codes with the
-//! coarser binary step of streams written by earlier builds.
+//! coarser binary step of streams whose header records `precise=0`.
 
 use crate::coder::{ByteSink, ByteSource, Decoder, Encoder};
 use crate::error::Result;

@@ -57,7 +57,7 @@ pub struct Order2Params {
     pub limit: u16,
     /// Code bits with the coder's precise binary step
     /// ([`Encoder::encode_bit`](crate::coder::Encoder::encode_bit), default
-    /// `true`); `false` is the coarse step of streams from earlier builds.
+    /// `true`); `false` is the coarse step (`precise=0` in a header).
     pub precise: bool,
 }
 
@@ -195,7 +195,7 @@ pub struct MixParams {
     pub rate: u8,
     /// Code bits with the coder's precise binary step
     /// ([`Encoder::encode_bit`](crate::coder::Encoder::encode_bit), default
-    /// `true`); `false` is the coarse step of streams from earlier builds.
+    /// `true`); `false` is the coarse step (`precise=0` in a header).
     pub precise: bool,
 }
 
