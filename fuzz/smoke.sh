@@ -43,7 +43,7 @@ python3 gen_seeds.py
 targets=$("${fuzz[@]}" list)
 "${fuzz[@]}" build -O -s none
 for t in $targets; do
-  mkdir -p "corpus/$t"
+  mkdir -p "corpus/$t" "seeds/$t"
   echo "-- $t (${secs}s)"
   # shellcheck disable=SC2046 # the flags are words
   "${fuzz[@]}" run -O -s none $(build_flags "$t") "$t" "corpus/$t" "seeds/$t" -- \
