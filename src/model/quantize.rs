@@ -114,7 +114,7 @@ impl PartialOrd for Move {
 }
 
 /// The best entry of `heap` that still describes the table, dropping stale
-/// ones (recorded at a frequency the symbol no longer has).
+/// stale ones (recorded at a frequency other than the symbol's current one).
 fn current<T: Ord + Copy>(
     heap: &mut BinaryHeap<T>,
     freq: &[u32],

@@ -55,7 +55,7 @@ pub const MAX_TOTAL_ORDER2: u64 = 32 << 10;
 /// Memory limits to choose from: loose, middling, and near what a 64 KiB
 /// block needs (`adaptive` passes the last one, `static` does not), so
 /// that the per-block promise is tested where it binds.
-const MEMORY_LIMITS: [u64; 4] = [64 << 20, 1 << 20, 256 << 10, 144 << 10];
+pub const MEMORY_LIMITS: [u64; 4] = [64 << 20, 1 << 20, 256 << 10, 144 << 10];
 /// Heap bytes allowed above a promise: the decoder's own small state
 /// (frame buffer, lane views, error values).
 pub const SLACK: u64 = 16 << 10;
@@ -99,26 +99,8 @@ fn setup(data: &[u8]) -> Setup {
     // decoding a small input.
     let threads = 1 + usize::from(h >> 4 & 3 == 0);
     let max_in = [1, 3, 64, 4096, usize::MAX][((h >> 6) % 5) as usize];
-    // The preset id follows the magic and the version (docs/FORMAT.md, 2);
-    // any header counts, as concatenated containers may follow the first.
-    let holds = |id: u8| {
-        data.windows(6)
-            .any(|w| w[..4] == subrange::format::MAGIC && w[5] == id)
-    };
-    // `history` (id 6) costs about what `mix` does per byte, with a larger
-    // set-up per block.
-    let (max_block, total) = if holds(4) || holds(6) {
-        (MAX_BLOCK_MIX, MAX_TOTAL_MIX)
-    } else if holds(3) {
-        (MAX_BLOCK, MAX_TOTAL_ORDER2)
-    } else {
-        (MAX_BLOCK, MAX_TOTAL)
-    };
-    let mut limits = DecodeLimits::new();
-    limits
-        .max_block_size(max_block)
-        .max_memory(memory)
-        .max_total(total);
+    let limits = limits_for(data, memory);
+    let total = limits.total_limit();
     let mut options = DecodeOptions::new();
     options.limits(limits).trailing(trailing).threads(threads);
     Setup {
@@ -310,4 +292,30 @@ fn run(data: &[u8], s: Setup) {
             (Err(_), _) => {}
         }
     }
+}
+
+/// The limits for one input: the block and total bounds of the slowest
+/// preset any header in `data` names, and `memory` as the memory limit.
+pub fn limits_for(data: &[u8], memory: u64) -> DecodeLimits {
+    // The preset id follows the magic and the version (docs/FORMAT.md, 2);
+    // any header counts, as concatenated containers may follow the first.
+    let holds = |id: u8| {
+        data.windows(6)
+            .any(|w| w[..4] == subrange::format::MAGIC && w[5] == id)
+    };
+    // `history` (id 6) costs about what `mix` does per byte, with a larger
+    // set-up per block.
+    let (max_block, total) = if holds(4) || holds(6) {
+        (MAX_BLOCK_MIX, MAX_TOTAL_MIX)
+    } else if holds(3) {
+        (MAX_BLOCK, MAX_TOTAL_ORDER2)
+    } else {
+        (MAX_BLOCK, MAX_TOTAL)
+    };
+    let mut limits = DecodeLimits::new();
+    limits
+        .max_block_size(max_block)
+        .max_memory(memory)
+        .max_total(total);
+    limits
 }

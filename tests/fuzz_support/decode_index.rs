@@ -21,17 +21,12 @@
 
 use std::io::{Cursor, Read, Seek, SeekFrom};
 
-use subrange::format::{BlockIndex, DecodeLimits, IndexSource, MAGIC};
+use subrange::format::{BlockIndex, DecodeLimits, IndexSource};
 use subrange::stream::{decompress_with_options, DecodeOptions, IndexedReader};
 use subrange::ErrorKind;
 
 use super::alloc::peak_during;
-use super::decode_container::{
-    MAX_BLOCK, MAX_BLOCK_MIX, MAX_TOTAL, MAX_TOTAL_MIX, MAX_TOTAL_ORDER2, SLACK,
-};
-
-/// Memory limits to choose from (as in the container target).
-const MEMORY_LIMITS: [u64; 4] = [64 << 20, 1 << 20, 256 << 10, 144 << 10];
+use super::decode_container::{self, MEMORY_LIMITS, SLACK};
 
 /// A 32-bit linear congruential step (the constants of Numerical Recipes;
 /// common practice).
@@ -41,20 +36,7 @@ fn lcg(state: &mut u32) -> u32 {
 }
 
 fn limits_for(data: &[u8], h: u32) -> DecodeLimits {
-    let holds = |id: u8| data.windows(6).any(|w| w[..4] == MAGIC && w[5] == id);
-    let (max_block, total) = if holds(4) {
-        (MAX_BLOCK_MIX, MAX_TOTAL_MIX)
-    } else if holds(3) {
-        (MAX_BLOCK, MAX_TOTAL_ORDER2)
-    } else {
-        (MAX_BLOCK, MAX_TOTAL)
-    };
-    let mut limits = DecodeLimits::new();
-    limits
-        .max_block_size(max_block)
-        .max_memory(MEMORY_LIMITS[(h & 3) as usize])
-        .max_total(total);
-    limits
+    decode_container::limits_for(data, MEMORY_LIMITS[(h & 3) as usize])
 }
 
 /// Whether an error is one the limits explain (not a disagreement).
