@@ -239,6 +239,65 @@ impl Error {
     }
 }
 
+/// Constructors for the variants built throughout the crate, so every call
+/// site names the variant and its context in one line.
+impl Error {
+    /// [`ErrorKind::InvalidParameter`].
+    pub(crate) fn invalid_parameter(name: &'static str, reason: &'static str) -> Self {
+        ErrorKind::InvalidParameter { name, reason }.into()
+    }
+
+    /// [`ErrorKind::InvalidModel`].
+    pub(crate) fn invalid_model(reason: &'static str) -> Self {
+        ErrorKind::InvalidModel { reason }.into()
+    }
+
+    /// [`ErrorKind::Truncated`].
+    pub(crate) fn truncated(offset: u64) -> Self {
+        ErrorKind::Truncated { offset }.into()
+    }
+
+    /// [`ErrorKind::CorruptStream`].
+    pub(crate) fn corrupt_stream(offset: u64, reason: &'static str) -> Self {
+        ErrorKind::CorruptStream { offset, reason }.into()
+    }
+
+    /// [`ErrorKind::CorruptTable`].
+    pub(crate) fn corrupt_table(reason: &'static str) -> Self {
+        ErrorKind::CorruptTable { reason }.into()
+    }
+
+    /// [`ErrorKind::LimitExceeded`].
+    pub(crate) fn limit_exceeded(what: &'static str, declared: u64, limit: u64) -> Self {
+        ErrorKind::LimitExceeded {
+            what,
+            declared,
+            limit,
+        }
+        .into()
+    }
+
+    /// [`ErrorKind::TrailingBytes`].
+    pub(crate) fn trailing_bytes(offset: u64, count: u64) -> Self {
+        ErrorKind::TrailingBytes { offset, count }.into()
+    }
+
+    /// [`ErrorKind::Snapshot`].
+    pub(crate) fn snapshot(reason: &'static str) -> Self {
+        ErrorKind::Snapshot { reason }.into()
+    }
+
+    /// Fails with [`ErrorKind::LimitExceeded`] when `declared` exceeds
+    /// `limit`: the one place a declared size or a memory need is compared
+    /// with its bound.
+    pub(crate) fn check_limit(what: &'static str, declared: u64, limit: u64) -> Result<()> {
+        if declared > limit {
+            return Err(Self::limit_exceeded(what, declared, limit));
+        }
+        Ok(())
+    }
+}
+
 impl From<crate::mq::MqError> for Error {
     fn from(err: crate::mq::MqError) -> Self {
         Error {

@@ -83,11 +83,10 @@ impl<M: SnapshotState + Model + Clone> Primer<M> {
     pub fn new(snapshot: &Snapshot) -> Result<Self> {
         let model: M = snapshot.restore()?;
         if model.alphabet_size() < 256 {
-            return Err(ErrorKind::InvalidParameter {
-                name: "snapshot",
-                reason: "a byte message needs a model of at least 256 symbols",
-            }
-            .into());
+            return Err(crate::Error::invalid_parameter(
+                "snapshot",
+                "a byte message needs a model of at least 256 symbols",
+            ));
         }
         Ok(Primer {
             id: snapshot.id(),
@@ -178,10 +177,9 @@ fn decode_with<M: Model>(
     max_len: usize,
 ) -> Result<Vec<u8>> {
     if frame_snapshot_id(frame)? != id {
-        return Err(ErrorKind::Snapshot {
-            reason: "the message was coded with a different snapshot",
-        }
-        .into());
+        return Err(crate::Error::snapshot(
+            "the message was coded with a different snapshot",
+        ));
     }
     let mut rest = &frame[ID_LEN..];
     let len = read_varint(&mut rest).map_err(|_| ErrorKind::CorruptStream {
@@ -189,12 +187,11 @@ fn decode_with<M: Model>(
         reason: "damaged message length",
     })? as usize;
     if len > max_len {
-        return Err(ErrorKind::LimitExceeded {
-            what: "message length",
-            declared: len as u64,
-            limit: max_len as u64,
-        }
-        .into());
+        return Err(crate::Error::limit_exceeded(
+            "message length",
+            len as u64,
+            max_len as u64,
+        ));
     }
     let mut model = model();
     let mut decoder = Decoder::new(rest)?;
@@ -227,10 +224,9 @@ fn decode_with<M: Model>(
 pub fn frame_snapshot_id(frame: &[u8]) -> Result<u32> {
     match frame.first_chunk::<ID_LEN>() {
         Some(id) => Ok(u32::from_le_bytes(*id)),
-        None => Err(ErrorKind::Snapshot {
-            reason: "the frame is too short to carry a snapshot id",
-        }
-        .into()),
+        None => Err(crate::Error::snapshot(
+            "the frame is too short to carry a snapshot id",
+        )),
     }
 }
 
@@ -303,10 +299,9 @@ pub fn decode_message(snapshot: &Snapshot, frame: &[u8], max_len: usize) -> Resu
 }
 
 fn unknown_kind() -> crate::Error {
-    ErrorKind::Snapshot {
-        reason: "no built-in model of this snapshot's kind; use Primer with your model type",
-    }
-    .into()
+    crate::Error::snapshot(
+        "no built-in model of this snapshot's kind; use Primer with your model type",
+    )
 }
 
 #[cfg(test)]

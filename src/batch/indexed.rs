@@ -80,10 +80,6 @@ pub const INDEXED_LANES: usize = 4;
 /// Most bits of a decoding target the bucket lookup resolves.
 pub const BUCKET_BITS: u32 = 10;
 
-fn invalid(name: &'static str, reason: &'static str) -> crate::Error {
-    ErrorKind::InvalidParameter { name, reason }.into()
-}
-
 impl IndexedTables {
     /// An empty set; add tables with [`push_cumulative`](Self::push_cumulative).
     pub fn new() -> Self {
@@ -97,7 +93,10 @@ impl IndexedTables {
     /// [`ErrorKind::InvalidParameter`] when `origins` and `models` differ in length.
     pub fn from_models(models: &[TableModel], origins: &[i32]) -> Result<Self> {
         if models.len() != origins.len() {
-            return Err(invalid("origins", "needs one origin per table"));
+            return Err(crate::Error::invalid_parameter(
+                "origins",
+                "needs one origin per table",
+            ));
         }
         let mut set = Self::new();
         for (m, &origin) in models.iter().zip(origins) {
@@ -145,17 +144,26 @@ impl IndexedTables {
     /// ```
     pub fn push_cumulative(&mut self, cum: &[u32], origin: i32) -> Result<()> {
         if cum.len() < 2 || cum.len() > MAX_ALPHABET as usize + 1 {
-            return Err(invalid("cumulative", "needs 2 ..= 65537 entries"));
+            return Err(crate::Error::invalid_parameter(
+                "cumulative",
+                "needs 2 ..= 65537 entries",
+            ));
         }
         if cum[0] != 0 {
-            return Err(invalid("cumulative", "must start at 0"));
+            return Err(crate::Error::invalid_parameter(
+                "cumulative",
+                "must start at 0",
+            ));
         }
         if cum.windows(2).any(|w| w[1] < w[0]) {
-            return Err(invalid("cumulative", "must not fall"));
+            return Err(crate::Error::invalid_parameter(
+                "cumulative",
+                "must not fall",
+            ));
         }
         let total = cum[cum.len() - 1];
         if total == 0 || total > MAX_TOTAL || !total.is_power_of_two() {
-            return Err(invalid(
+            return Err(crate::Error::invalid_parameter(
                 "cumulative",
                 "must end at a power of two in 1 ..= 65536",
             ));
@@ -218,18 +226,24 @@ impl IndexedTables {
 
     #[inline(always)]
     fn table(&self, index: u32) -> Result<&Info> {
-        self.info
-            .get(index as usize)
-            .ok_or_else(|| invalid("indexes", "an index is not a table of the set"))
+        self.info.get(index as usize).ok_or_else(|| {
+            crate::Error::invalid_parameter("indexes", "an index is not a table of the set")
+        })
     }
 }
 
 fn check_lengths(values: usize, indexes: usize, offsets: Option<&[i32]>) -> Result<()> {
     if values != indexes {
-        return Err(invalid("indexes", "needs one index per value"));
+        return Err(crate::Error::invalid_parameter(
+            "indexes",
+            "needs one index per value",
+        ));
     }
     if offsets.is_some_and(|o| o.len() != values) {
-        return Err(invalid("offsets", "needs one offset per value"));
+        return Err(crate::Error::invalid_parameter(
+            "offsets",
+            "needs one offset per value",
+        ));
     }
     Ok(())
 }
@@ -287,10 +301,6 @@ fn write_length(out: &mut Vec<u8>, mut value: u64) {
     out.push(value as u8);
 }
 
-fn corrupt(offset: u64, reason: &'static str) -> crate::Error {
-    ErrorKind::CorruptStream { offset, reason }.into()
-}
-
 /// Splits an indexed stream into its lane streams.
 fn split_lanes(bytes: &[u8]) -> Result<[&[u8]; INDEXED_LANES]> {
     let mut pos = 0usize;
@@ -300,11 +310,14 @@ fn split_lanes(bytes: &[u8]) -> Result<[&[u8]; INDEXED_LANES]> {
         let mut shift = 0;
         loop {
             let Some(&byte) = bytes.get(pos) else {
-                return Err(ErrorKind::Truncated { offset: pos as u64 }.into());
+                return Err(crate::Error::truncated(pos as u64));
             };
             pos += 1;
             if shift > 56 {
-                return Err(corrupt(pos as u64, "lane length too large"));
+                return Err(crate::Error::corrupt_stream(
+                    pos as u64,
+                    "lane length too large",
+                ));
             }
             value |= u64::from(byte & 0x7F) << shift;
             shift += 7;
@@ -319,10 +332,7 @@ fn split_lanes(bytes: &[u8]) -> Result<[&[u8]; INDEXED_LANES]> {
     for (lane, &len) in lanes.iter_mut().zip(&lengths) {
         if len > rest.len() as u64 {
             // A lane reaching past the end: the input was cut short.
-            return Err(ErrorKind::Truncated {
-                offset: bytes.len() as u64,
-            }
-            .into());
+            return Err(crate::Error::truncated(bytes.len() as u64));
         }
         let (head, tail) = rest.split_at(len as usize);
         *lane = head;
@@ -400,7 +410,7 @@ fn decode_rows(
 ) -> Result<()> {
     let lanes: &mut [Decoder<SliceSource<'_>>; INDEXED_LANES] = decoders
         .try_into()
-        .map_err(|_| invalid("lanes", "needs one decoder per lane"))?;
+        .map_err(|_| crate::Error::invalid_parameter("lanes", "needs one decoder per lane"))?;
     let offset_at = |i: usize| offsets.map_or(0, |o| o[i]);
     let mut rows = out
         .chunks_exact_mut(INDEXED_LANES)
@@ -445,7 +455,7 @@ fn decode_step(
     dec.consume(Span::new(cum, end - cum), total)?;
     let value = lo as i64 + i64::from(info.origin) + i64::from(offset);
     i32::try_from(value).map_err(|_| {
-        invalid(
+        crate::Error::invalid_parameter(
             "offsets",
             "a decoded value plus its offset does not fit an i32",
         )

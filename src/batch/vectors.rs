@@ -11,17 +11,16 @@
 use alloc::vec::Vec;
 
 use crate::coder::{Decoder, Encoder};
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 use crate::model::{Probability, ProbabilityAdapter};
 
 fn rows(len: usize, alphabet: usize, count: usize) -> Result<()> {
     let fits = alphabet.checked_mul(count).is_some_and(|need| need == len);
     if alphabet == 0 && count > 0 || !fits {
-        return Err(ErrorKind::InvalidParameter {
-            name: "probabilities",
-            reason: "needs one row of `alphabet` probabilities per symbol",
-        }
-        .into());
+        return Err(crate::Error::invalid_parameter(
+            "probabilities",
+            "needs one row of `alphabet` probabilities per symbol",
+        ));
     }
     Ok(())
 }

@@ -79,10 +79,7 @@ impl<S: ByteSource> Decoder<S> {
             Some(_) => Err(self.corrupt("input continues after a gap")),
             None => {
                 if self.padded >= MAX_PAD {
-                    return Err(ErrorKind::Truncated {
-                        offset: self.source.position(),
-                    }
-                    .into());
+                    return Err(crate::Error::truncated(self.source.position()));
                 }
                 self.padded += 1;
                 Ok(0)
@@ -91,11 +88,7 @@ impl<S: ByteSource> Decoder<S> {
     }
 
     fn corrupt(&self, reason: &'static str) -> crate::Error {
-        ErrorKind::CorruptStream {
-            offset: self.source.position(),
-            reason,
-        }
-        .into()
+        crate::Error::corrupt_stream(self.source.position(), reason)
     }
 
     #[inline(always)]
@@ -117,10 +110,7 @@ impl<S: ByteSource> Decoder<S> {
     pub fn decode<M: Model + ?Sized>(&mut self, model: &mut M) -> Result<u32> {
         let total = model.total();
         if total == 0 || total > MAX_TOTAL {
-            return Err(ErrorKind::InvalidModel {
-                reason: "total must be in 1 ..= 65536",
-            }
-            .into());
+            return Err(crate::Error::invalid_model("total must be in 1 ..= 65536"));
         }
         let target = self.target(total);
         let (mut symbol, span) = model.locate(target);
@@ -129,19 +119,17 @@ impl<S: ByteSource> Decoder<S> {
             || target - span.cum >= span.freq
             || span.cum + span.freq > total
         {
-            return Err(ErrorKind::InvalidModel {
-                reason: "locate returned a span that does not contain the target",
-            }
-            .into());
+            return Err(crate::Error::invalid_model(
+                "locate returned a span that does not contain the target",
+            ));
         }
         self.narrow(span, total)?;
         if symbol == ESCAPE {
             let alphabet = model.alphabet_size();
             if alphabet == 0 || alphabet > MAX_TOTAL {
-                return Err(ErrorKind::InvalidModel {
-                    reason: "escape needs an alphabet of 1 ..= 65536 symbols",
-                }
-                .into());
+                return Err(crate::Error::invalid_model(
+                    "escape needs an alphabet of 1 ..= 65536 symbols",
+                ));
             }
             symbol = self.target(alphabet);
             self.narrow(Span::new(symbol, 1), alphabet)?;
@@ -280,7 +268,7 @@ impl<S: ByteSource> Decoder<S> {
         if self.padded == 0 {
             let offset = self.source.position();
             if self.source.take()?.is_some() {
-                return Err(ErrorKind::TrailingBytes { offset, count: 1 }.into());
+                return Err(crate::Error::trailing_bytes(offset, 1));
             }
         }
         Ok(self.source)

@@ -20,7 +20,7 @@
 
 use alloc::vec::Vec;
 
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 
 const TOP: u32 = 1 << 24;
 
@@ -253,7 +253,7 @@ impl LaneDecoder {
     fn truncated(&self) -> Result<()> {
         for ((lane, &at), &len) in self.lanes.iter().zip(&self.starts).zip(&self.lens) {
             if lane.pos - at > len + 4 {
-                return Err(ErrorKind::Truncated { offset: len as u64 }.into());
+                return Err(crate::Error::truncated(len as u64));
             }
         }
         Ok(())
@@ -308,21 +308,19 @@ impl LaneDecoder {
         for ((lane, &at), &len) in self.lanes.iter().zip(&self.starts).zip(&self.lens) {
             let used = lane.pos - at;
             if used > len + 4 {
-                return Err(ErrorKind::Truncated { offset: len as u64 }.into());
+                return Err(crate::Error::truncated(len as u64));
             }
             if lane.bad {
-                return Err(ErrorKind::CorruptStream {
-                    offset: used.min(len) as u64,
-                    reason: "code value outside the coder interval",
-                }
-                .into());
+                return Err(crate::Error::corrupt_stream(
+                    used.min(len) as u64,
+                    "code value outside the coder interval",
+                ));
             }
             if used < len {
-                return Err(ErrorKind::TrailingBytes {
-                    offset: used as u64,
-                    count: (len - used) as u64,
-                }
-                .into());
+                return Err(crate::Error::trailing_bytes(
+                    used as u64,
+                    (len - used) as u64,
+                ));
             }
         }
         Ok(())

@@ -90,11 +90,7 @@ pub fn decode_interleaved<M: Model + ?Sized>(
 /// Checks a lane count: `1 ..= MAX_LANES`.
 pub(crate) fn check_lanes(lanes: usize) -> Result<()> {
     if lanes == 0 || lanes > MAX_LANES {
-        return Err(ErrorKind::InvalidParameter {
-            name: "lanes",
-            reason: "must be 1 ..= 32",
-        }
-        .into());
+        return Err(crate::Error::invalid_parameter("lanes", "must be 1 ..= 32"));
     }
     Ok(())
 }
@@ -168,11 +164,10 @@ fn finish_all<'a, 'b: 'a>(
 ) -> Result<()> {
     for dec in decoders {
         if !dec.past_end() && !dec.source().remaining().is_empty() {
-            return Err(ErrorKind::TrailingBytes {
-                offset: dec.bytes_read(),
-                count: dec.source().remaining().len() as u64,
-            }
-            .into());
+            return Err(crate::Error::trailing_bytes(
+                dec.bytes_read(),
+                dec.source().remaining().len() as u64,
+            ));
         }
     }
     Ok(())

@@ -23,17 +23,16 @@ use crate::coder::lane_enc::{
     best_encode_kernel, EncodeTable, EncodeVector, LaneEncoder, LaneStreams,
 };
 use crate::coder::lanes::check_lanes;
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 use crate::model::{Model, TableModel};
 
 fn check(model: &TableModel, lanes: usize) -> Result<()> {
     check_lanes(lanes)?;
     if model.alphabet_size() > 256 {
-        return Err(ErrorKind::InvalidParameter {
-            name: "model",
-            reason: "the byte fast path needs an alphabet of at most 256 symbols",
-        }
-        .into());
+        return Err(crate::Error::invalid_parameter(
+            "model",
+            "the byte fast path needs an alphabet of at most 256 symbols",
+        ));
     }
     Ok(())
 }

@@ -113,7 +113,7 @@ fn walk_frames<R: Read + Seek>(
             Frame::Block(f) => {
                 let record_len = input.offset() - at + f.payload_len;
                 if record_len > len - at {
-                    return Err(ErrorKind::Truncated { offset: len }.into());
+                    return Err(crate::Error::truncated(len));
                 }
                 check_entry_memory(index + 1, limits)?;
                 blocks.push(IndexEntry {
@@ -156,11 +156,7 @@ fn walk_frames<R: Read + Seek>(
 fn check_trailing(w: &Walked) -> Result<()> {
     let len = w.located.container_len;
     if !w.indexed && w.after_end < len {
-        return Err(ErrorKind::TrailingBytes {
-            offset: w.after_end,
-            count: len - w.after_end,
-        }
-        .into());
+        return Err(crate::Error::trailing_bytes(w.after_end, len - w.after_end));
     }
     Ok(())
 }

@@ -15,7 +15,7 @@ use std::vec::Vec;
 
 use crate::error::{ErrorKind, Result};
 use crate::format::input::Input;
-use crate::format::limits::{check, DecodeLimits};
+use crate::format::limits::DecodeLimits;
 use crate::format::{MAGIC, VERSION};
 use crate::preset::{Preset, MAX_PARAMS};
 use crate::vint::put_vint;
@@ -121,12 +121,12 @@ fn read_fields<R: Read>(input: &mut Input<R>, limits: &DecodeLimits) -> Result<H
     if block_size == 0 {
         return Err(corrupt(start, "block size is zero"));
     }
-    check("block size", block_size, limits.block_size_limit())?;
+    crate::Error::check_limit("block size", block_size, limits.block_size_limit())?;
     let preset = Preset::from_id(id, &params[..count.into()]).map_err(|e| match e.kind() {
         ErrorKind::InvalidParameter { reason, .. } => corrupt(start, reason),
         _ => e,
     })?;
-    check(
+    crate::Error::check_limit(
         "memory needed per block",
         preset.memory_needed(block_size),
         limits.memory_limit(),

@@ -30,7 +30,7 @@ use std::vec::Vec;
 use crate::error::{ErrorKind, Result};
 use crate::format::block::{frame_check, KIND_INDEXED_END};
 use crate::format::input::Input;
-use crate::format::limits::{check, DecodeLimits};
+use crate::format::limits::DecodeLimits;
 use crate::format::Header;
 use crate::vint::put_vint;
 
@@ -257,7 +257,7 @@ pub(crate) struct Located {
 pub(crate) fn check_entry_memory(count: u64, limits: &DecodeLimits) -> Result<()> {
     // An entry, and the pair it is built from while the index is read.
     let each = core::mem::size_of::<IndexEntry>() as u64 + 16;
-    check(
+    crate::Error::check_limit(
         "memory for the block index",
         count.saturating_mul(each),
         limits.memory_limit(),

@@ -14,7 +14,7 @@
 use std::io::{self, Read};
 use std::vec::Vec;
 
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 use crate::vint::{read_vint, VintError};
 
 /// Largest step by which a payload buffer grows ahead of the data.
@@ -111,10 +111,7 @@ impl<R: Read> Input<R> {
     }
 
     fn truncated(&self) -> crate::Error {
-        ErrorKind::Truncated {
-            offset: self.offset,
-        }
-        .into()
+        crate::Error::truncated(self.offset)
     }
 
     /// The next byte, captured; the end of input is an error.
@@ -148,11 +145,7 @@ impl<R: Read> Input<R> {
             Ok(v) => Ok(v),
             Err(_) if failure.is_some() => Err(failure.unwrap_or_else(|| self.truncated())),
             Err(VintError::Truncated) => Err(self.truncated()),
-            Err(VintError::Malformed) => Err(ErrorKind::CorruptStream {
-                offset: start,
-                reason: what,
-            }
-            .into()),
+            Err(VintError::Malformed) => Err(crate::Error::corrupt_stream(start, what)),
         }
     }
 
@@ -245,6 +238,7 @@ impl<R: Read> Input<R> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::ErrorKind;
 
     #[test]
     fn exact_reads_and_offsets() {

@@ -216,7 +216,7 @@ impl<R: Read> Inspector<R> {
                 let at = self.input.offset();
                 let count = self.input.count_rest(1 << 16)?;
                 if count > 0 {
-                    return Err(ErrorKind::TrailingBytes { offset: at, count }.into());
+                    return Err(crate::Error::trailing_bytes(at, count));
                 }
                 return Ok(None);
             }

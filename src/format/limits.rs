@@ -7,8 +7,6 @@
 //! with any [`Options`](crate::stream::Options) this crate accepts; a caller
 //! decoding untrusted input with tight memory lowers them.
 
-use crate::error::{ErrorKind, Result};
-
 /// Largest block size the format allows (and the default limit): 64 MiB.
 pub const MAX_BLOCK_SIZE: u64 = 64 << 20;
 
@@ -113,19 +111,6 @@ impl DecodeLimits {
     }
 }
 
-/// Fails with [`ErrorKind::LimitExceeded`] when `declared > limit`.
-pub(crate) fn check(what: &'static str, declared: u64, limit: u64) -> Result<()> {
-    if declared > limit {
-        return Err(ErrorKind::LimitExceeded {
-            what,
-            declared,
-            limit,
-        }
-        .into());
-    }
-    Ok(())
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -135,7 +120,7 @@ mod tests {
         let mut l = DecodeLimits::new();
         l.max_block_size(u64::MAX);
         assert_eq!(l.block_size_limit(), MAX_BLOCK_SIZE);
-        assert!(check("x", 5, 4).is_err());
-        assert!(check("x", 4, 4).is_ok());
+        assert!(crate::Error::check_limit("x", 5, 4).is_err());
+        assert!(crate::Error::check_limit("x", 4, 4).is_ok());
     }
 }

@@ -49,7 +49,6 @@ pub(crate) use block::{
 pub(crate) use header::encode_header;
 pub(crate) use index::IndexBuilder;
 pub(crate) use input::Input;
-pub(crate) use limits::check as check_limit;
 pub(crate) use reader::{ContainerReader, Payload};
 
 /// The four bytes every container starts with.

@@ -20,7 +20,7 @@ use crate::format::block::{check_payload, read_frame, read_payload, BlockFrame, 
 use crate::format::header::read_header;
 use crate::format::index::{read_after_end, IndexExpect};
 use crate::format::input::Input;
-use crate::format::limits::{check, DecodeLimits};
+use crate::format::limits::DecodeLimits;
 use crate::format::Header;
 
 /// What a decoder does with bytes after a container's end record.
@@ -144,7 +144,7 @@ impl<R: Read> ContainerReader<R> {
             let at = self.input.offset();
             match read_frame(&mut self.input, header, self.index)? {
                 Frame::Block(frame) => {
-                    check(
+                    crate::Error::check_limit(
                         "total decoded length",
                         self.grand_total.saturating_add(frame.raw_len),
                         self.limits.total_limit(),
@@ -194,7 +194,7 @@ impl<R: Read> ContainerReader<R> {
                 let offset = self.input.offset();
                 let count = self.input.count_rest(TRAILING_COUNT_MAX)?;
                 if count > 0 {
-                    return Err(ErrorKind::TrailingBytes { offset, count }.into());
+                    return Err(crate::Error::trailing_bytes(offset, count));
                 }
             }
             TrailingData::Concatenated => {

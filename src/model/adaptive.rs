@@ -23,7 +23,7 @@
 use alloc::vec;
 use alloc::vec::Vec;
 
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 use crate::model::fenwick::FenwickTree;
 use crate::model::{Model, Span, ESCAPE, MAX_ALPHABET, MAX_TOTAL};
 
@@ -213,7 +213,7 @@ impl AdaptiveModel {
     /// `limit >= alphabet + 1 + 4·increment` without escape,
     /// `limit >= 2 + 4·increment` with it.
     pub fn with_params(alphabet: u32, params: AdaptiveParams) -> Result<Self> {
-        let bad = |name, reason| Err(ErrorKind::InvalidParameter { name, reason }.into());
+        let bad = |name, reason| Err(crate::Error::invalid_parameter(name, reason));
         if alphabet == 0 || alphabet > MAX_ALPHABET {
             return bad("alphabet", "must be 1 ..= 65536");
         }
@@ -312,13 +312,7 @@ impl AdaptiveModel {
     /// ```
     pub fn from_frequencies(alphabet: u32, params: AdaptiveParams, freq: &[u32]) -> Result<Self> {
         let mut model = Self::with_params(alphabet, params)?;
-        let bad = |reason| {
-            Err(ErrorKind::InvalidParameter {
-                name: "freq",
-                reason,
-            }
-            .into())
-        };
+        let bad = |reason| Err(crate::Error::invalid_parameter("freq", reason));
         let entries = alphabet as usize + usize::from(model.escape);
         if freq.len() != entries {
             return bad("needs one frequency per symbol, plus one for the escape");

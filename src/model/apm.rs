@@ -20,7 +20,7 @@
 //! Invariant: every point stays in `0 ..= 65535` (a shift step never
 //! overshoots), and outputs are clamped to `1 ..= 65535`.
 
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 use alloc::vec;
 use alloc::vec::Vec;
 
@@ -123,18 +123,16 @@ impl Apm {
 
     fn build(contexts: usize, rate: u8, group_log2: u32, max_groups: usize) -> Result<Self> {
         if contexts == 0 || contexts > Self::MAX_CONTEXTS {
-            return Err(ErrorKind::InvalidParameter {
-                name: "contexts",
-                reason: "must be in 1 ..= 2^24",
-            }
-            .into());
+            return Err(crate::Error::invalid_parameter(
+                "contexts",
+                "must be in 1 ..= 2^24",
+            ));
         }
         if rate == 0 || rate > 15 {
-            return Err(ErrorKind::InvalidParameter {
-                name: "rate",
-                reason: "must be in 1 ..= 15",
-            }
-            .into());
+            return Err(crate::Error::invalid_parameter(
+                "rate",
+                "must be in 1 ..= 15",
+            ));
         }
         let identity: [u16; POINTS] =
             core::array::from_fn(|j| squash((j as i32 - 16) * 128).min(65535) as u16);

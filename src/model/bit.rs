@@ -18,7 +18,7 @@
 use alloc::boxed::Box;
 
 use crate::coder::{ByteSink, ByteSource, Decoder, Encoder};
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 
 /// A source of binary probabilities: `P(next bit = 1)` scaled to 2^16.
 ///
@@ -204,11 +204,10 @@ impl ShiftPredictor {
     /// [`ErrorKind::InvalidParameter`] unless `1 <= rate <= 16`.
     pub fn with_p1(rate: u8, p1: u32) -> Result<Self> {
         if rate == 0 || rate > Self::MAX_RATE {
-            return Err(ErrorKind::InvalidParameter {
-                name: "rate",
-                reason: "must be in 1 ..= 16",
-            }
-            .into());
+            return Err(crate::Error::invalid_parameter(
+                "rate",
+                "must be in 1 ..= 16",
+            ));
         }
         Ok(ShiftPredictor {
             p: p1.clamp(1, 65535) << 16,

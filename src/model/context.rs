@@ -34,7 +34,7 @@
 use alloc::collections::BTreeMap;
 use alloc::vec::Vec;
 
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 use crate::model::snapshot::{read_varint, snapshot_error, write_varint, SnapshotState};
 use crate::model::{Model, Span, MAX_TOTAL};
 
@@ -87,7 +87,7 @@ impl ContextParams {
     ///
     /// [`ErrorKind::InvalidParameter`] naming the first field out of range.
     pub fn validate(&self) -> Result<()> {
-        let bad = |name, reason| Err(ErrorKind::InvalidParameter { name, reason }.into());
+        let bad = |name, reason| Err(crate::Error::invalid_parameter(name, reason));
         if self.max_order > MAX_CONTEXT_ORDER {
             return bad("max_order", "must be in 0 ..= 3");
         }

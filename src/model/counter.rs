@@ -22,7 +22,7 @@
 //! whose bits are all zero is *not* valid (it means probability 0), tables
 //! initialise slots with [`COUNTER_INIT`].
 
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 use crate::model::bit::BitPredictor;
 
 /// Largest count limit a packed counter can hold.
@@ -95,11 +95,10 @@ impl CountingPredictor {
     /// [`ErrorKind::InvalidParameter`] unless `1 <= limit <= 1023`.
     pub fn new(limit: u32) -> Result<Self> {
         if limit == 0 || limit > MAX_COUNT_LIMIT {
-            return Err(ErrorKind::InvalidParameter {
-                name: "limit",
-                reason: "must be in 1 ..= 1023",
-            }
-            .into());
+            return Err(crate::Error::invalid_parameter(
+                "limit",
+                "must be in 1 ..= 1023",
+            ));
         }
         Ok(CountingPredictor {
             state: COUNTER_INIT,

@@ -51,7 +51,7 @@
 
 use alloc::vec::Vec;
 
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 use crate::model::{Model, Span, MAX_ALPHABET};
 
 /// Default total of the adapter's tables: 2^16.
@@ -102,11 +102,7 @@ impl Probability for f64 {
 }
 
 fn invalid(reason: &'static str) -> crate::Error {
-    ErrorKind::InvalidParameter {
-        name: "probabilities",
-        reason,
-    }
-    .into()
+    crate::Error::invalid_parameter("probabilities", reason)
 }
 
 /// Splits a non-negative finite `f64` into `(mantissa, exponent)` with
@@ -245,11 +241,10 @@ impl ProbabilityAdapter {
     /// ```
     pub fn with_log2_total(log2_total: u32) -> Result<Self> {
         if !(1..=16).contains(&log2_total) {
-            return Err(ErrorKind::InvalidParameter {
-                name: "log2_total",
-                reason: "must be 1 ..= 16",
-            }
-            .into());
+            return Err(crate::Error::invalid_parameter(
+                "log2_total",
+                "must be 1 ..= 16",
+            ));
         }
         Ok(ProbabilityAdapter {
             log2_total,

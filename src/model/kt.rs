@@ -15,7 +15,7 @@
 //!
 //! Invariant: `n0 + n1 < limit` after every update.
 
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 use crate::model::bit::BitPredictor;
 
 /// A Krichevsky–Trofimov bit predictor (exact counts).
@@ -67,11 +67,10 @@ impl KtPredictor {
     /// [`ErrorKind::InvalidParameter`] unless `4 <= limit <= 2^30`.
     pub fn with_limit(limit: u32) -> Result<Self> {
         if !(4..=Self::DEFAULT_LIMIT).contains(&limit) {
-            return Err(ErrorKind::InvalidParameter {
-                name: "limit",
-                reason: "must be in 4 ..= 2^30",
-            }
-            .into());
+            return Err(crate::Error::invalid_parameter(
+                "limit",
+                "must be in 4 ..= 2^30",
+            ));
         }
         Ok(KtPredictor {
             n0: 0,

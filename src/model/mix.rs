@@ -26,7 +26,7 @@
 use alloc::vec;
 use alloc::vec::Vec;
 
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 use crate::model::bit::BitPredictor;
 use crate::model::logistic::{squash, stretch, STRETCH_MAX};
 
@@ -95,13 +95,22 @@ impl Mixer {
     /// `1 <= sets <= 65536` and `1 <= rate <= 255`.
     pub fn new(inputs: usize, sets: usize, rate: u32) -> Result<Self> {
         if inputs == 0 || inputs > MAX_MIXER_INPUTS {
-            return Err(invalid("inputs", "must be in 1 ..= 256"));
+            return Err(crate::Error::invalid_parameter(
+                "inputs",
+                "must be in 1 ..= 256",
+            ));
         }
         if sets == 0 || sets > MAX_MIXER_SETS {
-            return Err(invalid("sets", "must be in 1 ..= 65536"));
+            return Err(crate::Error::invalid_parameter(
+                "sets",
+                "must be in 1 ..= 65536",
+            ));
         }
         if rate == 0 || rate > 255 {
-            return Err(invalid("rate", "must be in 1 ..= 255"));
+            return Err(crate::Error::invalid_parameter(
+                "rate",
+                "must be in 1 ..= 255",
+            ));
         }
         let w0 = (65536 / inputs) as i32;
         let stride = inputs.div_ceil(LANES) * LANES;
@@ -258,10 +267,6 @@ impl Mixer {
             }
         }
     }
-}
-
-fn invalid(name: &'static str, reason: &'static str) -> crate::Error {
-    ErrorKind::InvalidParameter { name, reason }.into()
 }
 
 /// Any set of bit predictors combined by a [`Mixer`], itself a [`BitPredictor`].

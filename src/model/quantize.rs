@@ -23,7 +23,7 @@ use alloc::vec;
 use alloc::vec::Vec;
 use core::cmp::{Ordering, Reverse};
 
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 
 /// `ln((f + 1) / f)` for `f >= 1` in Q62 fixed point, from
 /// `2·atanh(x) = 2·Σ_k x^(2k+1) / (2k + 1)` with `x = 1 / (2f + 1)`
@@ -153,27 +153,24 @@ fn current<T: Ord + Copy>(
 /// ```
 pub fn quantize_counts(counts: &[u64], log2_total: u32) -> Result<Vec<u32>> {
     if log2_total > 16 {
-        return Err(ErrorKind::InvalidParameter {
-            name: "log2_total",
-            reason: "must be at most 16",
-        }
-        .into());
+        return Err(crate::Error::invalid_parameter(
+            "log2_total",
+            "must be at most 16",
+        ));
     }
     let total = 1u64 << log2_total;
     let present = counts.iter().filter(|&&c| c > 0).count() as u64;
     if present == 0 {
-        return Err(ErrorKind::InvalidParameter {
-            name: "counts",
-            reason: "at least one count must be non-zero",
-        }
-        .into());
+        return Err(crate::Error::invalid_parameter(
+            "counts",
+            "at least one count must be non-zero",
+        ));
     }
     if present > total {
-        return Err(ErrorKind::InvalidParameter {
-            name: "log2_total",
-            reason: "the total is smaller than the number of present symbols",
-        }
-        .into());
+        return Err(crate::Error::invalid_parameter(
+            "log2_total",
+            "the total is smaller than the number of present symbols",
+        ));
     }
     let sum: u128 = counts.iter().map(|&c| u128::from(c)).sum();
     let mut freq = vec![0u32; counts.len()];

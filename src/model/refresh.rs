@@ -29,7 +29,7 @@
 //! symbol of a segment; encoder and decoder that start from the same
 //! parameters and see the same symbols hold identical tables at every step.
 
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 use crate::model::{Model, Span};
 
 /// Largest alphabet of a [`RefreshModel`]: the byte values.
@@ -121,10 +121,6 @@ pub struct RefreshModel {
     left: u64,
 }
 
-fn invalid(name: &'static str, reason: &'static str) -> crate::Error {
-    ErrorKind::InvalidParameter { name, reason }.into()
-}
-
 impl RefreshModel {
     /// A model over `alphabet` symbols (`1 ..= 256`), default parameters.
     ///
@@ -143,7 +139,10 @@ impl RefreshModel {
     /// or parameters that break the rules of [`RefreshParams`].
     pub fn with_params(alphabet: u32, params: RefreshParams) -> Result<Self> {
         if alphabet == 0 || alphabet > MAX_REFRESH_ALPHABET {
-            return Err(invalid("alphabet", "must be 1 ..= 256"));
+            return Err(crate::Error::invalid_parameter(
+                "alphabet",
+                "must be 1 ..= 256",
+            ));
         }
         Self::with_symbols(&[true; 256][..alphabet as usize], params)
     }
@@ -169,26 +168,35 @@ impl RefreshModel {
     /// ```
     pub fn with_symbols(codable: &[bool], params: RefreshParams) -> Result<Self> {
         if codable.is_empty() || codable.len() > MAX_REFRESH_ALPHABET as usize {
-            return Err(invalid("alphabet", "must be 1 ..= 256"));
+            return Err(crate::Error::invalid_parameter(
+                "alphabet",
+                "must be 1 ..= 256",
+            ));
         }
         let present = codable.iter().filter(|&&c| c).count();
         if present == 0 {
-            return Err(invalid("symbols", "at least one symbol must be codable"));
+            return Err(crate::Error::invalid_parameter(
+                "symbols",
+                "at least one symbol must be codable",
+            ));
         }
         if params.log2_total > 16 || present > 1 << params.log2_total {
-            return Err(invalid(
+            return Err(crate::Error::invalid_parameter(
                 "log2_total",
                 "must be at most 16 and leave every codable symbol a unit",
             ));
         }
         if params.first_period == 0 || params.max_period < params.first_period {
-            return Err(invalid(
+            return Err(crate::Error::invalid_parameter(
                 "period",
                 "first_period must be at least 1 and max_period at least first_period",
             ));
         }
         if params.limit == 0 {
-            return Err(invalid("limit", "must be at least 1"));
+            return Err(crate::Error::invalid_parameter(
+                "limit",
+                "must be at least 1",
+            ));
         }
         let mut mask = [0u32; 256];
         for (m, &c) in mask.iter_mut().zip(codable) {

@@ -75,10 +75,9 @@ impl<'a> GammaReader<'a> {
         while !self.bit()? {
             width += 1;
             if width > max_width {
-                return Err(ErrorKind::CorruptTable {
-                    reason: "code is longer than any valid value",
-                }
-                .into());
+                return Err(crate::Error::corrupt_table(
+                    "code is longer than any valid value",
+                ));
             }
         }
         let mut value = 1u32;
@@ -86,10 +85,7 @@ impl<'a> GammaReader<'a> {
             value = value << 1 | u32::from(self.bit()?);
         }
         if value > max {
-            return Err(ErrorKind::CorruptTable {
-                reason: "value out of range",
-            }
-            .into());
+            return Err(crate::Error::corrupt_table("value out of range"));
         }
         Ok(value)
     }

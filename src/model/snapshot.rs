@@ -53,7 +53,7 @@ const CRC_LEN: usize = 4;
 pub const MAX_STATE_LEN: usize = 1 << 26;
 
 pub(crate) fn snapshot_error(reason: &'static str) -> crate::Error {
-    ErrorKind::Snapshot { reason }.into()
+    crate::Error::snapshot(reason)
 }
 
 /// A model whose state can be saved in a [`Snapshot`] and restored.
@@ -96,7 +96,7 @@ pub(crate) fn snapshot_error(reason: &'static str) -> crate::Error {
 ///     fn read_state(mut state: &[u8]) -> Result<Self, subrange::Error> {
 ///         let status = read_varint(&mut state)?;
 ///         if !state.is_empty() || status > 15 {
-///             return Err(ErrorKind::Snapshot { reason: "bad status state" }.into());
+///             return Err(crate::Error::snapshot("bad status state"));
 ///         }
 ///         Ok(LastStatus(status))
 ///     }
@@ -170,12 +170,11 @@ impl Snapshot {
         model.write_state(&mut bytes);
         let state_len = bytes.len() - HEADER_LEN;
         if state_len > MAX_STATE_LEN {
-            return Err(ErrorKind::LimitExceeded {
-                what: "snapshot state length",
-                declared: state_len as u64,
-                limit: MAX_STATE_LEN as u64,
-            }
-            .into());
+            return Err(crate::Error::limit_exceeded(
+                "snapshot state length",
+                state_len as u64,
+                MAX_STATE_LEN as u64,
+            ));
         }
         bytes[8..12].copy_from_slice(&(state_len as u32).to_le_bytes());
         let crc = crc32fast::hash(&bytes);
@@ -223,12 +222,11 @@ impl Snapshot {
         }
         let declared = u32::from_le_bytes([bytes[8], bytes[9], bytes[10], bytes[11]]);
         if declared as usize > MAX_STATE_LEN {
-            return Err(ErrorKind::LimitExceeded {
-                what: "snapshot state length",
-                declared: declared.into(),
-                limit: MAX_STATE_LEN as u64,
-            }
-            .into());
+            return Err(crate::Error::limit_exceeded(
+                "snapshot state length",
+                declared.into(),
+                MAX_STATE_LEN as u64,
+            ));
         }
         if bytes.len() - HEADER_LEN - CRC_LEN != declared as usize {
             return Err(snapshot_error("snapshot length does not match its header"));

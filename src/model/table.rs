@@ -131,11 +131,10 @@ impl TableModel {
         check_alphabet(freq.len())?;
         let sum: u64 = freq.iter().map(|&f| u64::from(f)).sum();
         if sum == 0 || !sum.is_power_of_two() || sum > 1 << 16 {
-            return Err(ErrorKind::InvalidParameter {
-                name: "freq",
-                reason: "frequencies must sum to a power of two no larger than 65536",
-            }
-            .into());
+            return Err(crate::Error::invalid_parameter(
+                "freq",
+                "frequencies must sum to a power of two no larger than 65536",
+            ));
         }
         Ok(Self::build(freq.to_vec(), sum.trailing_zeros()))
     }
@@ -226,12 +225,11 @@ impl TableModel {
         let log2_total = r.gamma(17)? - 1;
         let alphabet = r.gamma(MAX_ALPHABET)?;
         if alphabet > max_alphabet {
-            return Err(ErrorKind::LimitExceeded {
-                what: "table alphabet",
-                declared: alphabet.into(),
-                limit: max_alphabet.into(),
-            }
-            .into());
+            return Err(crate::Error::limit_exceeded(
+                "table alphabet",
+                alphabet.into(),
+                max_alphabet.into(),
+            ));
         }
         let total = 1u32 << log2_total;
         let present = r.gamma(alphabet.min(total))?;
@@ -244,10 +242,7 @@ impl TableModel {
             // Leave room for the symbols still to come, one unit each.
             let left = present - i - 1;
             if s >= alphabet || alphabet - s - 1 < left {
-                return Err(ErrorKind::CorruptTable {
-                    reason: "symbol index out of range",
-                }
-                .into());
+                return Err(crate::Error::corrupt_table("symbol index out of range"));
             }
             let f = if left > 0 {
                 let room = total - acc - left;
@@ -256,10 +251,7 @@ impl TableModel {
                 total - acc
             };
             if f == 0 {
-                return Err(ErrorKind::CorruptTable {
-                    reason: "frequencies exceed the total",
-                }
-                .into());
+                return Err(crate::Error::corrupt_table("frequencies exceed the total"));
             }
             freq[s as usize] = f;
             acc += f;
@@ -271,11 +263,10 @@ impl TableModel {
 
 fn check_alphabet(len: usize) -> Result<()> {
     if len == 0 || len > MAX_ALPHABET as usize {
-        return Err(ErrorKind::InvalidParameter {
-            name: "alphabet",
-            reason: "must have 1 ..= 65536 symbols",
-        }
-        .into());
+        return Err(crate::Error::invalid_parameter(
+            "alphabet",
+            "must have 1 ..= 65536 symbols",
+        ));
     }
     Ok(())
 }

@@ -20,21 +20,17 @@
 use alloc::vec::Vec;
 
 use crate::coder::IdealCost;
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 use crate::model::cm::{
     decode_mix, decode_order2, encode_mix, encode_order2, ideal_cost_mix, ideal_cost_order2,
     MixParams, Order2Params,
 };
 
-fn invalid(name: &'static str, reason: &'static str) -> crate::Error {
-    ErrorKind::InvalidParameter { name, reason }.into()
-}
-
 fn flag(v: u32, name: &'static str) -> Result<bool> {
     match v {
         0 => Ok(false),
         1 => Ok(true),
-        _ => Err(invalid(name, "must be 0 or 1")),
+        _ => Err(crate::Error::invalid_parameter(name, "must be 0 or 1")),
     }
 }
 
@@ -44,7 +40,8 @@ fn flag(v: u32, name: &'static str) -> Result<bool> {
 pub(crate) fn order2_params(params: &[u32]) -> Result<Order2Params> {
     let mut p = Order2Params::default();
     p.order1 = flag(params[0], "order1")?;
-    p.limit = u16::try_from(params[1]).map_err(|_| invalid("limit", "must be in 1 ..= 1023"))?;
+    p.limit = u16::try_from(params[1])
+        .map_err(|_| crate::Error::invalid_parameter("limit", "must be in 1 ..= 1023"))?;
     p.precise = flag(params[2], "precise")?;
     p.validate()?;
     Ok(p)
@@ -54,19 +51,21 @@ pub(crate) fn order2_params(params: &[u32]) -> Result<Order2Params> {
 pub(crate) fn mix_params(params: &[u32]) -> Result<MixParams> {
     let mib = params[0];
     if !mib.is_power_of_two() || mib > 1 << MixParams::MAX_MEM_LOG2 {
-        return Err(invalid(
+        return Err(crate::Error::invalid_parameter(
             "memory_mib",
             "must be a power of two in 1 ..= 1024",
         ));
     }
     let mut p = MixParams::default();
     p.mem_log2 = mib.trailing_zeros() as u8;
-    p.orders = u8::try_from(params[1])
-        .map_err(|_| invalid("orders", "must be a bit mask of orders 1 to 6"))?;
+    p.orders = u8::try_from(params[1]).map_err(|_| {
+        crate::Error::invalid_parameter("orders", "must be a bit mask of orders 1 to 6")
+    })?;
     p.word = flag(params[2], "word")?;
     p.column = flag(params[3], "column")?;
     p.matcher = flag(params[4], "matcher")?;
-    p.rate = u8::try_from(params[5]).map_err(|_| invalid("rate", "out of range"))?;
+    p.rate = u8::try_from(params[5])
+        .map_err(|_| crate::Error::invalid_parameter("rate", "out of range"))?;
     p.precise = flag(params[6], "precise")?;
     p.validate()?;
     Ok(p)
@@ -112,11 +111,10 @@ pub(crate) fn ideal_mx(raw: &[u8], params: &[u32]) -> Result<IdealCost> {
 
 fn copy_exact(back: &[u8], out: &mut [u8]) -> Result<()> {
     if back.len() != out.len() {
-        return Err(ErrorKind::CorruptStream {
-            offset: 0,
-            reason: "engine returned a block of the wrong length",
-        }
-        .into());
+        return Err(crate::Error::corrupt_stream(
+            0,
+            "engine returned a block of the wrong length",
+        ));
     }
     out.copy_from_slice(back);
     Ok(())

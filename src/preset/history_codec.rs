@@ -13,12 +13,8 @@
 use alloc::vec::Vec;
 
 use crate::coder::IdealCost;
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 use crate::model::cm::{decode_history, encode_history, ideal_cost_history, HistoryParams};
-
-fn invalid(name: &'static str, reason: &'static str) -> crate::Error {
-    ErrorKind::InvalidParameter { name, reason }.into()
-}
 
 // The engine's parameter struct is non-exhaustive: start from its defaults
 // and set every field the header carries.
@@ -26,7 +22,7 @@ fn invalid(name: &'static str, reason: &'static str) -> crate::Error {
 pub(crate) fn params(values: &[u32]) -> Result<HistoryParams> {
     let mib = values[0];
     if !mib.is_power_of_two() || mib > 1 << HistoryParams::MAX_MEM_LOG2 {
-        return Err(invalid(
+        return Err(crate::Error::invalid_parameter(
             "memory_mib",
             "must be a power of two in 1 ..= 1024",
         ));
@@ -36,9 +32,10 @@ pub(crate) fn params(values: &[u32]) -> Result<HistoryParams> {
     p.x86 = match values[1] {
         0 => false,
         1 => true,
-        _ => return Err(invalid("x86", "must be 0 or 1")),
+        _ => return Err(crate::Error::invalid_parameter("x86", "must be 0 or 1")),
     };
-    p.rate = u8::try_from(values[2]).map_err(|_| invalid("rate", "must be in 1 ..= 255"))?;
+    p.rate = u8::try_from(values[2])
+        .map_err(|_| crate::Error::invalid_parameter("rate", "must be in 1 ..= 255"))?;
     p.validate()?;
     Ok(p)
 }

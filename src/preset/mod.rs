@@ -391,13 +391,7 @@ impl PresetKind {
             .iter()
             .copied()
             .find(|k| k.name() == name)
-            .ok_or_else(|| {
-                ErrorKind::InvalidParameter {
-                    name: "preset",
-                    reason: NAME_LIST,
-                }
-                .into()
-            })
+            .ok_or_else(|| crate::Error::invalid_parameter("preset", NAME_LIST))
     }
 }
 
@@ -487,11 +481,10 @@ impl Preset {
         // imply their `absent` value in headers that stop before them.
         let required = specs.iter().filter(|s| s.absent.is_none()).count();
         if params.len() < required || params.len() > specs.len() {
-            return Err(ErrorKind::InvalidParameter {
-                name: "preset parameters",
-                reason: "wrong number of parameters for this preset",
-            }
-            .into());
+            return Err(crate::Error::invalid_parameter(
+                "preset parameters",
+                "wrong number of parameters for this preset",
+            ));
         }
         let mut values = [0u32; MAX_PARAMS];
         for (v, spec) in values[params.len()..]
@@ -502,12 +495,11 @@ impl Preset {
         }
         for ((v, &p), spec) in values.iter_mut().zip(params).zip(specs) {
             if p > spec.max {
-                return Err(ErrorKind::LimitExceeded {
-                    what: spec.name,
-                    declared: p.into(),
-                    limit: spec.max.into(),
-                }
-                .into());
+                return Err(crate::Error::limit_exceeded(
+                    spec.name,
+                    p.into(),
+                    spec.max.into(),
+                ));
             }
             if p < spec.min {
                 return Err(out_of_range(spec.name));
@@ -816,20 +808,15 @@ impl fmt::Debug for Preset {
 }
 
 fn out_of_range(name: &'static str) -> crate::Error {
-    ErrorKind::InvalidParameter {
+    crate::Error::invalid_parameter(
         name,
-        reason: "outside the parameter's range (see Preset::param_specs)",
-    }
-    .into()
+        "outside the parameter's range (see Preset::param_specs)",
+    )
 }
 
 /// A payload-level damage report: `offset` is within the payload.
 pub(crate) fn corrupt(offset: usize, reason: &'static str) -> crate::Error {
-    ErrorKind::CorruptStream {
-        offset: offset as u64,
-        reason,
-    }
-    .into()
+    crate::Error::corrupt_stream(offset as u64, reason)
 }
 
 #[cfg(test)]

@@ -20,7 +20,7 @@
 use alloc::vec::Vec;
 
 use crate::coder::{decode_table_lanes, encode_counted, log2_q32};
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 use crate::model::TableModel;
 use crate::preset::corrupt;
 use crate::preset::lanes::{put_lanes, read_lanes};
@@ -114,12 +114,11 @@ pub(crate) fn decode(payload: &[u8], params: &[u32], out: &mut [u8]) -> Result<(
         .vint()
         .map_err(|_| corrupt(at, "malformed table length"))?;
     if table_len > MAX_TABLE_BYTES {
-        return Err(ErrorKind::LimitExceeded {
-            what: "model table size",
-            declared: table_len,
-            limit: MAX_TABLE_BYTES,
-        }
-        .into());
+        return Err(crate::Error::limit_exceeded(
+            "model table size",
+            table_len,
+            MAX_TABLE_BYTES,
+        ));
     }
     let at = cur.position();
     let table = cur
@@ -151,6 +150,7 @@ pub(crate) fn working_memory(params: &[u32], block_size: u64) -> u64 {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::ErrorKind;
     use alloc::vec;
 
     #[test]

@@ -16,7 +16,7 @@ use alloc::vec;
 use alloc::vec::Vec;
 
 use crate::coder::{Decoder, Encoder};
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 use crate::model::{AdaptiveModel, AdaptiveParams};
 
 fn model(params: &[u32]) -> Result<AdaptiveModel> {
@@ -31,11 +31,7 @@ fn model(params: &[u32]) -> Result<AdaptiveModel> {
 /// Checks that `increment` and `limit` fit together.
 pub(crate) fn check(params: &[u32]) -> Result<()> {
     model(params).map(drop).map_err(|_| {
-        ErrorKind::InvalidParameter {
-            name: "limit",
-            reason: "must be at least 257 + 4 x increment",
-        }
-        .into()
+        crate::Error::invalid_parameter("limit", "must be at least 257 + 4 x increment")
     })
 }
 

@@ -13,7 +13,7 @@
 use core::fmt;
 use core::str::FromStr;
 
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 use crate::preset::{Preset, PresetKind, NAME_LIST};
 
 /// Separates the name from the parameters.
@@ -24,11 +24,7 @@ const PARAM_SEP: char = ',';
 const VALUE_SEP: char = '=';
 
 fn invalid(reason: &'static str) -> crate::Error {
-    ErrorKind::InvalidParameter {
-        name: "preset",
-        reason,
-    }
-    .into()
+    crate::Error::invalid_parameter("preset", reason)
 }
 
 /// Parses the textual form; see the module docs.
@@ -100,6 +96,7 @@ impl fmt::Display for Preset {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::ErrorKind;
     use alloc::string::ToString;
 
     /// Every preset, including those kept for reading.

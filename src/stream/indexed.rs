@@ -288,7 +288,7 @@ pub fn decompress_range_with_limits(
         .into());
     }
     let want = range.end - range.start;
-    crate::format::check_limit("total decoded length", want, limits.total_limit())?;
+    crate::Error::check_limit("total decoded length", want, limits.total_limit())?;
     reader.pos = range.start;
     // The output grows with the blocks decoded, not with the range asked.
     let mut out = Vec::new();
@@ -297,10 +297,7 @@ pub fn decompress_range_with_limits(
         .read_to_end(&mut out)
         .map_err(from_io)?;
     if out.len() as u64 != want {
-        return Err(ErrorKind::Truncated {
-            offset: reader.index().container_len(),
-        }
-        .into());
+        return Err(crate::Error::truncated(reader.index().container_len()));
     }
     Ok(out)
 }

@@ -32,7 +32,7 @@
 //! [`compress_reader`]: crate::stream::compress_reader
 //! [`compress`]: crate::stream::compress
 
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 use crate::format::{DecodeLimits, IndexPolicy, TrailingData, MAX_BLOCK_SIZE};
 use crate::preset::Preset;
 
@@ -137,11 +137,10 @@ impl Options {
     /// ```
     pub fn block_size(&mut self, bytes: u64) -> Result<&mut Self> {
         if !(MIN_BLOCK_SIZE..=MAX_BLOCK_SIZE).contains(&bytes) {
-            return Err(ErrorKind::InvalidParameter {
-                name: "block_size",
-                reason: "must be 16 bytes ..= 64 MiB",
-            }
-            .into());
+            return Err(crate::Error::invalid_parameter(
+                "block_size",
+                "must be 16 bytes ..= 64 MiB",
+            ));
         }
         self.block_size = Some(bytes);
         Ok(self)
@@ -265,7 +264,7 @@ impl Options {
     /// [`ErrorKind::LimitExceeded`] (what: "memory needed per block") when
     /// the preset at this block size needs more.
     pub fn check(&self) -> Result<()> {
-        crate::format::check_limit(
+        crate::Error::check_limit(
             "memory needed per block",
             self.preset.memory_needed(self.get_block_size()),
             self.decoder_memory,

@@ -16,7 +16,7 @@
 //! bytes, an engine whose allocations are exactly `memory_needed_for(len)`
 //! bytes of tables (plus the output).
 
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 use crate::model::apm::Apm;
 use crate::model::cm::arena::{groups_for, GroupArena};
 use crate::model::hashed::SlotTable;
@@ -25,10 +25,6 @@ use crate::model::mix::Mixer;
 
 /// Entries of a direct nibble-tree table per context: 17 groups of 16.
 pub(crate) const NODES_PER_CONTEXT: usize = 17 * 16;
-
-fn invalid(name: &'static str, reason: &'static str) -> crate::Error {
-    ErrorKind::InvalidParameter { name, reason }.into()
-}
 
 /// Parameters of the fast order-2 engine
 /// ([`encode_order2`](super::encode_order2)).
@@ -79,7 +75,10 @@ impl Order2Params {
     /// [`ErrorKind::InvalidParameter`] naming the first field out of range.
     pub fn validate(&self) -> Result<()> {
         if self.limit == 0 || self.limit > 1023 {
-            return Err(invalid("limit", "must be in 1 ..= 1023"));
+            return Err(crate::Error::invalid_parameter(
+                "limit",
+                "must be in 1 ..= 1023",
+            ));
         }
         Ok(())
     }
@@ -139,7 +138,10 @@ impl Order2Params {
     /// [`ErrorKind::InvalidParameter`] for unknown flag bits or a field out of range.
     pub fn from_bytes(bytes: [u8; 3]) -> Result<Self> {
         if bytes[0] & !0b11 != 0 {
-            return Err(invalid("flags", "unknown flag bits"));
+            return Err(crate::Error::invalid_parameter(
+                "flags",
+                "unknown flag bits",
+            ));
         }
         let p = Order2Params {
             order1: bytes[0] & 1 == 1,
@@ -243,16 +245,25 @@ impl MixParams {
     /// [`ErrorKind::InvalidParameter`] naming the first field out of range.
     pub fn validate(&self) -> Result<()> {
         if self.mem_log2 > Self::MAX_MEM_LOG2 {
-            return Err(invalid("mem_log2", "must be in 0 ..= 10"));
+            return Err(crate::Error::invalid_parameter(
+                "mem_log2",
+                "must be in 0 ..= 10",
+            ));
         }
         if self.orders & !0b11_1111 != 0 {
-            return Err(invalid("orders", "only bits 0 to 5 (orders 1 to 6) exist"));
+            return Err(crate::Error::invalid_parameter(
+                "orders",
+                "only bits 0 to 5 (orders 1 to 6) exist",
+            ));
         }
         if self.rate == 0 || self.rate > 64 {
-            return Err(invalid("rate", "must be in 1 ..= 64"));
+            return Err(crate::Error::invalid_parameter(
+                "rate",
+                "must be in 1 ..= 64",
+            ));
         }
         if self.inputs() == 1 {
-            return Err(invalid(
+            return Err(crate::Error::invalid_parameter(
                 "orders",
                 "at least one context or the match model is needed",
             ));
@@ -367,7 +378,10 @@ impl MixParams {
     /// [`ErrorKind::InvalidParameter`] for unknown flag bits or a field out of range.
     pub fn from_bytes(bytes: [u8; 4]) -> Result<Self> {
         if bytes[2] & !0b1111 != 0 {
-            return Err(invalid("flags", "unknown flag bits"));
+            return Err(crate::Error::invalid_parameter(
+                "flags",
+                "unknown flag bits",
+            ));
         }
         let p = MixParams {
             mem_log2: bytes[0],
@@ -400,15 +414,7 @@ impl MixParams {
 /// assert!(check_memory(p.memory_needed(), 1 << 20).is_err());
 /// ```
 pub fn check_memory(needed: u64, limit: u64) -> Result<()> {
-    if needed > limit {
-        return Err(ErrorKind::LimitExceeded {
-            what: "model memory",
-            declared: needed,
-            limit,
-        }
-        .into());
-    }
-    Ok(())
+    crate::Error::check_limit("model memory", needed, limit)
 }
 
 #[cfg(test)]

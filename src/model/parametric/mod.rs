@@ -62,7 +62,7 @@
 use alloc::vec::Vec;
 
 use crate::coder::log2_q32;
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 use crate::model::TableModel;
 
 mod fixed;
@@ -180,10 +180,6 @@ pub struct ParametricTable {
     model: TableModel,
 }
 
-fn invalid(name: &'static str, reason: &'static str) -> crate::Error {
-    ErrorKind::InvalidParameter { name, reason }.into()
-}
-
 impl ParametricTable {
     /// Builds the table of `spec`.
     ///
@@ -194,18 +190,24 @@ impl ParametricTable {
     /// table has more symbols than its total.
     pub fn new(spec: ParametricSpec) -> Result<Self> {
         if spec.scale_q16 == 0 {
-            return Err(invalid("scale", "must be positive"));
+            return Err(crate::Error::invalid_parameter("scale", "must be positive"));
         }
         if !(1..=16).contains(&spec.log2_total) {
-            return Err(invalid("log2_total", "must be 1 ..= 16"));
+            return Err(crate::Error::invalid_parameter(
+                "log2_total",
+                "must be 1 ..= 16",
+            ));
         }
         if spec.half_width > MAX_HALF_WIDTH {
-            return Err(invalid("half_width", "must be at most 32767"));
+            return Err(crate::Error::invalid_parameter(
+                "half_width",
+                "must be at most 32767",
+            ));
         }
         let n = 2 * spec.half_width as usize + 1;
         let total = 1u64 << spec.log2_total;
         if n as u64 > total {
-            return Err(invalid(
+            return Err(crate::Error::invalid_parameter(
                 "half_width",
                 "the table has more symbols than its total",
             ));

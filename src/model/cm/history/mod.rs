@@ -61,7 +61,7 @@ mod state;
 use alloc::vec::Vec;
 
 use crate::coder::{Decoder, Encoder, IdealCost};
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 #[cfg(test)]
 use crate::model::cm::io::BitIo;
 use crate::model::cm::shrink::code_bytes;
@@ -159,14 +159,13 @@ pub fn ideal_cost_history(data: &[u8], params: &HistoryParams) -> Result<IdealCo
 /// `out.len()` bytes; [`ErrorKind::InvalidParameter`] for bad parameters.
 pub fn decode_history(payload: &[u8], out: &mut [u8], params: &HistoryParams) -> Result<()> {
     let Some((&flags, coded)) = payload.split_first() else {
-        return Err(ErrorKind::Truncated { offset: 0 }.into());
+        return Err(crate::Error::truncated(0));
     };
     if flags & !FLAG_X86 != 0 {
-        return Err(ErrorKind::CorruptStream {
-            offset: 0,
-            reason: "unknown flags in a history block",
-        }
-        .into());
+        return Err(crate::Error::corrupt_stream(
+            0,
+            "unknown flags in a history block",
+        ));
     }
     let mut engine = Engine::new(params, out.len())?;
     let mut dec = Decoder::new(coded)?;

@@ -1,12 +1,8 @@
 //! Parameters of the history engine and the memory they need.
 
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 
 use super::engine::Engine;
-
-fn invalid(name: &'static str, reason: &'static str) -> crate::Error {
-    ErrorKind::InvalidParameter { name, reason }.into()
-}
 
 /// Parameters of the history engine ([`encode_history`](super::encode_history)).
 ///
@@ -59,10 +55,16 @@ impl HistoryParams {
     /// [`ErrorKind::InvalidParameter`] naming the first field out of range.
     pub fn validate(&self) -> Result<()> {
         if self.mem_log2 > Self::MAX_MEM_LOG2 {
-            return Err(invalid("mem_log2", "must be in 0 ..= 10"));
+            return Err(crate::Error::invalid_parameter(
+                "mem_log2",
+                "must be in 0 ..= 10",
+            ));
         }
         if self.rate == 0 {
-            return Err(invalid("rate", "must be in 1 ..= 255"));
+            return Err(crate::Error::invalid_parameter(
+                "rate",
+                "must be in 1 ..= 255",
+            ));
         }
         Ok(())
     }
