@@ -22,8 +22,8 @@
 
 use crate::coder::encoder::TOP;
 use crate::coder::source::{ByteSource, SliceSource};
+use crate::coder::{Model, Span, ESCAPE, MAX_TOTAL};
 use crate::error::{ErrorKind, Result};
-use crate::model::{Model, Span, ESCAPE, MAX_TOTAL};
 
 /// Bytes the decoder may read past the end of its input (as zeros).
 const MAX_PAD: u32 = 4;

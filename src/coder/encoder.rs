@@ -27,8 +27,8 @@
 
 use crate::coder::cost::IdealCost;
 use crate::coder::sink::ByteSink;
+use crate::coder::{Model, Span, MAX_TOTAL};
 use crate::error::{ErrorKind, Result};
-use crate::model::{Model, Span, MAX_TOTAL};
 use alloc::vec::Vec;
 
 /// Renormalisation threshold: a byte is shifted out while `range < TOP`.

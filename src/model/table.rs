@@ -16,6 +16,7 @@
 use alloc::vec;
 use alloc::vec::Vec;
 
+use crate::coder::LaneTable;
 use crate::error::{ErrorKind, Result};
 use crate::model::quantize::quantize_counts;
 use crate::model::serial::{GammaReader, GammaWriter};
@@ -294,6 +295,18 @@ impl Model for TableModel {
         let t = (target as usize).min(self.slots.len() - 1);
         let s = self.slots[t] as usize;
         (s as u32, Span::new(self.cum[s], self.freq[s]))
+    }
+}
+
+impl LaneTable for TableModel {
+    fn frequencies(&self) -> &[u32] {
+        self.frequencies()
+    }
+    fn cumulative(&self) -> &[u32] {
+        self.cumulative()
+    }
+    fn log2_total(&self) -> u32 {
+        self.log2_total()
     }
 }
 

@@ -1,8 +1,8 @@
-//! The fast path for [`RefreshModel`] over interleaved lanes.
+//! The fast path for a [`LaneTable`] that learns, over interleaved lanes.
 //!
-//! A refreshed model's table is fixed for a whole segment, so a segment is
+//! A lane table is fixed for a whole segment, so a segment is
 //! coded exactly like a block with a static table: the [lane
-//! encoder](super::lane_enc) and [lane decoder](super::lane_dec) (vector
+//! encoder](super::encode) and [lane decoder](super::decode) (vector
 //! kernels included) run over it, keeping their states from one segment to
 //! the next; between segments the model learns the segment's bytes in one
 //! step and the coding tables are rebuilt from its new frequencies.
@@ -14,13 +14,12 @@
 
 use alloc::vec::Vec;
 
-use crate::coder::lane_dec::{best_kernel, DecodeTables, LaneDecoder, Vector};
-use crate::coder::lane_enc::{best_encode_kernel, EncodeTable, EncodeVector, LaneEncoder};
-use crate::coder::lanes::check_lanes;
+use crate::coder::lanes::decode::{best_kernel, DecodeTables, LaneDecoder, Vector};
+use crate::coder::lanes::encode::{best_encode_kernel, EncodeTable, EncodeVector, LaneEncoder};
+use crate::coder::lanes::{check_lanes, LaneTable};
 #[cfg(doc)]
 use crate::error::ErrorKind;
 use crate::error::Result;
-use crate::model::{Model, RefreshModel};
 
 /// Codes `data` with `model` over `lanes` interleaved coders, a segment at
 /// a time; the model learns every byte.
@@ -55,8 +54,8 @@ use crate::model::{Model, RefreshModel};
 /// # Ok(())
 /// # }
 /// ```
-pub fn encode_refresh_lanes(
-    model: &mut RefreshModel,
+pub fn encode_refresh_lanes<T: LaneTable + ?Sized>(
+    model: &mut T,
     data: &[u8],
     lanes: usize,
 ) -> Result<Vec<Vec<u8>>> {
@@ -71,8 +70,8 @@ pub fn encode_refresh_lanes(
 ///
 /// As for [`encode_refresh_lanes`].
 #[doc(hidden)]
-pub fn encode_refresh_lanes_scalar(
-    model: &mut RefreshModel,
+pub fn encode_refresh_lanes_scalar<T: LaneTable + ?Sized>(
+    model: &mut T,
     data: &[u8],
     lanes: usize,
 ) -> Result<Vec<Vec<u8>>> {
@@ -80,15 +79,16 @@ pub fn encode_refresh_lanes_scalar(
 }
 
 /// [`encode_refresh_lanes`] with the vector kernel chosen by the caller.
-fn encode_with(
-    model: &mut RefreshModel,
+fn encode_with<T: LaneTable + ?Sized>(
+    model: &mut T,
     data: &[u8],
     lanes: usize,
     kernel: EncodeVector,
 ) -> Result<Vec<Vec<u8>>> {
     check_lanes(lanes)?;
     let mut table = EncodeTable::new(model.frequencies(), model.cumulative(), model.log2_total());
-    // The set of codable symbols never changes, so the first table tells.
+    // The set of codable symbols never changes (a `LaneTable` rule), so
+    // the first table tells.
     table.check_codable(data, model.alphabet_size())?;
     let mut enc = LaneEncoder::with_kernel(data.len(), lanes, kernel);
     let mut rest = data;
@@ -106,8 +106,8 @@ fn encode_with(
 }
 
 /// Decodes `out.len()` bytes coded by [`encode_refresh_lanes`] (or by
-/// [`encode_interleaved`](super::encode_interleaved) with a
-/// [`RefreshModel`]) with `streams.len()` lanes; the model learns every
+/// [`encode_interleaved`](super::encode_interleaved) with the same
+/// model) with `streams.len()` lanes; the model learns every
 /// byte.
 ///
 /// # Errors
@@ -116,8 +116,8 @@ fn encode_with(
 /// [`ErrorKind::Truncated`], [`ErrorKind::CorruptStream`] or
 /// [`ErrorKind::TrailingBytes`] when a lane's stream is damaged. The work
 /// done is bounded by `out.len()` whatever the input.
-pub fn decode_refresh_lanes(
-    model: &mut RefreshModel,
+pub fn decode_refresh_lanes<T: LaneTable + ?Sized>(
+    model: &mut T,
     streams: &[&[u8]],
     out: &mut [u8],
 ) -> Result<()> {
@@ -132,8 +132,8 @@ pub fn decode_refresh_lanes(
 ///
 /// As for [`decode_refresh_lanes`].
 #[doc(hidden)]
-pub fn decode_refresh_lanes_scalar(
-    model: &mut RefreshModel,
+pub fn decode_refresh_lanes_scalar<T: LaneTable + ?Sized>(
+    model: &mut T,
     streams: &[&[u8]],
     out: &mut [u8],
 ) -> Result<()> {
@@ -141,8 +141,8 @@ pub fn decode_refresh_lanes_scalar(
 }
 
 /// [`decode_refresh_lanes`] with the vector kernel chosen by the caller.
-fn decode_with(
-    model: &mut RefreshModel,
+fn decode_with<T: LaneTable + ?Sized>(
+    model: &mut T,
     streams: &[&[u8]],
     out: &mut [u8],
     kernel: Vector,
@@ -168,9 +168,9 @@ fn decode_with(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::coder::lanes::testing::Segmented;
     use crate::coder::{decode_interleaved, encode_interleaved};
     use crate::error::ErrorKind;
-    use crate::model::RefreshParams;
     use alloc::vec;
 
     fn drifting(len: usize) -> Vec<u8> {
@@ -186,14 +186,8 @@ mod tests {
     fn identical_to_the_generic_path() {
         let data = drifting(70_001);
         for log2_total in [8u32, 12, 15] {
-            let p = RefreshParams {
-                log2_total,
-                max_period: 4096,
-                limit: 1 << 14,
-                ..RefreshParams::default()
-            };
             for lanes in [1usize, 3, 4, 8, 24, 32] {
-                let fresh = || RefreshModel::with_params(256, p).unwrap();
+                let fresh = || Segmented::new(256, log2_total, 3001);
                 let (mut a, mut b) = (fresh(), fresh());
                 let fast = encode_refresh_lanes(&mut a, &data, lanes).unwrap();
                 let slow = encode_interleaved(&mut b, &data, lanes).unwrap();
@@ -216,7 +210,7 @@ mod tests {
     #[test]
     fn kernels_agree_with_the_scalar_steps() {
         let data = drifting(40_000);
-        let fresh = || RefreshModel::new(256).unwrap();
+        let fresh = || Segmented::new(256, 12, 2048);
         let mut streams = encode_refresh_lanes(&mut fresh(), &data, 16).unwrap();
         for damage in 0..3 {
             match damage {
@@ -243,13 +237,13 @@ mod tests {
 
     #[test]
     fn uncodable_bytes_and_bad_lane_counts() {
-        let mut m = RefreshModel::new(10).unwrap();
+        let mut m = Segmented::new(10, 12, 100);
         let err = encode_refresh_lanes(&mut m, &[1, 2, 200], 2).unwrap_err();
         assert!(matches!(
             err.kind(),
             ErrorKind::UncodableSymbol { symbol: 200, .. }
         ));
-        assert_eq!(m, RefreshModel::new(10).unwrap());
+        assert_eq!(m, Segmented::new(10, 12, 100));
         assert!(encode_refresh_lanes(&mut m, &[1], 0).is_err());
         assert!(encode_refresh_lanes(&mut m, &[1], 33).is_err());
         let mut out = [0u8; 4];

@@ -207,7 +207,7 @@ fn flush_lane(mut low: u32, range: u32, out: &mut [u8], mut pos: usize) -> usize
 
 /// The vector kernel a lane encoder may use (none off x86-64).
 #[cfg(target_arch = "x86_64")]
-pub(crate) type EncodeVector = Option<super::table_simd_enc::EncodeKernel>;
+pub(crate) type EncodeVector = Option<super::simd::EncodeKernel>;
 /// The vector kernel a lane encoder may use (none off x86-64).
 #[cfg(not(target_arch = "x86_64"))]
 pub(crate) type EncodeVector = Option<core::convert::Infallible>;
@@ -215,7 +215,7 @@ pub(crate) type EncodeVector = Option<core::convert::Infallible>;
 /// The best vector kernel for encoding `lanes` lanes on this CPU, if any.
 pub(crate) fn best_encode_kernel(lanes: usize) -> EncodeVector {
     #[cfg(target_arch = "x86_64")]
-    return super::table_simd_enc::EncodeKernel::for_lanes(lanes);
+    return super::simd::EncodeKernel::for_lanes(lanes);
     #[cfg(not(target_arch = "x86_64"))]
     {
         let _ = lanes;
@@ -383,9 +383,9 @@ impl LaneEncoder {
     fn rows(&mut self, body: &[u8], table: &EncodeTable, shape: &Shape) {
         #[cfg(target_arch = "x86_64")]
         if let Some(kernel) = self.kernel {
-            super::table_simd_enc::encode_rows(
+            super::simd::encode::encode_rows(
                 kernel,
-                super::table_simd_enc::Lanes {
+                super::simd::encode::Lanes {
                     low: &mut self.low,
                     range: &mut self.range,
                     pos: &mut self.pos,

@@ -29,6 +29,7 @@
 //! symbol of a segment; encoder and decoder that start from the same
 //! parameters and see the same symbols hold identical tables at every step.
 
+use crate::coder::LaneTable;
 use crate::error::Result;
 use crate::model::{Model, Span};
 
@@ -395,6 +396,24 @@ impl Model for RefreshModel {
         if self.left == 0 {
             self.refresh();
         }
+    }
+}
+
+impl LaneTable for RefreshModel {
+    fn frequencies(&self) -> &[u32] {
+        self.frequencies()
+    }
+    fn cumulative(&self) -> &[u32] {
+        self.cumulative()
+    }
+    fn log2_total(&self) -> u32 {
+        self.log2_total()
+    }
+    fn segment_left(&self) -> u64 {
+        self.segment_left()
+    }
+    fn update_run(&mut self, symbols: &[u8]) {
+        self.update_run(symbols)
     }
 }
 

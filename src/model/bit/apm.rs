@@ -24,8 +24,8 @@ use crate::error::Result;
 use alloc::vec;
 use alloc::vec::Vec;
 
+use crate::model::bit::logistic::{squash, stretch};
 use crate::model::cm::arena::GroupMap;
-use crate::model::logistic::{squash, stretch};
 
 /// Points per context curve.
 const POINTS: usize = 33;

@@ -27,8 +27,8 @@ use alloc::vec;
 use alloc::vec::Vec;
 
 use crate::error::Result;
+use crate::model::bit::logistic::{squash, stretch, STRETCH_MAX};
 use crate::model::bit::BitPredictor;
-use crate::model::logistic::{squash, stretch, STRETCH_MAX};
 
 /// Largest weight magnitude: 16.0 in 16.16 fixed point.
 const WEIGHT_LIMIT: i32 = 16 << 16;

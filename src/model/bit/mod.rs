@@ -8,12 +8,33 @@
 //! with the same bits. [`encode_with`] and [`decode_with`] do the
 //! predict–code–update step in one call.
 //!
+//! Around the trait: [`CountingPredictor`] and [`KtPredictor`] (count-based
+//! rates), [`BitTree`] (bytes through a binary tree of predictors),
+//! [`stretch`] / [`squash`] (the logistic domain), [`Mixer`] and
+//! [`MixedPredictor`] (logistic mixing) and [`Apm`] (an adaptive
+//! probability map). The packed counters of the context-mixing engines are
+//! in `counter`.
+//!
 //! This file also holds the simplest predictor, [`ShiftPredictor`]: a
 //! probability moved a fixed fraction `2^-rate` towards each coded bit (an
 //! exponentially decaying average; small rates adapt fast, large rates
 //! estimate stationary sources precisely). The invariant it keeps is that its
 //! 32-bit state never leaves `0 .. 2^32`, so `p1` is always in `1 ..= 65535`
 //! after clamping.
+
+pub(crate) mod apm;
+pub(crate) mod counter;
+mod kt;
+pub(crate) mod logistic;
+pub(crate) mod mix;
+mod tree;
+
+pub use apm::Apm;
+pub use counter::{CountingPredictor, MAX_COUNT_LIMIT};
+pub use kt::KtPredictor;
+pub use logistic::{squash, stretch, STRETCH_MAX};
+pub use mix::{MixedPredictor, Mixer, MAX_MIXER_INPUTS, MAX_MIXER_SETS};
+pub use tree::BitTree;
 
 use alloc::boxed::Box;
 

@@ -44,20 +44,24 @@
 //! ```
 
 pub(crate) mod arena;
-mod fast;
+pub(crate) mod column;
+pub(crate) mod hashed;
 mod history;
 mod io;
+pub(crate) mod matcher;
+mod mix;
+mod order2;
 mod params;
 mod shrink;
-mod strong;
+pub(crate) mod word;
 
-#[cfg(feature = "std")]
-pub(crate) use fast::encode_order2_or_store;
-pub use fast::{decode_order2, encode_order2, ideal_cost_order2};
 #[cfg(feature = "std")]
 pub(crate) use history::encode_history_or_store;
 pub use history::{decode_history, encode_history, ideal_cost_history, HistoryParams};
-pub use params::{check_memory, MixParams, Order2Params};
 #[cfg(feature = "std")]
-pub(crate) use strong::encode_mix_or_store;
-pub use strong::{decode_mix, encode_mix, ideal_cost_mix};
+pub(crate) use mix::encode_mix_or_store;
+pub use mix::{decode_mix, encode_mix, ideal_cost_mix};
+#[cfg(feature = "std")]
+pub(crate) use order2::encode_order2_or_store;
+pub use order2::{decode_order2, encode_order2, ideal_cost_order2};
+pub use params::{check_memory, MixParams, Order2Params};

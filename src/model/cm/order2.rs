@@ -33,11 +33,11 @@ use alloc::vec::Vec;
 
 use crate::coder::{Decoder, Encoder, IdealCost};
 use crate::error::Result;
+use crate::model::bit::counter::{counter_n, counter_p16, counter_update, COUNTER_INIT};
 use crate::model::cm::arena::GroupArena;
 use crate::model::cm::io::{BitIo, Coarse};
 use crate::model::cm::params::{Order2Params, NODES_PER_CONTEXT};
 use crate::model::cm::shrink::{code_bytes, finish_or_store};
-use crate::model::counter::{counter_n, counter_p16, counter_update, COUNTER_INIT};
 
 /// Updates a counter stored as `counter ^ COUNTER_INIT` (so that zeroed
 /// memory, which the allocator hands out lazily, reads as fresh counters).

@@ -17,11 +17,11 @@
 //! bytes of tables (plus the output).
 
 use crate::error::Result;
-use crate::model::apm::Apm;
+use crate::model::bit::apm::Apm;
+use crate::model::bit::mix::Mixer;
 use crate::model::cm::arena::{groups_for, GroupArena};
-use crate::model::hashed::SlotTable;
-use crate::model::matcher::MatchModel;
-use crate::model::mix::Mixer;
+use crate::model::cm::hashed::SlotTable;
+use crate::model::cm::matcher::MatchModel;
 
 /// Entries of a direct nibble-tree table per context: 17 groups of 16.
 pub(crate) const NODES_PER_CONTEXT: usize = 17 * 16;
