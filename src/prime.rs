@@ -20,7 +20,7 @@
 //! Every message starts from the same state, so messages decode in any order
 //! and a lost message costs only itself.
 //!
-//! Which model to prime: [`AdaptiveModel`] (order 0) is the fastest and its
+//! Which model to prime: [`StepwiseModel`] (order 0) is the fastest and its
 //! snapshot the smallest; [`ContextModel`] (orders 0 to 3, blended) also
 //! knows which bytes follow which, so text and records with repeated fields
 //! come out far smaller (on 100-byte text gauge frames, roughly 0.6 of the
@@ -36,7 +36,7 @@ use alloc::vec::Vec;
 use crate::coder::{Decoder, Encoder};
 use crate::error::{ErrorKind, Result};
 use crate::model::snapshot::{read_varint, write_varint, Snapshot, SnapshotState};
-use crate::model::{AdaptiveModel, ContextModel, Model, TableModel};
+use crate::model::{ContextModel, Model, StepwiseModel, TableModel};
 
 /// Bytes of the snapshot identifier at the start of every frame.
 pub const ID_LEN: usize = 4;
@@ -46,12 +46,12 @@ pub const ID_LEN: usize = 4;
 /// # Example
 ///
 /// ```
-/// use subrange::model::{AdaptiveModel, Model, Snapshot};
+/// use subrange::model::{StepwiseModel, Model, Snapshot};
 /// use subrange::prime::Primer;
 ///
 /// # fn main() -> Result<(), subrange::Error> {
 /// // Yesterday's readings train the model; both ends keep the snapshot.
-/// let mut model = AdaptiveModel::new(256)?;
+/// let mut model = StepwiseModel::new(256)?;
 /// for _ in 0..20 {
 ///     for &b in b"1042 231 45.67 12.3\n" {
 ///         model.update(b.into());
@@ -68,7 +68,7 @@ pub const ID_LEN: usize = 4;
 /// # }
 /// ```
 #[derive(Debug, Clone)]
-pub struct Primer<M = AdaptiveModel> {
+pub struct Primer<M = StepwiseModel> {
     id: u32,
     model: M,
 }
@@ -234,7 +234,7 @@ pub fn frame_snapshot_id(frame: &[u8]) -> Result<u32> {
 ///
 /// Restores the model on every call; to code many messages, build a
 /// [`Primer`] once. Works for snapshots of the crate's own models
-/// ([`AdaptiveModel`], [`TableModel`], [`ContextModel`]); use `Primer<M>`
+/// ([`StepwiseModel`], [`TableModel`], [`ContextModel`]); use `Primer<M>`
 /// for others.
 ///
 /// # Errors
@@ -246,17 +246,17 @@ pub fn frame_snapshot_id(frame: &[u8]) -> Result<u32> {
 /// # Example
 ///
 /// ```
-/// use subrange::model::{AdaptiveModel, Snapshot};
+/// use subrange::model::{StepwiseModel, Snapshot};
 /// use subrange::prime::{decode_message, encode_message};
 /// use subrange::ErrorKind;
 ///
 /// # fn main() -> Result<(), subrange::Error> {
-/// let snapshot = Snapshot::capture(&AdaptiveModel::new(256)?)?;
+/// let snapshot = Snapshot::capture(&StepwiseModel::new(256)?)?;
 /// let frame = encode_message(&snapshot, b"level 231 cm")?;
 /// assert_eq!(decode_message(&snapshot, &frame, 100)?, b"level 231 cm");
 ///
 /// // A base station holding another snapshot refuses the frame.
-/// let other = Snapshot::capture(&AdaptiveModel::new(257)?)?;
+/// let other = Snapshot::capture(&StepwiseModel::new(257)?)?;
 /// let err = decode_message(&other, &frame, 100).unwrap_err();
 /// assert!(matches!(err.kind(), ErrorKind::Snapshot { .. }));
 /// # Ok(())
@@ -264,8 +264,8 @@ pub fn frame_snapshot_id(frame: &[u8]) -> Result<u32> {
 /// ```
 pub fn encode_message(snapshot: &Snapshot, data: &[u8]) -> Result<Vec<u8>> {
     match snapshot.kind() {
-        <AdaptiveModel as SnapshotState>::KIND => {
-            Primer::<AdaptiveModel>::new(snapshot)?.into_encoded(data)
+        <StepwiseModel as SnapshotState>::KIND => {
+            Primer::<StepwiseModel>::new(snapshot)?.into_encoded(data)
         }
         <TableModel as SnapshotState>::KIND => {
             Primer::<TableModel>::new(snapshot)?.into_encoded(data)
@@ -285,8 +285,8 @@ pub fn encode_message(snapshot: &Snapshot, data: &[u8]) -> Result<Vec<u8>> {
 /// As for [`encode_message`] and [`Primer::decode_message`].
 pub fn decode_message(snapshot: &Snapshot, frame: &[u8], max_len: usize) -> Result<Vec<u8>> {
     match snapshot.kind() {
-        <AdaptiveModel as SnapshotState>::KIND => {
-            Primer::<AdaptiveModel>::new(snapshot)?.into_decoded(frame, max_len)
+        <StepwiseModel as SnapshotState>::KIND => {
+            Primer::<StepwiseModel>::new(snapshot)?.into_decoded(frame, max_len)
         }
         <TableModel as SnapshotState>::KIND => {
             Primer::<TableModel>::new(snapshot)?.into_decoded(frame, max_len)
@@ -310,7 +310,7 @@ mod tests {
 
     #[test]
     fn empty_message_round_trip() {
-        let snapshot = Snapshot::capture(&AdaptiveModel::new(256).unwrap()).unwrap();
+        let snapshot = Snapshot::capture(&StepwiseModel::new(256).unwrap()).unwrap();
         let frame = encode_message(&snapshot, b"").unwrap();
         assert_eq!(frame.len(), ID_LEN + 1);
         assert!(decode_message(&snapshot, &frame, 0).unwrap().is_empty());
@@ -331,8 +331,8 @@ mod tests {
 
     #[test]
     fn small_alphabet_is_rejected() {
-        let snapshot = Snapshot::capture(&AdaptiveModel::new(16).unwrap()).unwrap();
-        let err = Primer::<AdaptiveModel>::new(&snapshot).unwrap_err();
+        let snapshot = Snapshot::capture(&StepwiseModel::new(16).unwrap()).unwrap();
+        let err = Primer::<StepwiseModel>::new(&snapshot).unwrap_err();
         assert!(matches!(err.kind(), ErrorKind::InvalidParameter { .. }));
     }
 }

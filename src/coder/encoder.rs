@@ -44,18 +44,18 @@ pub(crate) const TOP: u32 = 1 << 24;
 ///
 /// ```
 /// use subrange::coder::{Decoder, Encoder};
-/// use subrange::model::AdaptiveModel;
+/// use subrange::model::StepwiseModel;
 ///
 /// # fn main() -> Result<(), subrange::Error> {
 /// let message = [3u32, 1, 4, 1, 5, 9, 2, 6];
-/// let mut model = AdaptiveModel::new(10)?;
+/// let mut model = StepwiseModel::new(10)?;
 /// let mut encoder = Encoder::new();
 /// for &s in &message {
 ///     encoder.encode(&mut model, s)?;
 /// }
 /// let bytes = encoder.finish()?;
 ///
-/// let mut model = AdaptiveModel::new(10)?;
+/// let mut model = StepwiseModel::new(10)?;
 /// let mut decoder = Decoder::new(&bytes)?;
 /// for &s in &message {
 ///     assert_eq!(decoder.decode(&mut model)?, s);

@@ -35,12 +35,12 @@ pub use cost::{log2_q32, IdealCost};
 pub use decoder::Decoder;
 pub use encoder::Encoder;
 pub use lanes::{
-    decode_interleaved, decode_refresh_lanes, decode_table_lanes, encode_interleaved,
-    encode_refresh_lanes, encode_table_lanes, LaneTable, MAX_LANES,
+    decode_adaptive_lanes, decode_lanes, decode_table_lanes, encode_adaptive_lanes, encode_lanes,
+    encode_table_lanes, LaneTable, MAX_LANES,
 };
 #[doc(hidden)]
 pub use lanes::{
-    decode_refresh_lanes_scalar, decode_table_lanes_scalar, encode_refresh_lanes_scalar,
+    decode_adaptive_lanes_scalar, decode_table_lanes_scalar, encode_adaptive_lanes_scalar,
     encode_table_lanes_scalar,
 };
 #[cfg(feature = "std")]

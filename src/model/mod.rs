@@ -10,10 +10,10 @@
 //! Models here:
 //! - [`TableModel`]: a fixed table, built from counts or probabilities,
 //!   quantised to a power-of-two total; O(1) decoding; serialises compactly.
-//! - [`AdaptiveModel`]: order-0 counts that learn as they code, for alphabets
+//! - [`StepwiseModel`]: order-0 counts that learn as they code, for alphabets
 //!   up to 65,536 symbols (a Fenwick tree when the alphabet is large, an escape
 //!   for symbols not seen yet when it is very large).
-//! - [`RefreshModel`]: adaptive order-0 counts whose power-of-two table is
+//! - [`AdaptiveModel`]: adaptive order-0 counts whose power-of-two table is
 //!   rebuilt at growing intervals; codes as fast as a fixed table, over
 //!   interleaved lanes too.
 //! - [`ContextModel`]: counts per context of the previous 0 to 3 bytes,
@@ -57,7 +57,7 @@ mod table;
 pub mod x86;
 
 pub use crate::coder::{Model, Span, ESCAPE, MAX_ALPHABET, MAX_TOTAL};
-pub use adaptive::{RefreshModel, RefreshParams, MAX_REFRESH_ALPHABET};
+pub use adaptive::{AdaptiveModel, AdaptiveParams, MAX_ADAPTIVE_ALPHABET};
 pub use audit::{audit_model, audit_predictor, AuditReport};
 pub use bit::{
     decode_with, encode_with, squash, stretch, Apm, BitPredictor, BitTree, CountingPredictor,
@@ -70,5 +70,5 @@ pub use fenwick::FenwickTree;
 pub(crate) use histogram::byte_counts;
 pub use quantize::quantize_counts;
 pub use snapshot::{Snapshot, SnapshotState};
-pub use stepwise::{AdaptiveModel, AdaptiveParams};
+pub use stepwise::{StepwiseModel, StepwiseParams};
 pub use table::TableModel;

@@ -35,7 +35,7 @@
 use alloc::vec::Vec;
 
 use crate::error::{ErrorKind, Result};
-use crate::model::{AdaptiveModel, AdaptiveParams, Model, TableModel, MAX_ALPHABET};
+use crate::model::{Model, StepwiseModel, StepwiseParams, TableModel, MAX_ALPHABET};
 
 /// The first four bytes of every snapshot.
 pub const MAGIC: [u8; 4] = *b"SRsn";
@@ -73,7 +73,7 @@ pub(crate) fn snapshot_error(reason: &'static str) -> crate::Error {
 ///   declared count against the bytes left before reserving memory for it.
 ///   Report problems as [`ErrorKind::Snapshot`].
 /// - `KIND` identifies the model type in the snapshot header; it is checked
-///   before `read_state` is called. Kinds in use: 1 [`AdaptiveModel`],
+///   before `read_state` is called. Kinds in use: 1 [`StepwiseModel`],
 ///   2 [`TableModel`], 3 [`ContextModel`](crate::model::ContextModel). A new
 ///   model type takes the next free number.
 ///
@@ -130,11 +130,11 @@ pub trait SnapshotState: Sized {
 /// # Example
 ///
 /// ```
-/// use subrange::model::{AdaptiveModel, Model, Snapshot};
+/// use subrange::model::{StepwiseModel, Model, Snapshot};
 ///
 /// # fn main() -> Result<(), subrange::Error> {
 /// // Train on yesterday's frames, save, and restore on the other side.
-/// let mut model = AdaptiveModel::new(256)?;
+/// let mut model = StepwiseModel::new(256)?;
 /// for &b in b"1042 231 45.67 12.3\n1042 232 45.90 12.3\n" {
 ///     model.update(b.into());
 /// }
@@ -143,7 +143,7 @@ pub trait SnapshotState: Sized {
 ///
 /// let loaded = Snapshot::from_bytes(&bytes)?;
 /// assert_eq!(loaded.id(), snapshot.id());
-/// let restored: AdaptiveModel = loaded.restore()?;
+/// let restored: StepwiseModel = loaded.restore()?;
 /// assert_eq!(restored, model);
 /// # Ok(())
 /// # }
@@ -196,10 +196,10 @@ impl Snapshot {
     /// [`MAX_STATE_LEN`] (checked before anything is copied).
     ///
     /// ```
-    /// use subrange::model::{AdaptiveModel, Snapshot};
+    /// use subrange::model::{StepwiseModel, Snapshot};
     /// use subrange::ErrorKind;
     ///
-    /// let snapshot = Snapshot::capture(&AdaptiveModel::new(16).unwrap()).unwrap();
+    /// let snapshot = Snapshot::capture(&StepwiseModel::new(16).unwrap()).unwrap();
     /// let mut damaged = snapshot.as_bytes().to_vec();
     /// damaged[14] ^= 1;
     /// let err = Snapshot::from_bytes(&damaged).unwrap_err();
@@ -283,10 +283,10 @@ impl Snapshot {
     /// model, or the model's reader rejects the state.
     ///
     /// ```
-    /// use subrange::model::{AdaptiveModel, Snapshot, TableModel};
+    /// use subrange::model::{StepwiseModel, Snapshot, TableModel};
     ///
-    /// let snapshot = Snapshot::capture(&AdaptiveModel::new(8).unwrap()).unwrap();
-    /// assert!(snapshot.restore::<AdaptiveModel>().is_ok());
+    /// let snapshot = Snapshot::capture(&StepwiseModel::new(8).unwrap()).unwrap();
+    /// assert!(snapshot.restore::<StepwiseModel>().is_ok());
     /// assert!(snapshot.restore::<TableModel>().is_err()); // another kind
     /// ```
     pub fn restore<M: SnapshotState>(&self) -> Result<M> {
@@ -353,11 +353,11 @@ pub fn read_varint(input: &mut &[u8]) -> Result<u32> {
     Err(snapshot_error("number in the state is too large"))
 }
 
-/// State layout of an [`AdaptiveModel`] (kind 1): LEB128 alphabet size,
+/// State layout of an [`StepwiseModel`] (kind 1): LEB128 alphabet size,
 /// increment and limit; one byte for the escape setting (0 chosen by the
 /// model, 1 off, 2 on); then every frequency as LEB128, the escape's last
-/// (see [`AdaptiveModel::frequencies`]).
-impl SnapshotState for AdaptiveModel {
+/// (see [`StepwiseModel::frequencies`]).
+impl SnapshotState for StepwiseModel {
     const KIND: u16 = 1;
 
     fn write_state(&self, out: &mut Vec<u8>) {
@@ -394,7 +394,7 @@ impl SnapshotState for AdaptiveModel {
                 ))
             }
         };
-        let params = AdaptiveParams {
+        let params = StepwiseParams {
             increment,
             limit,
             escape,
@@ -417,7 +417,7 @@ impl SnapshotState for AdaptiveModel {
             }
             freq.push(read_varint(input)?);
         }
-        AdaptiveModel::from_frequencies(alphabet, params, &freq).map_err(|e| match e.kind() {
+        StepwiseModel::from_frequencies(alphabet, params, &freq).map_err(|e| match e.kind() {
             ErrorKind::InvalidParameter { .. } => {
                 snapshot_error("adaptive model state has invalid parameters or frequencies")
             }
@@ -472,12 +472,12 @@ mod tests {
     #[test]
     fn adaptive_state_round_trip_all_stores() {
         for alphabet in [1u32, 16, 17, 256, 40_000] {
-            let mut m = AdaptiveModel::new(alphabet).unwrap();
+            let mut m = StepwiseModel::new(alphabet).unwrap();
             for i in 0..5000u32 {
                 m.update(i.wrapping_mul(2_654_435_761) % alphabet);
             }
             let snap = Snapshot::capture(&m).unwrap();
-            let back: AdaptiveModel = Snapshot::from_bytes(snap.as_bytes())
+            let back: StepwiseModel = Snapshot::from_bytes(snap.as_bytes())
                 .unwrap()
                 .restore()
                 .unwrap();
@@ -495,7 +495,7 @@ mod tests {
         write_varint(&mut state, 65_536);
         state.push(0);
         state.extend_from_slice(&[1, 1]);
-        let err = AdaptiveModel::read_state(&state).unwrap_err();
+        let err = StepwiseModel::read_state(&state).unwrap_err();
         assert!(matches!(err.kind(), ErrorKind::Snapshot { .. }));
     }
 }

@@ -15,12 +15,12 @@
 //!
 //! Three pairs of entry points share that layout and write the same bytes:
 //!
-//! - [`encode_interleaved`] / [`decode_interleaved`]: any [`Model`], one
+//! - [`encode_lanes`] / [`decode_lanes`]: any [`Model`], one
 //!   scalar coder per lane;
 //! - [`encode_table_lanes`] / [`decode_table_lanes`]: a [`LaneTable`]'s
 //!   current table for the whole block, with every lane's state in registers
 //!   ([`encode`] and [`decode`], vector kernels in `simd`);
-//! - [`encode_refresh_lanes`] / [`decode_refresh_lanes`]: the same steps
+//! - [`encode_adaptive_lanes`] / [`decode_adaptive_lanes`]: the same steps
 //!   segment by segment, the model learning each segment and handing over
 //!   its next table.
 
@@ -39,8 +39,8 @@ mod table;
 pub(crate) mod testing;
 
 pub use adaptive::{
-    decode_refresh_lanes, decode_refresh_lanes_scalar, encode_refresh_lanes,
-    encode_refresh_lanes_scalar,
+    decode_adaptive_lanes, decode_adaptive_lanes_scalar, encode_adaptive_lanes,
+    encode_adaptive_lanes_scalar,
 };
 #[cfg(feature = "std")]
 pub(crate) use decode::LANE_PAD;
@@ -108,21 +108,21 @@ pub trait LaneTable: Model {
 /// # Example
 ///
 /// ```
-/// use subrange::coder::{decode_interleaved, encode_interleaved};
+/// use subrange::coder::{decode_lanes, encode_lanes};
 /// use subrange::model::TableModel;
 ///
 /// # fn main() -> Result<(), subrange::Error> {
 /// let data = b"level 112 cm, flow 3.4 m3/s, water 11.2 C; level 113 cm".to_vec();
 /// let mut model = TableModel::from_bytes_histogram(&data, 12)?;
-/// let streams = encode_interleaved(&mut model, &data, 4)?;
+/// let streams = encode_lanes(&mut model, &data, 4)?;
 /// let views: Vec<&[u8]> = streams.iter().map(|s| s.as_slice()).collect();
 /// let mut back = vec![0u8; data.len()];
-/// decode_interleaved(&mut model, &views, &mut back)?;
+/// decode_lanes(&mut model, &views, &mut back)?;
 /// assert_eq!(back, data);
 /// # Ok(())
 /// # }
 /// ```
-pub fn encode_interleaved<M: Model + ?Sized>(
+pub fn encode_lanes<M: Model + ?Sized>(
     model: &mut M,
     data: &[u8],
     lanes: usize,
@@ -137,7 +137,7 @@ pub fn encode_interleaved<M: Model + ?Sized>(
     }
 }
 
-/// Decodes `out.len()` bytes coded by [`encode_interleaved`] with
+/// Decodes `out.len()` bytes coded by [`encode_lanes`] with
 /// `streams.len()` lanes.
 ///
 /// # Errors
@@ -145,7 +145,7 @@ pub fn encode_interleaved<M: Model + ?Sized>(
 /// [`ErrorKind::InvalidParameter`] unless `1 <= streams.len() <= MAX_LANES`;
 /// the decoder's errors ([`ErrorKind::Truncated`], [`ErrorKind::CorruptStream`]);
 /// [`ErrorKind::TrailingBytes`] when a lane holds more than its symbols need.
-pub fn decode_interleaved<M: Model + ?Sized>(
+pub fn decode_lanes<M: Model + ?Sized>(
     model: &mut M,
     streams: &[&[u8]],
     out: &mut [u8],
@@ -257,18 +257,18 @@ mod tests {
         let data: Vec<u8> = (0..5000u32).map(|i| (i * i % 97) as u8).collect();
         for lanes in 1..=MAX_LANES {
             let mut t = TestTable::from_bytes(&data, 12).unwrap();
-            let s = encode_interleaved(&mut t, &data, lanes).unwrap();
+            let s = encode_lanes(&mut t, &data, lanes).unwrap();
             let v: Vec<&[u8]> = s.iter().map(|x| x.as_slice()).collect();
             let mut out = vec![0u8; data.len()];
-            decode_interleaved(&mut t, &v, &mut out).unwrap();
+            decode_lanes(&mut t, &v, &mut out).unwrap();
             assert_eq!(out, data);
 
             let mut a = Segmented::new(256, 12, 7);
-            let s = encode_interleaved(&mut a, &data[..lanes * 3 + 1], lanes).unwrap();
+            let s = encode_lanes(&mut a, &data[..lanes * 3 + 1], lanes).unwrap();
             let v: Vec<&[u8]> = s.iter().map(|x| x.as_slice()).collect();
             let mut a = Segmented::new(256, 12, 7);
             let mut out = vec![0u8; lanes * 3 + 1];
-            decode_interleaved(&mut a, &v, &mut out).unwrap();
+            decode_lanes(&mut a, &v, &mut out).unwrap();
             assert_eq!(out, &data[..lanes * 3 + 1]);
         }
     }
@@ -277,10 +277,10 @@ mod tests {
     fn trailing_bytes_in_a_lane_are_reported() {
         let data = vec![1u8, 2, 3, 1, 2, 3, 1, 1];
         let mut t = TestTable::from_bytes(&data, 8).unwrap();
-        let mut s = encode_interleaved(&mut t, &data, 2).unwrap();
+        let mut s = encode_lanes(&mut t, &data, 2).unwrap();
         s[1].extend_from_slice(&[1, 2, 3, 4, 5]);
         let v: Vec<&[u8]> = s.iter().map(|x| x.as_slice()).collect();
         let mut out = vec![0u8; data.len()];
-        assert!(decode_interleaved(&mut t, &v, &mut out).is_err());
+        assert!(decode_lanes(&mut t, &v, &mut out).is_err());
     }
 }

@@ -1,8 +1,8 @@
 //! The fast path for static byte tables over interleaved lanes.
 //!
 //! [`encode_table_lanes`] and [`decode_table_lanes`] produce and read exactly
-//! the same streams as [`encode_interleaved`](super::encode_interleaved) /
-//! [`decode_interleaved`](super::decode_interleaved) with a
+//! the same streams as [`encode_lanes`](super::encode_lanes) /
+//! [`decode_lanes`](super::decode_lanes) with a
 //! [`LaneTable`] over bytes (its current table; the model does not learn),
 //! but keep every lane's state in registers and look each decoding
 //! slot up in one packed table entry (symbol, cumulative frequency and
@@ -41,7 +41,7 @@ fn check<T: LaneTable + ?Sized>(model: &T, lanes: usize) -> Result<()> {
 
 /// Codes `data` with a static byte table over `lanes` interleaved coders.
 ///
-/// Output is identical to [`encode_interleaved`](super::encode_interleaved)
+/// Output is identical to [`encode_lanes`](super::encode_lanes)
 /// with the same model and lane count. On x86-64 CPUs with AVX-512, lane
 /// counts that are a multiple of 16 code sixteen lanes per vector
 /// instruction; with AVX2, multiples of 8 code eight; the result is the
@@ -132,7 +132,7 @@ pub(crate) fn encode_counted<T: LaneTable + ?Sized>(
 }
 
 /// Decodes `out.len()` bytes coded by [`encode_table_lanes`] (or by
-/// [`encode_interleaved`](super::encode_interleaved) with a byte table).
+/// [`encode_lanes`](super::encode_lanes) with a byte table).
 ///
 /// On x86-64 CPUs with AVX2, lane counts that are a multiple of 8 decode
 /// eight lanes per vector instruction; the result is the same on every path.
@@ -186,7 +186,7 @@ fn decode_with<T: LaneTable + ?Sized>(
 mod tests {
     use super::*;
     use crate::coder::lanes::testing::TestTable;
-    use crate::coder::{decode_interleaved, encode_interleaved, MAX_LANES};
+    use crate::coder::{decode_lanes, encode_lanes, MAX_LANES};
     use alloc::vec;
 
     #[test]
@@ -199,14 +199,14 @@ mod tests {
             for lanes in 1..=MAX_LANES {
                 let fast = encode_table_lanes(&model, &data, lanes).unwrap();
                 let mut m = model.clone();
-                let slow = encode_interleaved(&mut m, &data, lanes).unwrap();
+                let slow = encode_lanes(&mut m, &data, lanes).unwrap();
                 assert_eq!(fast, slow, "k={k} lanes={lanes}");
                 let views: Vec<&[u8]> = fast.iter().map(Vec::as_slice).collect();
                 let mut out = vec![0u8; data.len()];
                 decode_table_lanes(&model, &views, &mut out).unwrap();
                 assert_eq!(out, data);
                 let mut out2 = vec![0u8; data.len()];
-                decode_interleaved(&mut m, &views, &mut out2).unwrap();
+                decode_lanes(&mut m, &views, &mut out2).unwrap();
                 assert_eq!(out2, data);
             }
         }
@@ -273,7 +273,7 @@ mod tests {
                 for lanes in [8usize, 32] {
                     let fast = encode_table_lanes(&model, &data, lanes).unwrap();
                     let mut m = model.clone();
-                    assert_eq!(fast, encode_interleaved(&mut m, &data, lanes).unwrap());
+                    assert_eq!(fast, encode_lanes(&mut m, &data, lanes).unwrap());
                     let views: Vec<&[u8]> = fast.iter().map(Vec::as_slice).collect();
                     let mut out = vec![0u8; data.len()];
                     decode_table_lanes(&model, &views, &mut out).unwrap();

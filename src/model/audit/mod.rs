@@ -330,11 +330,11 @@ fn decoder_step<M: Model + ?Sized>(
 ///
 /// ```
 /// use subrange::model::audit::{audit_model, Mismatch};
-/// use subrange::model::{AdaptiveModel, Model, Span};
+/// use subrange::model::{StepwiseModel, Model, Span};
 ///
 /// // The crate's own models pass.
 /// let levels = [3u32, 3, 4, 3, 2, 3, 3, 3];
-/// let report = audit_model(|| AdaptiveModel::new(8).unwrap(), &levels);
+/// let report = audit_model(|| StepwiseModel::new(8).unwrap(), &levels);
 /// assert!(report.is_symmetric());
 /// assert_eq!(report.agreed, levels.len());
 ///
@@ -343,7 +343,7 @@ fn decoder_step<M: Model + ?Sized>(
 /// let report = audit_model(
 ///     || {
 ///         made += 1;
-///         let mut m = AdaptiveModel::new(8).unwrap();
+///         let mut m = StepwiseModel::new(8).unwrap();
 ///         if made == 2 {
 ///             m.update(0); // the second call: only the decoding copy is "warmed up"
 ///         }

@@ -19,7 +19,7 @@
 //! vectorise. All of it is integer arithmetic, so encoder and decoder compute
 //! the same weights on every platform.
 //!
-//! [`Mixer`] is the low-level piece the strong engines use;
+//! [`Mixer`] is the low-level piece the context-mixing engines use;
 //! [`MixedPredictor`] wraps it around any set of [`BitPredictor`]s, which is
 //! how a user combines predictors of their own.
 

@@ -1,4 +1,4 @@
-//! The fast engine: order-2 contexts that inherit from order 1.
+//! The order-2 engine: order-2 contexts that inherit from order 1.
 //!
 //! Each byte is coded bit by bit through the nibble trees of its order-2
 //! context (the two previous bytes, 65,536 of them). A context table holds 17

@@ -153,7 +153,7 @@ impl Order2Params {
     }
 }
 
-/// Parameters of the strong mixing engine ([`encode_mix`](super::encode_mix)).
+/// Parameters of the mix engine ([`encode_mix`](super::encode_mix)).
 ///
 /// # Example
 ///

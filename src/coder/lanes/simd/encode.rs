@@ -350,7 +350,7 @@ unsafe fn rows_avx2<const V: usize>(mut lanes: Lanes<'_>, rows: &[u8], table: &E
 #[cfg(test)]
 mod tests {
     use super::EncodeKernel;
-    use crate::coder::encode_interleaved;
+    use crate::coder::encode_lanes;
     use crate::coder::lanes::encode::{EncodeTable, LaneEncoder};
     use crate::coder::lanes::testing::TestTable;
     use crate::coder::LaneTable;
@@ -504,7 +504,7 @@ mod tests {
                     );
                 }
                 let mut m = model.clone();
-                let reference = encode_interleaved(&mut m, &data, lanes).unwrap();
+                let reference = encode_lanes(&mut m, &data, lanes).unwrap();
                 assert_eq!(code(&t, &data, lanes, None, &[data.len()]), reference);
                 for &k in &kernels {
                     let whole = code(&t, &data, lanes, Some(k), &[data.len()]);
@@ -564,7 +564,7 @@ mod tests {
             let t = table_of(&model);
             let want = code(&t, &data, lanes, None, &[data.len()]);
             let mut m = model.clone();
-            prop_assert_eq!(&want, &encode_interleaved(&mut m, &data, lanes).unwrap());
+            prop_assert_eq!(&want, &encode_lanes(&mut m, &data, lanes).unwrap());
             for k in kernels() {
                 prop_assert_eq!(&code(&t, &data, lanes, Some(k), &[data.len()]), &want);
                 prop_assert_eq!(&code(&t, &data, lanes, Some(k), &pieces), &want);
