@@ -145,7 +145,8 @@
 //! the library.
 #![no_std]
 #![deny(missing_docs, missing_debug_implementations)]
-#![deny(unsafe_code)]
+#![deny(unsafe_code, unsafe_op_in_unsafe_fn)]
+#![warn(clippy::undocumented_unsafe_blocks)]
 
 extern crate alloc;
 #[cfg(feature = "std")]

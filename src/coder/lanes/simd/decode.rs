@@ -292,9 +292,7 @@ macro_rules! kernel {
                     // SAFETY: the kernel's features include AVX2.
                     let t = unsafe { slot(code[g], r, last_slot) };
 
-                    // SAFETY: `t < total <= slots.len()`; the symbol table has at
-                    // least three bytes of padding past `total` for the four-byte
-                    // read.
+                    // SAFETY: `t < total <= slots.len()`.
                     let entry = unsafe { _mm256_i32gather_epi32::<4>(slots, t) };
                     let (cum, freq, sym) = if PACKED {
                         let cum = _mm256_and_si256(entry, low12);
@@ -305,6 +303,9 @@ macro_rules! kernel {
                             _mm256_srli_epi32::<24>(entry),
                         )
                     } else {
+                        // SAFETY: `t < total`, and the symbol table has at least
+                        // three bytes of padding past `total` for the four-byte
+                        // read.
                         let sym = unsafe { _mm256_i32gather_epi32::<1>(symbols, t) };
                         let cum = _mm256_and_si256(entry, low16);
                         let freq = _mm256_add_epi32(_mm256_srli_epi32::<16>(entry), one);
