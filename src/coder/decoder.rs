@@ -20,8 +20,8 @@
 //! never a panic, and the decoder does no work or allocation the input could
 //! inflate: each call decodes one symbol.
 
-use crate::coder::encoder::TOP;
 use crate::coder::source::{ByteSource, SliceSource};
+use crate::coder::TOP;
 use crate::coder::{Model, Span, ESCAPE, MAX_TOTAL};
 use crate::error::{ErrorKind, Result};
 

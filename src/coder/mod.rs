@@ -52,3 +52,7 @@ pub use sink::IoSink;
 #[cfg(feature = "std")]
 pub use source::IoSource;
 pub use source::{ByteSource, SliceSource};
+
+/// Renormalisation threshold of every coder here: a byte is shifted out
+/// while `range < TOP`, so `range >= 2^24` between steps.
+pub(crate) const TOP: u32 = 1 << 24;

@@ -20,9 +20,8 @@
 
 use alloc::vec::Vec;
 
+use crate::coder::TOP;
 use crate::error::Result;
-
-const TOP: u32 = 1 << 24;
 
 /// Rows decoded between two checks of the lanes' read positions.
 pub(crate) const CHUNK_ROWS: usize = 64;

@@ -36,9 +36,9 @@
 use alloc::vec;
 use alloc::vec::Vec;
 
+use crate::coder::encoder::flush_value;
+use crate::coder::TOP;
 use crate::error::{ErrorKind, Result};
-
-const TOP: u32 = 1 << 24;
 
 /// Rows coded per scalar pass of a lane group before the next group takes
 /// over.
@@ -181,18 +181,7 @@ struct Shape {
 
 /// Ends one lane: the same flush as `Encoder::finish`.
 fn flush_lane(mut low: u32, range: u32, out: &mut [u8], mut pos: usize) -> usize {
-    let end = u64::from(low) + u64::from(range);
-    let mut keep = 0;
-    let mut value = u64::from(low);
-    for k in 0..=4u32 {
-        let mask = (1u64 << (32 - 8 * k)) - 1;
-        let candidate = (u64::from(low) + mask) & !mask;
-        if candidate < end {
-            keep = k;
-            value = candidate;
-            break;
-        }
-    }
+    let (value, keep) = flush_value(u64::from(low), range);
     if value >> 32 != 0 {
         propagate_carry(out, pos);
     }

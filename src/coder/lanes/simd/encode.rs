@@ -425,7 +425,7 @@ mod tests {
             } else {
                 self.range - r * c
             };
-            while self.range < 1 << 24 {
+            while self.range < crate::coder::TOP {
                 self.out.push((self.low >> 24) as u8);
                 self.low <<= 8;
                 self.range <<= 8;
