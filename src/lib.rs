@@ -165,7 +165,6 @@ pub mod preset;
 pub mod prime;
 #[cfg(feature = "std")]
 pub mod stream;
-#[cfg(feature = "std")]
 mod vint;
 
 pub use error::{Error, ErrorKind, Result};

@@ -111,7 +111,7 @@ fn damaged_frames_are_errors_not_panics() {
         matches!(err.kind(), ErrorKind::TrailingBytes { .. }),
         "{err}"
     );
-    // Damaged length field (an unterminated LEB128 number).
+    // Damaged length field (an unterminated vint).
     let mut bad_len = frame[..ID_LEN].to_vec();
     bad_len.extend_from_slice(&[0xFF; 6]);
     let err = primer.decode_message(&bad_len, 1000).unwrap_err();

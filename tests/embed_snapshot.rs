@@ -2,7 +2,7 @@
 
 use proptest::prelude::*;
 use subrange::coder::Encoder;
-use subrange::model::snapshot::{write_varint, MAGIC, MAX_STATE_LEN, VERSION};
+use subrange::model::snapshot::{write_vint, MAGIC, MAX_STATE_LEN, VERSION};
 use subrange::model::{Model, Snapshot, SnapshotState, StepwiseModel, StepwiseParams, TableModel};
 use subrange::ErrorKind;
 
@@ -189,12 +189,12 @@ impl<const K: u16> SnapshotState for Raw<K> {
 
 fn adaptive_state(alphabet: u32, inc: u32, limit: u32, escape: u8, freq: &[u32]) -> Snapshot {
     let mut s = Vec::new();
-    write_varint(&mut s, alphabet);
-    write_varint(&mut s, inc);
-    write_varint(&mut s, limit);
+    write_vint(&mut s, alphabet);
+    write_vint(&mut s, inc);
+    write_vint(&mut s, limit);
     s.push(escape);
     for &f in freq {
-        write_varint(&mut s, f);
+        write_vint(&mut s, f);
     }
     Snapshot::capture(&Raw::<1>(s)).unwrap()
 }

@@ -23,7 +23,9 @@
 use crate::coder::source::{ByteSource, SliceSource};
 use crate::coder::TOP;
 use crate::coder::{Model, Span, ESCAPE, MAX_TOTAL};
-use crate::error::{ErrorKind, Result};
+#[cfg(doc)]
+use crate::error::ErrorKind;
+use crate::error::Result;
 
 /// Bytes the decoder may read past the end of its input (as zeros).
 const MAX_PAD: u32 = 4;
@@ -172,10 +174,9 @@ impl<S: ByteSource> Decoder<S> {
                 .checked_add(span.freq)
                 .is_none_or(|end| end > total)
         {
-            return Err(ErrorKind::InvalidModel {
-                reason: "span must have 1 <= freq, cum + freq <= total <= 65536",
-            }
-            .into());
+            return Err(crate::Error::invalid_model(
+                "span must have 1 <= freq, cum + freq <= total <= 65536",
+            ));
         }
         self.narrow(span, total)
     }

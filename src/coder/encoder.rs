@@ -156,10 +156,9 @@ impl<S: ByteSink> Encoder<S> {
     pub fn encode_span(&mut self, span: Span, total: u32) -> Result<()> {
         let Span { cum, freq } = span;
         if freq == 0 || total > MAX_TOTAL || cum.checked_add(freq).is_none_or(|end| end > total) {
-            return Err(ErrorKind::InvalidModel {
-                reason: "span must have 1 <= freq, cum + freq <= total <= 65536",
-            }
-            .into());
+            return Err(crate::Error::invalid_model(
+                "span must have 1 <= freq, cum + freq <= total <= 65536",
+            ));
         }
         if let Some(meter) = &mut self.meter {
             meter.add(freq, total);

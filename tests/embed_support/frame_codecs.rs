@@ -10,7 +10,7 @@
 
 use flate2::{Compress, Compression, Decompress, FlushCompress, FlushDecompress};
 use subrange::coder::Encoder;
-use subrange::model::snapshot::write_varint;
+use subrange::model::snapshot::write_vint;
 use subrange::model::{ContextModel, ContextParams, Model, Snapshot, StepwiseModel};
 
 /// Deflate's window: a preset dictionary longer than this is useless.
@@ -43,7 +43,7 @@ pub fn primed_context_snapshot(sample: &[u8]) -> Snapshot {
 /// A frame coded from a cold adaptive model: length, then coded bytes.
 pub fn cold_frame(data: &[u8]) -> Vec<u8> {
     let mut out = Vec::new();
-    write_varint(&mut out, data.len() as u32);
+    write_vint(&mut out, data.len() as u32);
     let mut model = StepwiseModel::new(256).unwrap();
     let mut enc = Encoder::with_sink(out);
     for &b in data {

@@ -27,7 +27,9 @@
 use alloc::vec::Vec;
 
 use crate::coder::{Decoder, Encoder, Model, SliceSource};
-use crate::error::{ErrorKind, Result};
+#[cfg(doc)]
+use crate::error::ErrorKind;
+use crate::error::Result;
 
 mod adaptive;
 mod decode;
@@ -200,14 +202,10 @@ fn decode_n<M: Model + ?Sized, const N: usize>(
         .iter()
         .map(|s| Decoder::new(s))
         .collect::<Result<_>>()?;
-    let decoders: &mut [Decoder<SliceSource<'_>>; N] =
-        decoders
-            .as_mut_slice()
-            .try_into()
-            .map_err(|_| ErrorKind::InvalidParameter {
-                name: "lanes",
-                reason: "lane count mismatch",
-            })?;
+    let decoders: &mut [Decoder<SliceSource<'_>>; N] = decoders
+        .as_mut_slice()
+        .try_into()
+        .map_err(|_| crate::Error::invalid_parameter("lanes", "lane count mismatch"))?;
     let mut chunks = out.chunks_exact_mut(N);
     for chunk in &mut chunks {
         for (dec, b) in decoders.iter_mut().zip(chunk.iter_mut()) {

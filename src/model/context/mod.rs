@@ -35,7 +35,7 @@ use alloc::collections::BTreeMap;
 use alloc::vec::Vec;
 
 use crate::error::Result;
-use crate::model::snapshot::{read_varint, snapshot_error, write_varint, SnapshotState};
+use crate::model::snapshot::{read_vint, write_vint, SnapshotState};
 use crate::model::{Model, Span, MAX_TOTAL};
 
 /// Highest context order.
@@ -410,27 +410,27 @@ impl Model for ContextModel {
 }
 
 /// State layout of a [`ContextModel`] (kind 3): `max_order` (one byte),
-/// `increment` and `limit` (LEB128), the history (u32 little-endian); then
+/// `increment` and `limit` (vints), the history (u32 little-endian); then
 /// per order `0 ..= max_order`: the number of contexts, and per context in
 /// increasing key order its key (the previous bytes, most recent lowest), the
 /// number of successors and each successor's byte (increasing) and count, all
-/// LEB128 but the bytes.
+/// vints but the bytes.
 impl SnapshotState for ContextModel {
     const KIND: u16 = 3;
 
     fn write_state(&self, out: &mut Vec<u8>) {
         out.push(self.params.max_order);
-        write_varint(out, self.params.increment);
-        write_varint(out, self.params.limit);
+        write_vint(out, self.params.increment);
+        write_vint(out, self.params.limit);
         out.extend_from_slice(&self.history.to_le_bytes());
         for order in &self.orders {
-            write_varint(out, order.len() as u32);
+            write_vint(out, order.len() as u32);
             for (&key, ctx) in order {
-                write_varint(out, key);
-                write_varint(out, ctx.counts.len() as u32);
+                write_vint(out, key);
+                write_vint(out, ctx.counts.len() as u32);
                 for &(b, c) in &ctx.counts {
                     out.push(b);
-                    write_varint(out, u32::from(c));
+                    write_vint(out, u32::from(c));
                 }
             }
         }
@@ -438,15 +438,15 @@ impl SnapshotState for ContextModel {
 
     fn read_state(mut state: &[u8]) -> Result<Self> {
         let input = &mut state;
-        let bad = |reason| Err(snapshot_error(reason));
+        let bad = |reason| Err(crate::Error::snapshot(reason));
         let Some((&max_order, rest)) = input.split_first() else {
             return bad("context model state is empty");
         };
         *input = rest;
         let params = ContextParams {
             max_order,
-            increment: read_varint(input)?,
-            limit: read_varint(input)?,
+            increment: read_vint(input)?,
+            limit: read_vint(input)?,
         };
         if params.validate().is_err() {
             return bad("context model state has invalid parameters");
@@ -458,7 +458,7 @@ impl SnapshotState for ContextModel {
         *input = rest;
         let mut orders = Vec::with_capacity(usize::from(max_order) + 1);
         for k in 0..=u32::from(max_order) {
-            let contexts = read_varint(input)?;
+            let contexts = read_vint(input)?;
             // A context takes at least four bytes: bound the loop by the input.
             if contexts as usize > input.len() / 4 {
                 return bad("context model state declares more contexts than it holds");
@@ -467,12 +467,12 @@ impl SnapshotState for ContextModel {
             let mut order = BTreeMap::new();
             let mut last_key = None;
             for _ in 0..contexts {
-                let key = read_varint(input)?;
+                let key = read_vint(input)?;
                 if u64::from(key) >= key_end || last_key.is_some_and(|l| key <= l) {
                     return bad("context model state has a bad context key");
                 }
                 last_key = Some(key);
-                let n = read_varint(input)? as usize;
+                let n = read_vint(input)? as usize;
                 if n == 0 || n > 256 || n > input.len() / 2 {
                     return bad("context model state has a bad successor count");
                 }
@@ -485,7 +485,7 @@ impl SnapshotState for ContextModel {
                         return bad("context model state ends early");
                     };
                     *input = rest;
-                    let c = read_varint(input)?;
+                    let c = read_vint(input)?;
                     if c == 0 || ctx.counts.last().is_some_and(|&(l, _)| b <= l) {
                         return bad("context model state has a bad successor");
                     }
