@@ -23,6 +23,8 @@
 use alloc::vec;
 use alloc::vec::Vec;
 
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 use crate::model::fenwick::FenwickTree;
 use crate::model::{Model, Span, ESCAPE, MAX_ALPHABET, MAX_TOTAL};

@@ -30,6 +30,8 @@
 //! parameters and see the same symbols hold identical tables at every step.
 
 use crate::coder::LaneTable;
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 use crate::model::{Model, Span};
 

@@ -20,6 +20,8 @@
 //! Invariant: every point stays in `0 ..= 65535` (a shift step never
 //! overshoots), and outputs are clamped to `1 ..= 65535`.
 
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 use alloc::vec;
 use alloc::vec::Vec;

@@ -15,6 +15,8 @@
 //!
 //! Invariant: `n0 + n1 < limit` after every update.
 
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 use crate::model::bit::BitPredictor;
 

@@ -26,6 +26,8 @@
 use alloc::vec;
 use alloc::vec::Vec;
 
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 use crate::model::bit::logistic::{squash, stretch, STRETCH_MAX};
 use crate::model::bit::BitPredictor;

@@ -39,6 +39,8 @@ pub use tree::BitTree;
 use alloc::boxed::Box;
 
 use crate::coder::{ByteSink, ByteSource, Decoder, Encoder};
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 
 /// A source of binary probabilities: `P(next bit = 1)` scaled to 2^16.

@@ -16,6 +16,8 @@
 //! bytes, an engine whose allocations are exactly `memory_needed_for(len)`
 //! bytes of tables (plus the output).
 
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 use crate::model::bit::apm::Apm;
 use crate::model::bit::mix::Mixer;

@@ -34,6 +34,8 @@
 use alloc::collections::BTreeMap;
 use alloc::vec::Vec;
 
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 use crate::model::snapshot::{read_vint, write_vint, SnapshotState};
 use crate::model::{Model, Span, MAX_TOTAL};
