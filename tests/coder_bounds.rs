@@ -276,7 +276,7 @@ fn coding_overhead_against_the_cost_meter() {
         assert!(r_over <= 1e-4, "refreshed overhead {:.5} %", 100.0 * r_over);
         assert!(
             l_over <= 1e-4,
-            "refreshed lanes overhead {:.5} %",
+            "adaptive lanes overhead {:.5} %",
             100.0 * l_over
         );
     }

@@ -203,7 +203,7 @@ fn lane_inputs() -> Vec<(&'static str, Vec<u8>)> {
 }
 
 /// Per input and kind of stream (`table`: the table lanes at three totals
-/// and every lane count; `refresh`: the refreshed lanes at six lane counts;
+/// and every lane count; `refresh`: the adaptive lanes at six lane counts;
 /// `container`: both presets at two block sizes, written without a block
 /// index so the pins hold the coded blocks alone), the length (`u64`) and
 /// CRC-32 (`u32`) of each stream, little-endian, back to back.

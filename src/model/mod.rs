@@ -7,6 +7,15 @@
 //! Both sides then call [`Model::update`] with the coded symbol, so an adaptive
 //! model changes in lock step on both sides.
 //!
+//! The trait, [`Span`] and the limits belong to the coder (the layer below,
+//! [`crate::coder`]); this module re-exports them. Models whose table holds
+//! for a run of bytes also implement [`LaneTable`](crate::coder::LaneTable),
+//! which the coder's lane fast paths code with.
+//!
+//! The files are grouped the same way as this page: multi-symbol models at
+//! the top, binary predictors and their mixing parts in `bit/`, the
+//! context-mixing engines and the parts only they use in `cm/`.
+//!
 //! Models here:
 //! - [`TableModel`]: a fixed table, built from counts or probabilities,
 //!   quantised to a power-of-two total; O(1) decoding; serialises compactly.
@@ -15,7 +24,7 @@
 //!   for symbols not seen yet when it is very large).
 //! - [`AdaptiveModel`]: adaptive order-0 counts whose power-of-two table is
 //!   rebuilt at growing intervals; codes as fast as a fixed table, over
-//!   interleaved lanes too.
+//!   interleaved lanes too ([`encode_adaptive_lanes`](crate::coder::encode_adaptive_lanes)).
 //! - [`ContextModel`]: counts per context of the previous 0 to 3 bytes,
 //!   blended from the highest order down; for short messages from a trained
 //!   state.
@@ -32,9 +41,11 @@
 //! - [`Mixer`] and [`MixedPredictor`]: logistic mixing of predictions in the
 //!   stretched domain ([`stretch`] / [`squash`]), weights selected by a small
 //!   context; [`Apm`] refines a probability by a second, adaptive map.
-//! - [`cm`]: two whole-block engines built from them — a fast order-2 context
-//!   model and the strongest model of the crate (hashed orders 1–6, word and
-//!   column contexts, a match model, mixing and refinement).
+//! - [`cm`]: three whole-block engines built from them — the order-2 engine
+//!   (a fast order-2 context model), the mix engine (hashed orders 1–6, word
+//!   and column contexts, a match model, mixing and refinement) and the
+//!   history engine (bit-history contexts, two mixing layers, a refinement
+//!   chain; the strongest model of the crate).
 //!
 //! Around them: [`snapshot`] saves and restores a trained model's state
 //! (to start small messages from it), and [`audit`] checks that a model of

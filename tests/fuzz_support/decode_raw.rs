@@ -107,10 +107,10 @@ pub fn check(data: &[u8]) {
             let mut slow_model = m.clone();
             let slow = decode_adaptive_lanes_scalar(&mut slow_model, &views, &mut reference)
                 .map_err(|e| e.to_string());
-            assert_eq!(fast, slow, "vector and scalar refreshed lanes disagree");
+            assert_eq!(fast, slow, "vector and scalar adaptive lanes disagree");
             assert!(
                 out == reference,
-                "vector and scalar refreshed lanes wrote different bytes"
+                "vector and scalar adaptive lanes wrote different bytes"
             );
         }
     }

@@ -126,8 +126,8 @@ impl Order2Params {
         (groups_for(len, 65536), groups_for(len, 256))
     }
 
-    /// The parameters as three bytes: flags (bit 0: `order1`) and `limit`
-    /// (little-endian).
+    /// The parameters as three bytes: flags (bit 0 `order1`, bit 1
+    /// `precise`) and `limit` (little-endian).
     pub fn to_bytes(&self) -> [u8; 3] {
         let [l0, l1] = self.limit.to_le_bytes();
         [u8::from(self.order1) | u8::from(self.precise) << 1, l0, l1]
@@ -364,7 +364,7 @@ impl MixParams {
     }
 
     /// The parameters as four bytes: `mem_log2`, `orders`, flags (bit 0
-    /// `word`, bit 1 `column`, bit 2 `matcher`), `rate`.
+    /// `word`, bit 1 `column`, bit 2 `matcher`, bit 3 `precise`), `rate`.
     pub fn to_bytes(&self) -> [u8; 4] {
         let flags = u8::from(self.word)
             | (u8::from(self.column) << 1)

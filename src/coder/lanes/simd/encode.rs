@@ -377,7 +377,7 @@ mod tests {
     }
 
     /// Codes `data` in pieces of the lengths in `pieces` (cycled), as the
-    /// refreshed lanes do, on `kernel` (`None`: the scalar steps).
+    /// adaptive lanes do, on `kernel` (`None`: the scalar steps).
     fn code(
         t: &EncodeTable,
         data: &[u8],
