@@ -223,7 +223,12 @@ mod tests {
             .collect();
         let kernels: Vec<Kernel> = [Kernel::Avx512Wide, Kernel::Avx512, Kernel::Avx2]
             .into_iter()
-            .filter(|k| k.supported())
+            .filter(|k| {
+                if !k.supported() {
+                    std::eprintln!("skipped: lane-decoder kernel {k:?} (this CPU lacks it)");
+                }
+                k.supported()
+            })
             .collect();
         for k in [8u32, 12, 13, 16] {
             let model = TestTable::from_bytes(&data, k).unwrap();

@@ -365,7 +365,7 @@ mod tests {
             .filter(|k| {
                 let ok = k.supported();
                 if !ok {
-                    std::println!("skipped: lane-encoder kernel {k:?} (this CPU lacks it)");
+                    std::eprintln!("skipped: lane-encoder kernel {k:?} (this CPU lacks it)");
                 }
                 ok
             })
