@@ -52,6 +52,7 @@
 //! your own behaves identically on the encoding and the decoding side.
 
 mod adaptive;
+pub(crate) mod arena;
 pub mod audit;
 mod bit;
 pub mod cm;

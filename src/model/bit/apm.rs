@@ -26,8 +26,8 @@ use crate::error::Result;
 use alloc::vec;
 use alloc::vec::Vec;
 
+use crate::model::arena::GroupMap;
 use crate::model::bit::logistic::{squash, stretch};
-use crate::model::cm::arena::GroupMap;
 
 /// Points per context curve.
 const POINTS: usize = 33;

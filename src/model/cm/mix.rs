@@ -42,11 +42,11 @@ use alloc::vec::Vec;
 
 use crate::coder::{Decoder, Encoder, IdealCost};
 use crate::error::Result;
+use crate::model::arena::{groups_for, GroupArena};
 use crate::model::bit::apm::Apm;
 use crate::model::bit::counter::{counter_p16, counter_update, COUNTER_INIT};
 use crate::model::bit::logistic::{squash, stretch};
 use crate::model::bit::mix::Mixer;
-use crate::model::cm::arena::{groups_for, GroupArena};
 use crate::model::cm::column::ColumnContext;
 use crate::model::cm::hashed::{hash2, SlotTable, SLOT_WORDS};
 use crate::model::cm::io::{BitIo, Coarse};

@@ -48,7 +48,6 @@
 //! # }
 //! ```
 
-pub(crate) mod arena;
 pub(crate) mod column;
 pub(crate) mod hashed;
 mod history;

@@ -33,8 +33,8 @@ use alloc::vec::Vec;
 
 use crate::coder::{Decoder, Encoder, IdealCost};
 use crate::error::Result;
+use crate::model::arena::GroupArena;
 use crate::model::bit::counter::{counter_n, counter_p16, counter_update, COUNTER_INIT};
-use crate::model::cm::arena::GroupArena;
 use crate::model::cm::io::{BitIo, Coarse};
 use crate::model::cm::params::{Order2Params, NODES_PER_CONTEXT};
 use crate::model::cm::shrink::{code_bytes, finish_or_store};

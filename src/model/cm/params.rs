@@ -19,9 +19,9 @@
 #[cfg(doc)]
 use crate::error::ErrorKind;
 use crate::error::Result;
+use crate::model::arena::{groups_for, GroupArena};
 use crate::model::bit::apm::Apm;
 use crate::model::bit::mix::Mixer;
-use crate::model::cm::arena::{groups_for, GroupArena};
 use crate::model::cm::hashed::SlotTable;
 use crate::model::cm::matcher::MatchModel;
 
