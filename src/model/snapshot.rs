@@ -93,7 +93,7 @@ pub const MAX_STATE_LEN: usize = 1 << 26;
 ///     fn read_state(mut state: &[u8]) -> Result<Self, subrange::Error> {
 ///         let status = read_vint(&mut state)?;
 ///         if !state.is_empty() || status > 15 {
-///             return Err(crate::Error::snapshot("bad status state"));
+///             return Err(ErrorKind::Snapshot { reason: "bad status state" }.into());
 ///         }
 ///         Ok(LastStatus(status))
 ///     }

@@ -61,7 +61,7 @@ fn check<T: LaneTable + ?Sized>(model: &T, lanes: usize) -> Result<()> {
 ///
 /// # fn main() -> Result<(), subrange::Error> {
 /// let data = b"G107,1440,212,1123,98\nG114,1440,208,1081,97\n".repeat(20);
-/// let model = TestTable::from_bytes(&data, 12)?;
+/// let model = TableModel::from_bytes_histogram(&data, 12)?;
 /// let lanes = encode_table_lanes(&model, &data, 4)?;
 /// let views: Vec<&[u8]> = lanes.iter().map(Vec::as_slice).collect();
 /// let mut back = vec![0; data.len()];
