@@ -9,11 +9,11 @@ use std::hint::black_box;
 use std::io::{Read, Write};
 
 use subrange::coder::{
-    decode_interleaved, decode_refresh_lanes, decode_table_lanes, encode_interleaved,
-    encode_refresh_lanes, encode_table_lanes, encode_table_lanes_scalar, Decoder, Encoder,
+    decode_adaptive_lanes, decode_lanes, decode_table_lanes, encode_adaptive_lanes, encode_lanes,
+    encode_table_lanes, encode_table_lanes_scalar, Decoder, Encoder,
 };
 use subrange::corpus;
-use subrange::model::{AdaptiveModel, RefreshModel, TableModel};
+use subrange::model::{AdaptiveModel, StepwiseModel, TableModel};
 
 const SIZE: usize = 1 << 20;
 
@@ -54,12 +54,12 @@ fn bench_sets(c: &mut Criterion) {
         group.bench_function("table-generic", |b| {
             b.iter(|| {
                 let mut t = table.clone();
-                encode_interleaved(&mut t, black_box(data), 4).unwrap()
+                encode_lanes(&mut t, black_box(data), 4).unwrap()
             })
         });
         group.bench_function("adaptive", |b| {
             b.iter(|| {
-                let mut m = AdaptiveModel::new(256).unwrap();
+                let mut m = StepwiseModel::new(256).unwrap();
                 let mut e = Encoder::with_sink(Vec::with_capacity(data.len()));
                 for &x in black_box(data.as_slice()) {
                     e.encode(&mut m, u32::from(x)).unwrap();
@@ -70,8 +70,8 @@ fn bench_sets(c: &mut Criterion) {
         for lanes in [1usize, 8, 32] {
             group.bench_with_input(BenchmarkId::new("refresh", lanes), &lanes, |b, &lanes| {
                 b.iter(|| {
-                    let mut m = RefreshModel::new(256).unwrap();
-                    encode_refresh_lanes(&mut m, black_box(data), lanes).unwrap()
+                    let mut m = AdaptiveModel::new(256).unwrap();
+                    encode_adaptive_lanes(&mut m, black_box(data), lanes).unwrap()
                 })
             });
         }
@@ -87,7 +87,7 @@ fn bench_sets(c: &mut Criterion) {
         group.sample_size(10);
         for lanes in [1usize, 4, 8, 16, 32] {
             let mut t = table.clone();
-            let streams = encode_interleaved(&mut t, data, lanes).unwrap();
+            let streams = encode_lanes(&mut t, data, lanes).unwrap();
             let views: Vec<&[u8]> = streams.iter().map(|s| s.as_slice()).collect();
             let mut out = vec![0u8; data.len()];
             group.bench_with_input(BenchmarkId::new("table", lanes), &lanes, |b, _| {
@@ -97,13 +97,13 @@ fn bench_sets(c: &mut Criterion) {
                 group.bench_function("table-generic", |b| {
                     b.iter(|| {
                         let mut t = table.clone();
-                        decode_interleaved(&mut t, black_box(&views), &mut out).unwrap();
+                        decode_lanes(&mut t, black_box(&views), &mut out).unwrap();
                     })
                 });
             }
         }
         let coded = {
-            let mut m = AdaptiveModel::new(256).unwrap();
+            let mut m = StepwiseModel::new(256).unwrap();
             let mut e = Encoder::new();
             for &x in data.iter() {
                 e.encode(&mut m, u32::from(x)).unwrap();
@@ -112,7 +112,7 @@ fn bench_sets(c: &mut Criterion) {
         };
         group.bench_function("adaptive", |b| {
             b.iter(|| {
-                let mut m = AdaptiveModel::new(256).unwrap();
+                let mut m = StepwiseModel::new(256).unwrap();
                 let mut d = Decoder::new(black_box(&coded)).unwrap();
                 let mut sum = 0u32;
                 for _ in 0..data.len() {
@@ -123,13 +123,13 @@ fn bench_sets(c: &mut Criterion) {
         });
         for lanes in [1usize, 8, 32] {
             let streams =
-                encode_refresh_lanes(&mut RefreshModel::new(256).unwrap(), data, lanes).unwrap();
+                encode_adaptive_lanes(&mut AdaptiveModel::new(256).unwrap(), data, lanes).unwrap();
             let views: Vec<&[u8]> = streams.iter().map(|s| s.as_slice()).collect();
             let mut out = vec![0u8; data.len()];
             group.bench_with_input(BenchmarkId::new("refresh", lanes), &lanes, |b, _| {
                 b.iter(|| {
-                    let mut m = RefreshModel::new(256).unwrap();
-                    decode_refresh_lanes(&mut m, black_box(&views), &mut out).unwrap()
+                    let mut m = AdaptiveModel::new(256).unwrap();
+                    decode_adaptive_lanes(&mut m, black_box(&views), &mut out).unwrap()
                 })
             });
         }

@@ -95,7 +95,7 @@ fn bench_frames(c: &mut Criterion) {
     group.finish();
 
     c.bench_function("primed_frames/restore_snapshot", |b| {
-        b.iter(|| black_box(Primer::<subrange::model::AdaptiveModel>::new(&snapshot).unwrap()))
+        b.iter(|| black_box(Primer::<subrange::model::StepwiseModel>::new(&snapshot).unwrap()))
     });
 
     // The context model on text frames: slower per byte (it rebuilds a

@@ -39,19 +39,19 @@ fn bench(c: &mut Criterion) {
         ("telemetry", gen::telemetry(LEN, 2)),
     ] {
         let fl = deflate9(&data);
-        let o2 = encode_order2(&data, &p2).unwrap();
-        let mx = encode_mix(&data, &pm).unwrap();
+        let order2 = encode_order2(&data, &p2).unwrap();
+        let mix = encode_mix(&data, &pm).unwrap();
         let h2 = gen::order2_entropy_bits(&data) / 8.0;
         eprintln!(
             "{name}: {} bytes; flate2-9 {} ({:.4}); order2 {} ({:.3}× flate2, {:.3}× H2); mix {} ({:.3}× flate2)",
             data.len(),
             fl.len(),
             fl.len() as f64 / data.len() as f64,
-            o2.len(),
-            o2.len() as f64 / fl.len() as f64,
-            o2.len() as f64 / h2,
-            mx.len(),
-            mx.len() as f64 / fl.len() as f64,
+            order2.len(),
+            order2.len() as f64 / fl.len() as f64,
+            order2.len() as f64 / h2,
+            mix.len(),
+            mix.len() as f64 / fl.len() as f64,
         );
         let mut g = c.benchmark_group(name);
         g.throughput(Throughput::Bytes(data.len() as u64));
@@ -66,13 +66,13 @@ fn bench(c: &mut Criterion) {
             b.iter(|| encode_order2(&data, &p2).unwrap())
         });
         g.bench_function(BenchmarkId::new("order2", "decode"), |b| {
-            b.iter(|| decode_order2(&o2, data.len(), &p2).unwrap())
+            b.iter(|| decode_order2(&order2, data.len(), &p2).unwrap())
         });
         g.bench_function(BenchmarkId::new("mix", "encode"), |b| {
             b.iter(|| encode_mix(&data, &pm).unwrap())
         });
         g.bench_function(BenchmarkId::new("mix", "decode"), |b| {
-            b.iter(|| decode_mix(&mx, data.len(), &pm).unwrap())
+            b.iter(|| decode_mix(&mix, data.len(), &pm).unwrap())
         });
         g.finish();
     }

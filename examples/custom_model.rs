@@ -14,7 +14,7 @@
 
 use subrange::coder::{Decoder, Encoder};
 use subrange::model::audit::audit_model;
-use subrange::model::{AdaptiveModel, Model, Span};
+use subrange::model::{Model, Span, StepwiseModel};
 
 const CODES: u32 = 8;
 const TOTAL: u32 = 4096;
@@ -121,14 +121,14 @@ fn main() -> Result<(), subrange::Error> {
     for &c in &codes {
         assert_eq!(dec.decode(&mut model)?, c);
     }
-    let mut counting = AdaptiveModel::new(CODES)?;
+    let mut counting = StepwiseModel::new(CODES)?;
     let mut enc = Encoder::new();
     for &c in &codes {
         enc.encode(&mut counting, c)?;
     }
     let counted = enc.finish()?;
     println!(
-        "{} status codes: {} bytes with StickyStatus, {} bytes with AdaptiveModel",
+        "{} status codes: {} bytes with StickyStatus, {} bytes with StepwiseModel",
         codes.len(),
         bytes.len(),
         counted.len()

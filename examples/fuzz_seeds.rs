@@ -295,7 +295,7 @@ fn decode_container_dict() -> Result<String, Box<dyn Error>> {
 /// Seeds for the primed-message target: byte 0 is the input mode (see
 /// `tests/fuzz_support/decode_frame.rs`).
 fn decode_frame_seeds(root: &Path) -> Result<(), Box<dyn Error>> {
-    use subrange::model::{AdaptiveModel, ContextModel, ContextParams, Model, Snapshot};
+    use subrange::model::{ContextModel, ContextParams, Model, Snapshot, StepwiseModel};
     use subrange::prime::encode_message;
 
     let mut seeds = Seeds::new(root, "decode_frame")?;
@@ -303,7 +303,7 @@ fn decode_frame_seeds(root: &Path) -> Result<(), Box<dyn Error>> {
     let (sample, messages) = text.split_at(2400);
     let mut context = ContextModel::new(ContextParams::default())?;
     context.train(sample);
-    let mut adaptive = AdaptiveModel::new(256)?;
+    let mut adaptive = StepwiseModel::new(256)?;
     for &b in sample {
         adaptive.update(b.into());
     }

@@ -15,7 +15,7 @@
 //! Run with `cargo run --example learned_probs`.
 
 use subrange::coder::{Decoder, Encoder};
-use subrange::model::{AdaptiveModel, ProbabilityAdapter};
+use subrange::model::{ProbabilityAdapter, StepwiseModel};
 
 const CLASSES: usize = 16;
 const OFFSET: i32 = 8; // class = change + OFFSET
@@ -127,7 +127,7 @@ fn main() -> Result<(), subrange::Error> {
     dec.finish()?;
 
     // For comparison: order-0 counting, which ignores the momentum.
-    let mut counting = AdaptiveModel::new(CLASSES as u32)?;
+    let mut counting = StepwiseModel::new(CLASSES as u32)?;
     let mut enc = Encoder::new();
     for &d in &changes {
         enc.encode(&mut counting, (d + OFFSET) as u32)?;

@@ -1,6 +1,9 @@
-//! The crate's one error type.
+//! The crate's error type.
 //!
-//! Every fallible operation returns [`Error`], a small wrapper around a
+//! Every fallible operation returns [`Error`] — except the calls of the MQ
+//! coder, whose only failures are out-of-range table indices and which
+//! report them as its own [`MqError`](crate::mq::MqError). `Error` is a
+//! small wrapper around a
 //! [`#[non_exhaustive]`](ErrorKind) enum whose variants carry the context a
 //! user needs to act: the offset of a truncation, the block of a checksum
 //! mismatch, the limit that a declared size broke. [`Error::kind`] inspects it.

@@ -10,8 +10,8 @@
 //!   instruction, to the same bytes); ideal-cost accounting.
 //! - [`model`]: the [`Model`](model::Model) trait and models: a static
 //!   [`TableModel`](model::TableModel), adaptive order-0 models
-//!   ([`AdaptiveModel`](model::AdaptiveModel), updated after every symbol,
-//!   and [`RefreshModel`](model::RefreshModel), whose table is rebuilt at
+//!   ([`StepwiseModel`](model::StepwiseModel), updated after every symbol,
+//!   and [`AdaptiveModel`](model::AdaptiveModel), whose table is rebuilt at
 //!   intervals so it codes over the fast lanes), a
 //!   [`ContextModel`](model::ContextModel) over the previous bytes, bit
 //!   predictors, logistic mixing, the context-mixing engines of the
@@ -27,11 +27,11 @@
 //!
 //! ```
 //! use subrange::coder::{Decoder, Encoder};
-//! use subrange::model::{AdaptiveModel, TableModel};
+//! use subrange::model::{StepwiseModel, TableModel};
 //!
 //! # fn main() -> Result<(), subrange::Error> {
 //! let mut status = TableModel::from_counts(&[97, 2, 1], 10)?; // ok, low battery, sensor fault
-//! let mut level = AdaptiveModel::new(1024)?; // water level in cm
+//! let mut level = StepwiseModel::new(1024)?; // water level in cm
 //! let records = [(0u32, 212u32), (0, 213), (1, 213), (0, 215)];
 //! let mut enc = Encoder::new();
 //! for &(s, l) in &records {
@@ -39,7 +39,7 @@
 //!     enc.encode(&mut level, l)?;
 //! }
 //! let bytes = enc.finish()?;
-//! let mut level = AdaptiveModel::new(1024)?;
+//! let mut level = StepwiseModel::new(1024)?;
 //! let mut dec = Decoder::new(&bytes)?;
 //! for &(s, l) in &records {
 //!     assert_eq!((dec.decode(&mut status)?, dec.decode(&mut level)?), (s, l));
@@ -145,7 +145,8 @@
 //! the library.
 #![no_std]
 #![deny(missing_docs, missing_debug_implementations)]
-#![deny(unsafe_code)]
+#![deny(unsafe_code, unsafe_op_in_unsafe_fn)]
+#![warn(clippy::undocumented_unsafe_blocks)]
 
 extern crate alloc;
 #[cfg(feature = "std")]
@@ -164,7 +165,6 @@ pub mod preset;
 pub mod prime;
 #[cfg(feature = "std")]
 pub mod stream;
-#[cfg(feature = "std")]
 mod vint;
 
 pub use error::{Error, ErrorKind, Result};

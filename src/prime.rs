@@ -12,7 +12,7 @@
 //! | size    | field                                                    |
 //! |--------:|----------------------------------------------------------|
 //! | 4       | the snapshot's identifier ([`Snapshot::id`], u32 little-endian) |
-//! | 1 ..= 5 | the message length in bytes, LEB128                      |
+//! | 1 ..= 5 | the message length in bytes, a vint                       |
 //! | rest    | the range-coded bytes, each coded with the primed model  |
 //!
 //! The identifier makes a mismatch loud: decoding with a different snapshot
@@ -20,7 +20,7 @@
 //! Every message starts from the same state, so messages decode in any order
 //! and a lost message costs only itself.
 //!
-//! Which model to prime: [`AdaptiveModel`] (order 0) is the fastest and its
+//! Which model to prime: [`StepwiseModel`] (order 0) is the fastest and its
 //! snapshot the smallest; [`ContextModel`] (orders 0 to 3, blended) also
 //! knows which bytes follow which, so text and records with repeated fields
 //! come out far smaller (on 100-byte text gauge frames, roughly 0.6 of the
@@ -34,9 +34,11 @@
 use alloc::vec::Vec;
 
 use crate::coder::{Decoder, Encoder};
-use crate::error::{ErrorKind, Result};
-use crate::model::snapshot::{read_varint, write_varint, Snapshot, SnapshotState};
-use crate::model::{AdaptiveModel, ContextModel, Model, TableModel};
+#[cfg(doc)]
+use crate::error::ErrorKind;
+use crate::error::Result;
+use crate::model::snapshot::{read_vint, write_vint, Snapshot, SnapshotState};
+use crate::model::{ContextModel, Model, StepwiseModel, TableModel};
 
 /// Bytes of the snapshot identifier at the start of every frame.
 pub const ID_LEN: usize = 4;
@@ -46,12 +48,12 @@ pub const ID_LEN: usize = 4;
 /// # Example
 ///
 /// ```
-/// use subrange::model::{AdaptiveModel, Model, Snapshot};
+/// use subrange::model::{StepwiseModel, Model, Snapshot};
 /// use subrange::prime::Primer;
 ///
 /// # fn main() -> Result<(), subrange::Error> {
 /// // Yesterday's readings train the model; both ends keep the snapshot.
-/// let mut model = AdaptiveModel::new(256)?;
+/// let mut model = StepwiseModel::new(256)?;
 /// for _ in 0..20 {
 ///     for &b in b"1042 231 45.67 12.3\n" {
 ///         model.update(b.into());
@@ -68,7 +70,7 @@ pub const ID_LEN: usize = 4;
 /// # }
 /// ```
 #[derive(Debug, Clone)]
-pub struct Primer<M = AdaptiveModel> {
+pub struct Primer<M = StepwiseModel> {
     id: u32,
     model: M,
 }
@@ -152,14 +154,12 @@ impl<M: SnapshotState + Model + Clone> Primer<M> {
 /// Codes `data` into a frame of snapshot `id`, with the model `model`
 /// gives (asked for once the length is known to fit).
 fn encode_with<M: Model>(id: u32, model: impl FnOnce() -> M, data: &[u8]) -> Result<Vec<u8>> {
-    let len = u32::try_from(data.len()).map_err(|_| ErrorKind::LimitExceeded {
-        what: "message length",
-        declared: data.len() as u64,
-        limit: u32::MAX.into(),
+    let len = u32::try_from(data.len()).map_err(|_| {
+        crate::Error::limit_exceeded("message length", data.len() as u64, u32::MAX.into())
     })?;
     let mut frame = Vec::with_capacity(ID_LEN + 5 + data.len() / 2 + 8);
     frame.extend_from_slice(&id.to_le_bytes());
-    write_varint(&mut frame, len);
+    write_vint(&mut frame, len);
     let mut model = model();
     let mut encoder = Encoder::with_sink(frame);
     for &b in data {
@@ -182,10 +182,9 @@ fn decode_with<M: Model>(
         ));
     }
     let mut rest = &frame[ID_LEN..];
-    let len = read_varint(&mut rest).map_err(|_| ErrorKind::CorruptStream {
-        offset: ID_LEN as u64,
-        reason: "damaged message length",
-    })? as usize;
+    let len = read_vint(&mut rest)
+        .map_err(|_| crate::Error::corrupt_stream(ID_LEN as u64, "damaged message length"))?
+        as usize;
     if len > max_len {
         return Err(crate::Error::limit_exceeded(
             "message length",
@@ -198,9 +197,11 @@ fn decode_with<M: Model>(
     let mut out = Vec::with_capacity(len);
     for _ in 0..len {
         let s = decoder.decode(&mut model)?;
-        let byte = u8::try_from(s).map_err(|_| ErrorKind::CorruptStream {
-            offset: decoder.bytes_read(),
-            reason: "decoded a symbol outside the byte range",
+        let byte = u8::try_from(s).map_err(|_| {
+            crate::Error::corrupt_stream(
+                decoder.bytes_read(),
+                "decoded a symbol outside the byte range",
+            )
         })?;
         out.push(byte);
     }
@@ -234,7 +235,7 @@ pub fn frame_snapshot_id(frame: &[u8]) -> Result<u32> {
 ///
 /// Restores the model on every call; to code many messages, build a
 /// [`Primer`] once. Works for snapshots of the crate's own models
-/// ([`AdaptiveModel`], [`TableModel`], [`ContextModel`]); use `Primer<M>`
+/// ([`StepwiseModel`], [`TableModel`], [`ContextModel`]); use `Primer<M>`
 /// for others.
 ///
 /// # Errors
@@ -246,17 +247,17 @@ pub fn frame_snapshot_id(frame: &[u8]) -> Result<u32> {
 /// # Example
 ///
 /// ```
-/// use subrange::model::{AdaptiveModel, Snapshot};
+/// use subrange::model::{StepwiseModel, Snapshot};
 /// use subrange::prime::{decode_message, encode_message};
 /// use subrange::ErrorKind;
 ///
 /// # fn main() -> Result<(), subrange::Error> {
-/// let snapshot = Snapshot::capture(&AdaptiveModel::new(256)?)?;
+/// let snapshot = Snapshot::capture(&StepwiseModel::new(256)?)?;
 /// let frame = encode_message(&snapshot, b"level 231 cm")?;
 /// assert_eq!(decode_message(&snapshot, &frame, 100)?, b"level 231 cm");
 ///
 /// // A base station holding another snapshot refuses the frame.
-/// let other = Snapshot::capture(&AdaptiveModel::new(257)?)?;
+/// let other = Snapshot::capture(&StepwiseModel::new(257)?)?;
 /// let err = decode_message(&other, &frame, 100).unwrap_err();
 /// assert!(matches!(err.kind(), ErrorKind::Snapshot { .. }));
 /// # Ok(())
@@ -264,8 +265,8 @@ pub fn frame_snapshot_id(frame: &[u8]) -> Result<u32> {
 /// ```
 pub fn encode_message(snapshot: &Snapshot, data: &[u8]) -> Result<Vec<u8>> {
     match snapshot.kind() {
-        <AdaptiveModel as SnapshotState>::KIND => {
-            Primer::<AdaptiveModel>::new(snapshot)?.into_encoded(data)
+        <StepwiseModel as SnapshotState>::KIND => {
+            Primer::<StepwiseModel>::new(snapshot)?.into_encoded(data)
         }
         <TableModel as SnapshotState>::KIND => {
             Primer::<TableModel>::new(snapshot)?.into_encoded(data)
@@ -285,8 +286,8 @@ pub fn encode_message(snapshot: &Snapshot, data: &[u8]) -> Result<Vec<u8>> {
 /// As for [`encode_message`] and [`Primer::decode_message`].
 pub fn decode_message(snapshot: &Snapshot, frame: &[u8], max_len: usize) -> Result<Vec<u8>> {
     match snapshot.kind() {
-        <AdaptiveModel as SnapshotState>::KIND => {
-            Primer::<AdaptiveModel>::new(snapshot)?.into_decoded(frame, max_len)
+        <StepwiseModel as SnapshotState>::KIND => {
+            Primer::<StepwiseModel>::new(snapshot)?.into_decoded(frame, max_len)
         }
         <TableModel as SnapshotState>::KIND => {
             Primer::<TableModel>::new(snapshot)?.into_decoded(frame, max_len)
@@ -307,10 +308,11 @@ fn unknown_kind() -> crate::Error {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::error::ErrorKind;
 
     #[test]
     fn empty_message_round_trip() {
-        let snapshot = Snapshot::capture(&AdaptiveModel::new(256).unwrap()).unwrap();
+        let snapshot = Snapshot::capture(&StepwiseModel::new(256).unwrap()).unwrap();
         let frame = encode_message(&snapshot, b"").unwrap();
         assert_eq!(frame.len(), ID_LEN + 1);
         assert!(decode_message(&snapshot, &frame, 0).unwrap().is_empty());
@@ -331,8 +333,8 @@ mod tests {
 
     #[test]
     fn small_alphabet_is_rejected() {
-        let snapshot = Snapshot::capture(&AdaptiveModel::new(16).unwrap()).unwrap();
-        let err = Primer::<AdaptiveModel>::new(&snapshot).unwrap_err();
+        let snapshot = Snapshot::capture(&StepwiseModel::new(16).unwrap()).unwrap();
+        let err = Primer::<StepwiseModel>::new(&snapshot).unwrap_err();
         assert!(matches!(err.kind(), ErrorKind::InvalidParameter { .. }));
     }
 }

@@ -22,9 +22,9 @@ mod common;
 
 use common::lgamma::{ln_gamma, log2_factorial};
 use common::{encode_all, entropy_bits, SplitMix64, TableSampler};
-use subrange::coder::{encode_refresh_lanes, Encoder};
+use subrange::coder::{encode_adaptive_lanes, Encoder};
 use subrange::model::{
-    AdaptiveModel, AdaptiveParams, Model, RefreshModel, RefreshParams, TableModel,
+    AdaptiveModel, AdaptiveParams, Model, StepwiseModel, StepwiseParams, TableModel,
 };
 
 /// Worst-case finite-precision loss of one step with `total`, in bits.
@@ -130,7 +130,7 @@ fn laplace_adaptive_model_matches_closed_form() {
         (1000, 64_000),
         (2, 60_000),
     ] {
-        let mut p = AdaptiveParams::default();
+        let mut p = StepwiseParams::default();
         p.increment = 1;
         p.limit = 1 << 16;
         p.escape = Some(false);
@@ -140,7 +140,7 @@ fn laplace_adaptive_model_matches_closed_form() {
         let freq = skewed_frequencies(m as usize, 16, &mut rng);
         let sampler = TableSampler::new(&freq);
         let symbols: Vec<u32> = (0..len).map(|_| sampler.sample(&mut rng)).collect();
-        let mut model = AdaptiveModel::with_params(m, p).unwrap();
+        let mut model = StepwiseModel::with_params(m, p).unwrap();
         let bytes = encode_all(&mut model, &symbols);
         assert_eq!(
             model.total(),
@@ -198,16 +198,16 @@ fn iid_source_converges_to_its_entropy() {
 
     let mut table = TableModel::from_frequencies(&freq).unwrap();
     let table_bps = 8.0 * encode_all(&mut table, &symbols).len() as f64 / len as f64;
-    let mut adaptive = AdaptiveModel::new(40).unwrap();
+    let mut adaptive = StepwiseModel::new(40).unwrap();
     let adaptive_bps = 8.0 * encode_all(&mut adaptive, &symbols).len() as f64 / len as f64;
     // The refreshed model with a long memory (its default forgets after a
     // few thousand symbols, which costs a little on a stationary source).
-    let mut p = RefreshParams::default();
+    let mut p = AdaptiveParams::default();
     p.limit = 1 << 20;
     p.max_period = 4096;
-    let mut refresh = RefreshModel::with_params(40, p).unwrap();
+    let mut refresh = AdaptiveModel::with_params(40, p).unwrap();
     let refresh_bps = 8.0 * encode_all(&mut refresh, &symbols).len() as f64 / len as f64;
-    let mut quick = RefreshModel::new(40).unwrap();
+    let mut quick = AdaptiveModel::new(40).unwrap();
     let quick_bps = 8.0 * encode_all(&mut quick, &symbols).len() as f64 / len as f64;
     eprintln!(
         "entropy {h:.5} bits/symbol; table {table_bps:.5} ({:+.4} %), adaptive {adaptive_bps:.5} ({:+.4} %), \
@@ -253,14 +253,14 @@ fn coding_overhead_against_the_cost_meter() {
             .map(|&s| (total / f64::from(freq[s as usize])).log2())
             .sum();
         assert!((ti - ideal).abs() <= 1e-6 * ideal, "meter {ti} vs {ideal}");
-        let mut adaptive = AdaptiveModel::new(n as u32).unwrap();
+        let mut adaptive = StepwiseModel::new(n as u32).unwrap();
         let (aa, ai, a_over) = measure(&mut adaptive);
-        let mut refresh = RefreshModel::new(n as u32).unwrap();
+        let mut refresh = AdaptiveModel::new(n as u32).unwrap();
         let (ra, ri, r_over) = measure(&mut refresh);
         // The same model over 32 lanes: each lane flushes on its own.
         let bytes: Vec<u8> = symbols.iter().map(|&s| s as u8).collect();
         let lanes =
-            encode_refresh_lanes(&mut RefreshModel::new(n as u32).unwrap(), &bytes, 32).unwrap();
+            encode_adaptive_lanes(&mut AdaptiveModel::new(n as u32).unwrap(), &bytes, 32).unwrap();
         let la = 8.0 * lanes.iter().map(Vec::len).sum::<usize>() as f64;
         let l_over = (la - ri) / ri;
         eprintln!(
@@ -276,7 +276,7 @@ fn coding_overhead_against_the_cost_meter() {
         assert!(r_over <= 1e-4, "refreshed overhead {:.5} %", 100.0 * r_over);
         assert!(
             l_over <= 1e-4,
-            "refreshed lanes overhead {:.5} %",
+            "adaptive lanes overhead {:.5} %",
             100.0 * l_over
         );
     }

@@ -7,7 +7,7 @@ mod common;
 use common::strategies::{adaptive_model, alphabet, table_from_counts};
 use proptest::prelude::*;
 use subrange::coder::{Decoder, Encoder, SliceSource};
-use subrange::model::{AdaptiveModel, Model, Span, TableModel};
+use subrange::model::{Model, Span, StepwiseModel, TableModel};
 use subrange::{Error, ErrorKind};
 
 /// What the decoder is asked for at one step.
@@ -32,7 +32,7 @@ fn ask() -> impl Strategy<Value = Ask> {
 #[derive(Debug, Clone)]
 struct Models {
     table: TableModel,
-    adaptive: AdaptiveModel,
+    adaptive: StepwiseModel,
     raw: Vec<u32>,
 }
 
@@ -264,7 +264,7 @@ fn impossible_start_is_corrupt() {
 #[test]
 fn truncated_long_stream_reports_offset() {
     let symbols: Vec<u32> = (0..5000u32).map(|i| (i * 7919) % 256).collect();
-    let mut model = AdaptiveModel::new(256).unwrap();
+    let mut model = StepwiseModel::new(256).unwrap();
     let bytes = common::encode_all(&mut model.clone(), &symbols);
     let cut = bytes.len() / 2;
     let mut dec = Decoder::new(&bytes[..cut]).unwrap();

@@ -9,7 +9,7 @@ use common::reference::FastReference;
 use common::{decode_all, encode_all, longest_run, SplitMix64};
 use std::io::{self, Read, Write};
 use subrange::coder::{Decoder, Encoder, IoSink, IoSource};
-use subrange::model::{AdaptiveModel, AdaptiveParams, Model, Span, TableModel};
+use subrange::model::{Model, Span, StepwiseModel, StepwiseParams, TableModel};
 use subrange::ErrorKind;
 
 #[test]
@@ -36,7 +36,7 @@ fn one_symbol_streams() {
         assert_eq!(decode_all(&mut table, &bytes, 1), [s]);
     }
     for alphabet in [2u32, 256, 65_536] {
-        let fresh = AdaptiveModel::new(alphabet).unwrap();
+        let fresh = StepwiseModel::new(alphabet).unwrap();
         let s = alphabet - 1;
         let bytes = encode_all(&mut fresh.clone(), &[s]);
         assert_eq!(decode_all(&mut fresh.clone(), &bytes, 1), [s]);
@@ -60,7 +60,7 @@ fn alphabet_of_one_costs_nothing() {
     assert!(bytes.is_empty());
     assert_eq!(decode_all(&mut table, &bytes, symbols.len()), symbols);
 
-    let mut adaptive = AdaptiveModel::new(1).unwrap();
+    let mut adaptive = StepwiseModel::new(1).unwrap();
     let bytes = encode_all(&mut adaptive.clone(), &symbols);
     assert!(bytes.is_empty());
     assert_eq!(decode_all(&mut adaptive, &bytes, symbols.len()), symbols);
@@ -107,7 +107,7 @@ fn alphabet_of_65536_table() {
 
 #[test]
 fn alphabet_of_65536_adaptive_with_escape() {
-    let model = AdaptiveModel::new(65_536).unwrap();
+    let model = StepwiseModel::new(65_536).unwrap();
     assert!(model.uses_escape());
     let mut rng = SplitMix64::new(0xED6E_0002);
     // Every symbol at least once, some many times, both ends of the alphabet.
@@ -125,11 +125,11 @@ fn alphabet_of_65536_adaptive_with_escape() {
 /// symbol adds 2 (itself and the escape) when the total is 2^16 - 2.
 #[test]
 fn adaptive_total_of_exactly_2_16() {
-    let mut p = AdaptiveParams::default();
+    let mut p = StepwiseParams::default();
     p.increment = 1;
     p.limit = 1 << 16;
     p.escape = Some(true);
-    let fresh = AdaptiveModel::with_params(65_536, p).unwrap();
+    let fresh = StepwiseModel::with_params(65_536, p).unwrap();
     // 1 (escape) + 2 (symbol 0) + 1 (repeat) = 4, then 32,766 new symbols.
     let mut symbols = vec![0u32, 0];
     symbols.extend(1..=32_766);
@@ -400,7 +400,7 @@ fn io_test_symbols() -> Vec<u32> {
 #[test]
 fn io_sink_and_source_match_the_in_memory_path() {
     let symbols = io_test_symbols();
-    let fresh = AdaptiveModel::new(256).unwrap();
+    let fresh = StepwiseModel::new(256).unwrap();
     let expected = encode_all(&mut fresh.clone(), &symbols);
 
     let mut model = fresh.clone();
@@ -431,7 +431,7 @@ fn io_sink_and_source_match_the_in_memory_path() {
 #[test]
 fn io_errors_are_reported_not_panicked() {
     let symbols = io_test_symbols();
-    let fresh = AdaptiveModel::new(256).unwrap();
+    let fresh = StepwiseModel::new(256).unwrap();
     let bytes = encode_all(&mut fresh.clone(), &symbols);
     for ok in [0usize, 3, 100, bytes.len() / 2] {
         let mut model = fresh.clone();

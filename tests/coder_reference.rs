@@ -19,7 +19,7 @@ use common::nat::Nat;
 use common::reference::{reference_decode, FastReference, IdealReference, RefStep, Tracked};
 use proptest::prelude::*;
 use subrange::coder::{Decoder, Encoder};
-use subrange::model::{AdaptiveModel, AdaptiveParams, Model, Span, TableModel};
+use subrange::model::{Model, Span, StepwiseModel, StepwiseParams, TableModel};
 
 #[derive(Debug, Clone)]
 enum Op {
@@ -62,18 +62,18 @@ fn op() -> impl Strategy<Value = Op> {
 
 /// Parameters of the adaptive model of a case: alphabet, escape, increment,
 /// and a seed for the limit (placed within the documented valid range).
-fn adaptive_model() -> impl Strategy<Value = AdaptiveModel> {
+fn adaptive_model() -> impl Strategy<Value = StepwiseModel> {
     (1u32..3000, any::<bool>(), 1u32..64, any::<u32>()).prop_map(|(alphabet, escape, inc, seed)| {
         let need = if escape {
             2 + 4 * inc
         } else {
             alphabet + 1 + 4 * inc
         };
-        let mut p = AdaptiveParams::default();
+        let mut p = StepwiseParams::default();
         p.increment = inc;
         p.limit = need + seed % (65_536 - need + 1);
         p.escape = Some(escape);
-        AdaptiveModel::with_params(alphabet, p).expect("parameters within the documented range")
+        StepwiseModel::with_params(alphabet, p).expect("parameters within the documented range")
     })
 }
 

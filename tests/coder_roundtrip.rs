@@ -10,10 +10,9 @@ use common::strategies::{
 use common::{decode_all, encode_all, SplitMix64};
 use proptest::prelude::*;
 use subrange::coder::{
-    decode_interleaved, decode_refresh_lanes, encode_interleaved, encode_refresh_lanes, Decoder,
-    Encoder,
+    decode_adaptive_lanes, decode_lanes, encode_adaptive_lanes, encode_lanes, Decoder, Encoder,
 };
-use subrange::model::{AdaptiveModel, Model, RefreshModel, Span, TableModel};
+use subrange::model::{AdaptiveModel, Model, Span, StepwiseModel, TableModel};
 
 /// The symbols of `model` that can be coded directly.
 fn present(model: &TableModel) -> Vec<u32> {
@@ -96,18 +95,18 @@ proptest! {
 
         let data: Vec<u8> = symbols.iter().map(|&s| s as u8).collect();
         let mut fast_model = model.clone();
-        let fast = encode_refresh_lanes(&mut fast_model, &data, lanes).unwrap();
+        let fast = encode_adaptive_lanes(&mut fast_model, &data, lanes).unwrap();
         let mut slow_model = model.clone();
-        prop_assert_eq!(&encode_interleaved(&mut slow_model, &data, lanes).unwrap(), &fast);
+        prop_assert_eq!(&encode_lanes(&mut slow_model, &data, lanes).unwrap(), &fast);
         prop_assert_eq!(&fast_model, &slow_model);
         let views: Vec<&[u8]> = fast.iter().map(Vec::as_slice).collect();
         let mut back = vec![0u8; data.len()];
         let mut m = model.clone();
-        decode_refresh_lanes(&mut m, &views, &mut back).unwrap();
+        decode_adaptive_lanes(&mut m, &views, &mut back).unwrap();
         prop_assert_eq!(&back, &data);
         prop_assert_eq!(&m, &fast_model);
         let mut back2 = vec![0u8; data.len()];
-        decode_interleaved(&mut model.clone(), &views, &mut back2).unwrap();
+        decode_lanes(&mut model.clone(), &views, &mut back2).unwrap();
         prop_assert_eq!(back2, data);
     }
 
@@ -254,11 +253,11 @@ fn large_seeded_streams() {
         })
         .collect();
 
-    let mut adaptive = AdaptiveModel::new(256).unwrap();
+    let mut adaptive = StepwiseModel::new(256).unwrap();
     let bytes = encode_all(&mut adaptive.clone(), &data);
     assert_eq!(decode_all(&mut adaptive, &bytes, data.len()), data);
 
-    let mut refresh = RefreshModel::new(256).unwrap();
+    let mut refresh = AdaptiveModel::new(256).unwrap();
     let bytes = encode_all(&mut refresh.clone(), &data);
     assert_eq!(decode_all(&mut refresh, &bytes, data.len()), data);
 
@@ -273,7 +272,7 @@ fn large_seeded_streams() {
         .enumerate()
         .map(|(i, &s)| s * 256 + (i as u32 % 7))
         .collect();
-    let mut escape = AdaptiveModel::new(65_536).unwrap();
+    let mut escape = StepwiseModel::new(65_536).unwrap();
     assert!(escape.uses_escape());
     let bytes = encode_all(&mut escape.clone(), &wide);
     assert_eq!(decode_all(&mut escape, &bytes, wide.len()), wide);

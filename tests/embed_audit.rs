@@ -5,7 +5,7 @@ use std::cell::Cell;
 use std::sync::atomic::{AtomicU32, Ordering};
 
 use subrange::model::audit::{audit_model, Mismatch, Side, Violation};
-use subrange::model::{AdaptiveModel, Model, ProbabilityAdapter, Span, TableModel};
+use subrange::model::{Model, ProbabilityAdapter, Span, StepwiseModel, TableModel};
 
 /// Gauge status codes over a day: mostly "ok" (0), runs of other states.
 fn status_codes() -> Vec<u32> {
@@ -34,7 +34,7 @@ fn crate_models_are_symmetric() {
     assert_eq!((r.steps, r.agreed), (data.len(), data.len()));
     assert!(r.coded_bytes > 0);
     for alphabet in [8u32, 300, 65_536] {
-        let r = audit_model(|| AdaptiveModel::new(alphabet).unwrap(), &data);
+        let r = audit_model(|| StepwiseModel::new(alphabet).unwrap(), &data);
         assert!(r.is_symmetric(), "alphabet {alphabet}: {r}");
     }
     let r = audit_model(
@@ -294,14 +294,14 @@ fn hidden_shared_state_is_caught_as_a_total_mismatch() {
 fn escaped_symbols_are_followed_through_the_escape() {
     // A 65,536-symbol adaptive model codes unseen symbols through its escape.
     let data = [40_000u32, 40_000, 7, 65_535, 7];
-    let r = audit_model(|| AdaptiveModel::new(65_536).unwrap(), &data);
+    let r = audit_model(|| StepwiseModel::new(65_536).unwrap(), &data);
     assert!(r.is_symmetric(), "{r}");
     // A decoding copy that has already seen symbol 7 no longer escapes it.
     let mut n = 0;
     let r = audit_model(
         || {
             n += 1;
-            let mut m = AdaptiveModel::new(65_536).unwrap();
+            let mut m = StepwiseModel::new(65_536).unwrap();
             if n == 2 {
                 m.update(7);
             }
@@ -320,7 +320,7 @@ fn escaped_symbols_are_followed_through_the_escape() {
 
 /// Logs which instance (by factory call) learned each symbol.
 struct Tagged {
-    inner: AdaptiveModel,
+    inner: StepwiseModel,
     call: u32,
     log: std::rc::Rc<std::cell::RefCell<Vec<u32>>>,
 }
@@ -353,7 +353,7 @@ fn the_first_factory_call_encodes_and_the_second_decodes() {
         || {
             calls += 1;
             Tagged {
-                inner: AdaptiveModel::new(8).unwrap(),
+                inner: StepwiseModel::new(8).unwrap(),
                 call: calls,
                 log: log.clone(),
             }

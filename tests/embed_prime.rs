@@ -8,7 +8,7 @@ mod gauge_frames;
 
 use frame_codecs::{measure, primed_snapshot, training_sample};
 use gauge_frames::{GaugeNetwork, Layout};
-use subrange::model::{AdaptiveModel, Snapshot};
+use subrange::model::{Snapshot, StepwiseModel};
 use subrange::prime::{decode_message, encode_message, frame_snapshot_id, Primer, ID_LEN};
 use subrange::ErrorKind;
 
@@ -70,7 +70,7 @@ fn a_different_or_missing_snapshot_is_refused() {
     let (snapshot, frames) = snapshot_and_frames();
     let frame = encode_message(&snapshot, &frames[0]).unwrap();
     // Another snapshot (cold model) refuses the frame.
-    let other = Snapshot::capture(&AdaptiveModel::new(256).unwrap()).unwrap();
+    let other = Snapshot::capture(&StepwiseModel::new(256).unwrap()).unwrap();
     assert_ne!(other.id(), snapshot.id());
     let err = decode_message(&other, &frame, 1000).unwrap_err();
     assert!(matches!(err.kind(), ErrorKind::Snapshot { .. }), "{err}");
@@ -111,7 +111,7 @@ fn damaged_frames_are_errors_not_panics() {
         matches!(err.kind(), ErrorKind::TrailingBytes { .. }),
         "{err}"
     );
-    // Damaged length field (an unterminated LEB128 number).
+    // Damaged length field (an unterminated vint).
     let mut bad_len = frame[..ID_LEN].to_vec();
     bad_len.extend_from_slice(&[0xFF; 6]);
     let err = primer.decode_message(&bad_len, 1000).unwrap_err();

@@ -2,8 +2,8 @@
 
 use proptest::prelude::*;
 use subrange::coder::Encoder;
-use subrange::model::snapshot::{write_varint, MAGIC, MAX_STATE_LEN, VERSION};
-use subrange::model::{AdaptiveModel, AdaptiveParams, Model, Snapshot, SnapshotState, TableModel};
+use subrange::model::snapshot::{write_vint, MAGIC, MAX_STATE_LEN, VERSION};
+use subrange::model::{Model, Snapshot, SnapshotState, StepwiseModel, StepwiseParams, TableModel};
 use subrange::ErrorKind;
 
 /// Bitwise CRC-32 (reflected polynomial 0xEDB88320, initial and final value
@@ -31,8 +31,8 @@ fn reference_crc_matches_the_standard_check_value() {
     assert_eq!(crc32_reference(b"123456789"), 0xCBF4_3926);
 }
 
-fn trained(alphabet: u32, seed: u32) -> AdaptiveModel {
-    let mut m = AdaptiveModel::new(alphabet).unwrap();
+fn trained(alphabet: u32, seed: u32) -> StepwiseModel {
+    let mut m = StepwiseModel::new(alphabet).unwrap();
     let mut x = seed;
     for _ in 0..3000 {
         x = x.wrapping_mul(1_103_515_245).wrapping_add(12_345);
@@ -52,7 +52,7 @@ fn layout_and_checksum() {
     assert_eq!(b[4], VERSION);
     assert_eq!(b[5], 0);
     assert_eq!(u16::from_le_bytes([b[6], b[7]]), 1);
-    assert_eq!(snap.kind(), <AdaptiveModel as SnapshotState>::KIND);
+    assert_eq!(snap.kind(), <StepwiseModel as SnapshotState>::KIND);
     let len = u32::from_le_bytes([b[8], b[9], b[10], b[11]]) as usize;
     assert_eq!(len, b.len() - 16);
     assert_eq!(snap.state().len(), len);
@@ -63,14 +63,14 @@ fn layout_and_checksum() {
 
 #[test]
 fn restored_models_code_exactly_like_the_original() {
-    let mut params = AdaptiveParams::default();
+    let mut params = StepwiseParams::default();
     params.increment = 32;
     params.limit = 1 << 14;
-    let mut tuned = AdaptiveModel::with_params(300, params).unwrap();
+    let mut tuned = StepwiseModel::with_params(300, params).unwrap();
     tuned.update(7);
     for original in [trained(10, 2), trained(256, 3), trained(65_536, 4), tuned] {
         let snap = Snapshot::capture(&original).unwrap();
-        let restored: AdaptiveModel = Snapshot::from_bytes(snap.as_bytes())
+        let restored: StepwiseModel = Snapshot::from_bytes(snap.as_bytes())
             .unwrap()
             .restore()
             .unwrap();
@@ -78,7 +78,7 @@ fn restored_models_code_exactly_like_the_original() {
         // Canonical form: capturing the restored model gives the same bytes.
         assert_eq!(Snapshot::capture(&restored).unwrap(), snap);
         // Continuing to code from both gives identical streams.
-        let code = |mut m: AdaptiveModel| {
+        let code = |mut m: StepwiseModel| {
             let mut e = Encoder::new();
             for i in 0..2000u32 {
                 e.encode(&mut m, (i * 7 + i / 13) % original.alphabet_size())
@@ -101,7 +101,7 @@ fn table_models_snapshot_too() {
         .unwrap();
     assert_eq!(back, table);
     // The kind is checked before the state is read.
-    let err = snap.restore::<AdaptiveModel>().unwrap_err();
+    let err = snap.restore::<StepwiseModel>().unwrap_err();
     assert!(matches!(err.kind(), ErrorKind::Snapshot { .. }), "{err}");
 }
 
@@ -189,18 +189,18 @@ impl<const K: u16> SnapshotState for Raw<K> {
 
 fn adaptive_state(alphabet: u32, inc: u32, limit: u32, escape: u8, freq: &[u32]) -> Snapshot {
     let mut s = Vec::new();
-    write_varint(&mut s, alphabet);
-    write_varint(&mut s, inc);
-    write_varint(&mut s, limit);
+    write_vint(&mut s, alphabet);
+    write_vint(&mut s, inc);
+    write_vint(&mut s, limit);
     s.push(escape);
     for &f in freq {
-        write_varint(&mut s, f);
+        write_vint(&mut s, f);
     }
     Snapshot::capture(&Raw::<1>(s)).unwrap()
 }
 
 fn state_error(snap: &Snapshot) -> &'static str {
-    match snap.restore::<AdaptiveModel>().unwrap_err().into_kind() {
+    match snap.restore::<StepwiseModel>().unwrap_err().into_kind() {
         ErrorKind::Snapshot { reason } => reason,
         other => panic!("expected a snapshot error, got {other:?}"),
     }
@@ -210,7 +210,7 @@ fn state_error(snap: &Snapshot) -> &'static str {
 fn bad_parameters_and_states_are_refused() {
     // A valid one first, to show that `adaptive_state` builds real states.
     let ok = adaptive_state(4, 24, 65_536, 0, &[1, 2, 3, 4]);
-    let m: AdaptiveModel = ok.restore().unwrap();
+    let m: StepwiseModel = ok.restore().unwrap();
     assert_eq!(m.frequencies(), &[1, 2, 3, 4]);
 
     let cases = [
@@ -240,7 +240,7 @@ proptest! {
     #[test]
     fn arbitrary_states_never_panic(state in prop::collection::vec(any::<u8>(), 0..64)) {
         let adaptive = Snapshot::capture(&Raw::<1>(state.clone())).unwrap();
-        if let Ok(m) = adaptive.restore::<AdaptiveModel>() {
+        if let Ok(m) = adaptive.restore::<StepwiseModel>() {
             prop_assert!(m.total() >= 1 && m.total() <= 65_536);
             // Whatever was accepted is canonical.
             let again = Snapshot::capture(&m).unwrap();

@@ -7,12 +7,12 @@ mod common;
 
 use common::strategies::{adaptive_model, alphabet};
 use proptest::prelude::*;
-use subrange::model::{AdaptiveModel, AdaptiveParams, Model, Span, ESCAPE};
+use subrange::model::{Model, Span, StepwiseModel, StepwiseParams, ESCAPE};
 use subrange::ErrorKind;
 
 /// Full check: the spans of the symbols (in order) and then the escape
 /// tile `0 .. total`; `locate` agrees for a spread of targets.
-fn check_full(m: &AdaptiveModel) -> Result<(), TestCaseError> {
+fn check_full(m: &StepwiseModel) -> Result<(), TestCaseError> {
     let total = m.total();
     let mut cum = 0;
     for s in 0..m.alphabet_size() {
@@ -99,11 +99,11 @@ proptest! {
     #[test]
     fn parameter_checks(alphabet in any::<u32>(), increment in any::<u32>(), limit in any::<u32>(), escape in any::<Option<bool>>()) {
         let alphabet = alphabet % 70_000;
-        let mut p = AdaptiveParams::default();
+        let mut p = StepwiseParams::default();
         p.increment = increment % 9000;
         p.limit = limit % 70_000;
         p.escape = escape;
-        match AdaptiveModel::with_params(alphabet, p) {
+        match StepwiseModel::with_params(alphabet, p) {
             Ok(m) => {
                 prop_assert!((1..=65_536).contains(&alphabet));
                 prop_assert!((1..=8192).contains(&p.increment));
@@ -127,34 +127,34 @@ proptest! {
 
 #[test]
 fn documented_boundaries() {
-    let mut p = AdaptiveParams::default();
+    let mut p = StepwiseParams::default();
     p.escape = Some(false);
     p.increment = 1;
     // Without escape: limit >= alphabet + 1 + 4·increment, exactly.
     p.limit = 100 + 1 + 4;
-    assert!(AdaptiveModel::with_params(100, p).is_ok());
+    assert!(StepwiseModel::with_params(100, p).is_ok());
     p.limit -= 1;
-    assert!(AdaptiveModel::with_params(100, p).is_err());
+    assert!(StepwiseModel::with_params(100, p).is_err());
     // With escape: limit >= 2 + 4·increment.
     p.escape = Some(true);
     p.increment = 8192;
     p.limit = 2 + 4 * 8192;
-    assert!(AdaptiveModel::with_params(65_536, p).is_ok());
+    assert!(StepwiseModel::with_params(65_536, p).is_ok());
     p.limit -= 1;
-    assert!(AdaptiveModel::with_params(65_536, p).is_err());
+    assert!(StepwiseModel::with_params(65_536, p).is_err());
     p.increment = 8193;
     p.limit = 65_536;
-    assert!(AdaptiveModel::with_params(65_536, p).is_err());
+    assert!(StepwiseModel::with_params(65_536, p).is_err());
     // The default chooses the escape when 4·alphabet > limit.
-    assert!(!AdaptiveModel::new(16_384).unwrap().uses_escape());
-    assert!(AdaptiveModel::new(16_385).unwrap().uses_escape());
+    assert!(!StepwiseModel::new(16_384).unwrap().uses_escape());
+    assert!(StepwiseModel::new(16_385).unwrap().uses_escape());
 }
 
 /// With escape, an unseen symbol has no span; coding it takes the escape and
 /// then gives it a frequency.
 #[test]
 fn escape_gives_new_symbols_a_frequency() {
-    let mut m = AdaptiveModel::new(65_536).unwrap();
+    let mut m = StepwiseModel::new(65_536).unwrap();
     assert_eq!(m.span(40_000), None);
     let esc = m.escape().unwrap();
     assert_eq!(esc, Span::new(0, 1));

@@ -125,7 +125,7 @@ fn kt_predictor_codes_at_the_kt_length() {
         let n1 = bits.iter().filter(|&&b| b).count() as u64;
         let n0 = n as u64 - n1;
         let want = kt_bits(n0, n1);
-        let (ideal, actual) = code(&bits, &KtPredictor::new());
+        let (ideal, actual) = code(&bits, &KtPredictor::default());
         assert!(
             (ideal - want).abs() < 3.0,
             "n={n}: ideal {ideal} vs KT {want}"

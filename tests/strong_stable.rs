@@ -203,14 +203,14 @@ fn lane_inputs() -> Vec<(&'static str, Vec<u8>)> {
 }
 
 /// Per input and kind of stream (`table`: the table lanes at three totals
-/// and every lane count; `refresh`: the refreshed lanes at six lane counts;
+/// and every lane count; `refresh`: the adaptive lanes at six lane counts;
 /// `container`: both presets at two block sizes, written without a block
 /// index so the pins hold the coded blocks alone), the length (`u64`) and
 /// CRC-32 (`u32`) of each stream, little-endian, back to back.
 fn lane_pins() -> Vec<(&'static str, &'static str, Vec<u8>)> {
-    use subrange::coder::{encode_refresh_lanes, encode_table_lanes};
+    use subrange::coder::{encode_adaptive_lanes, encode_table_lanes};
     use subrange::format::IndexPolicy;
-    use subrange::model::{RefreshModel, TableModel};
+    use subrange::model::{AdaptiveModel, TableModel};
     use subrange::preset::Preset;
     use subrange::{compress, Options};
     let mut pins = Vec::new();
@@ -229,8 +229,8 @@ fn lane_pins() -> Vec<(&'static str, &'static str, Vec<u8>)> {
             }
         }
         for lanes in [1usize, 5, 8, 16, 24, 32] {
-            let mut model = RefreshModel::new(256).unwrap();
-            let s = encode_refresh_lanes(&mut model, &data, lanes).unwrap();
+            let mut model = AdaptiveModel::new(256).unwrap();
+            let s = encode_adaptive_lanes(&mut model, &data, lanes).unwrap();
             add(1, &s);
         }
         for preset in ["static", "adaptive"] {

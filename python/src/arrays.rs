@@ -5,7 +5,7 @@ use pyo3::prelude::*;
 use pyo3::types::PyBytes;
 
 use subrange::batch::{decode_probabilities, decode_symbols, encode_probabilities, encode_symbols};
-use subrange::model::{AdaptiveModel, AdaptiveParams, Probability, TableModel};
+use subrange::model::{Probability, StepwiseModel, StepwiseParams, TableModel};
 
 use crate::to_py;
 
@@ -84,11 +84,11 @@ fn decode_probabilities_f32<'py>(
     Ok(PyArray1::from_vec(py, out))
 }
 
-fn adaptive(py: Python<'_>, alphabet: u32, increment: u32, limit: u32) -> PyResult<AdaptiveModel> {
-    let mut params = AdaptiveParams::default();
+fn adaptive(py: Python<'_>, alphabet: u32, increment: u32, limit: u32) -> PyResult<StepwiseModel> {
+    let mut params = StepwiseParams::default();
     params.increment = increment;
     params.limit = limit;
-    AdaptiveModel::with_params(alphabet, params).map_err(|e| to_py(py, e))
+    StepwiseModel::with_params(alphabet, params).map_err(|e| to_py(py, e))
 }
 
 /// Codes symbols with an adaptive order-0 model over `alphabet` symbols.

@@ -17,7 +17,7 @@
 //! Values are spread over [`INDEXED_LANES`] interleaved range coders (value
 //! `i` goes to coder `i mod 4`), so the decoder works on four independent
 //! dependency chains at once (Giesen, "Interleaved entropy coders",
-//! arXiv:1402.3392, 2014). The stream is the LEB128 lengths of the first
+//! arXiv:1402.3392, 2014). The stream is the vint lengths of the first
 //! three lane streams, then the four lane streams one after the other (each
 //! an ordinary stream of [`Encoder`]); the last lane takes what is left.
 //!

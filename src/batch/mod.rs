@@ -7,7 +7,7 @@
 //! length the caller knows (the stream stores no length).
 //!
 //! - [`encode_symbols`] / [`decode_symbols`]: any [`Model`] (an
-//!   [`AdaptiveModel`](crate::model::AdaptiveModel) that learns as it codes,
+//!   [`StepwiseModel`](crate::model::StepwiseModel) that learns as it codes,
 //!   a fixed [`TableModel`](crate::model::TableModel), ...) over a slice of
 //!   symbols.
 //! - [`IndexedTables`] with [`encode_indexed`] / [`decode_indexed`]: every
@@ -48,15 +48,15 @@ use crate::model::Model;
 ///
 /// ```
 /// use subrange::batch::{decode_symbols, encode_symbols};
-/// use subrange::model::AdaptiveModel;
+/// use subrange::model::StepwiseModel;
 ///
 /// # fn main() -> Result<(), subrange::Error> {
 /// // Flow readings of a gauge, in litres a second.
 /// let flow: Vec<u32> = (0..1000).map(|i| 300 + (i % 7) * 3).collect();
-/// let bytes = encode_symbols(&mut AdaptiveModel::new(1024)?, &flow)?;
+/// let bytes = encode_symbols(&mut StepwiseModel::new(1024)?, &flow)?;
 /// assert!(bytes.len() < 400);
 /// let mut back = vec![0; flow.len()];
-/// decode_symbols(&mut AdaptiveModel::new(1024)?, &bytes, &mut back)?;
+/// decode_symbols(&mut StepwiseModel::new(1024)?, &bytes, &mut back)?;
 /// assert_eq!(back, flow);
 /// # Ok(())
 /// # }

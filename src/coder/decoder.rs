@@ -20,10 +20,12 @@
 //! never a panic, and the decoder does no work or allocation the input could
 //! inflate: each call decodes one symbol.
 
-use crate::coder::encoder::TOP;
 use crate::coder::source::{ByteSource, SliceSource};
-use crate::error::{ErrorKind, Result};
-use crate::model::{Model, Span, ESCAPE, MAX_TOTAL};
+use crate::coder::TOP;
+use crate::coder::{Model, Span, ESCAPE, MAX_TOTAL};
+#[cfg(doc)]
+use crate::error::ErrorKind;
+use crate::error::Result;
 
 /// Bytes the decoder may read past the end of its input (as zeros).
 const MAX_PAD: u32 = 4;
@@ -172,10 +174,9 @@ impl<S: ByteSource> Decoder<S> {
                 .checked_add(span.freq)
                 .is_none_or(|end| end > total)
         {
-            return Err(ErrorKind::InvalidModel {
-                reason: "span must have 1 <= freq, cum + freq <= total <= 65536",
-            }
-            .into());
+            return Err(crate::Error::invalid_model(
+                "span must have 1 <= freq, cum + freq <= total <= 65536",
+            ));
         }
         self.narrow(span, total)
     }

@@ -27,12 +27,10 @@
 
 use crate::coder::cost::IdealCost;
 use crate::coder::sink::ByteSink;
+use crate::coder::TOP;
+use crate::coder::{Model, Span, MAX_TOTAL};
 use crate::error::{ErrorKind, Result};
-use crate::model::{Model, Span, MAX_TOTAL};
 use alloc::vec::Vec;
-
-/// Renormalisation threshold: a byte is shifted out while `range < TOP`.
-pub(crate) const TOP: u32 = 1 << 24;
 
 /// A range encoder writing to a [`ByteSink`].
 ///
@@ -44,18 +42,18 @@ pub(crate) const TOP: u32 = 1 << 24;
 ///
 /// ```
 /// use subrange::coder::{Decoder, Encoder};
-/// use subrange::model::AdaptiveModel;
+/// use subrange::model::StepwiseModel;
 ///
 /// # fn main() -> Result<(), subrange::Error> {
 /// let message = [3u32, 1, 4, 1, 5, 9, 2, 6];
-/// let mut model = AdaptiveModel::new(10)?;
+/// let mut model = StepwiseModel::new(10)?;
 /// let mut encoder = Encoder::new();
 /// for &s in &message {
 ///     encoder.encode(&mut model, s)?;
 /// }
 /// let bytes = encoder.finish()?;
 ///
-/// let mut model = AdaptiveModel::new(10)?;
+/// let mut model = StepwiseModel::new(10)?;
 /// let mut decoder = Decoder::new(&bytes)?;
 /// for &s in &message {
 ///     assert_eq!(decoder.decode(&mut model)?, s);
@@ -158,10 +156,9 @@ impl<S: ByteSink> Encoder<S> {
     pub fn encode_span(&mut self, span: Span, total: u32) -> Result<()> {
         let Span { cum, freq } = span;
         if freq == 0 || total > MAX_TOTAL || cum.checked_add(freq).is_none_or(|end| end > total) {
-            return Err(ErrorKind::InvalidModel {
-                reason: "span must have 1 <= freq, cum + freq <= total <= 65536",
-            }
-            .into());
+            return Err(crate::Error::invalid_model(
+                "span must have 1 <= freq, cum + freq <= total <= 65536",
+            ));
         }
         if let Some(meter) = &mut self.meter {
             meter.add(freq, total);
@@ -308,21 +305,7 @@ impl<S: ByteSink> Encoder<S> {
     }
 
     fn flush(&mut self) -> Result<()> {
-        // Choose the value in [low, low + range) with the most trailing zero
-        // bytes: round low up to a multiple of 2^(32 - 8k) for the smallest k
-        // that stays inside the interval (k = 1 always does, as range >= 2^24).
-        let end = self.low + u64::from(self.range);
-        let mut keep = 0u32;
-        let mut value = self.low;
-        for k in 0..=4u32 {
-            let mask = (1u64 << (32 - 8 * k)) - 1;
-            let candidate = (self.low + mask) & !mask;
-            if candidate < end {
-                keep = k;
-                value = candidate;
-                break;
-            }
-        }
+        let (value, keep) = flush_value(self.low, self.range);
         self.low = value;
         for _ in 0..keep {
             self.shift_low()?;
@@ -342,4 +325,21 @@ impl<S: ByteSink> Encoder<S> {
         }
         Ok(())
     }
+}
+
+/// The value a coder ends its stream with, and how many of its top bytes
+/// to write: the value in `[low, low + range)` with the most trailing zero
+/// bytes, `low` rounded up to a multiple of `2^(32 - 8k)` for the smallest
+/// `k` that stays inside the interval (`k = 1` always does, as
+/// `range >= 2^24`). `low` may carry into bit 32; so may the value.
+pub(crate) fn flush_value(low: u64, range: u32) -> (u64, u32) {
+    let end = low + u64::from(range);
+    for k in 0..=4u32 {
+        let mask = (1u64 << (32 - 8 * k)) - 1;
+        let candidate = (low + mask) & !mask;
+        if candidate < end {
+            return (candidate, k);
+        }
+    }
+    (low, 0)
 }

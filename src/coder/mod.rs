@@ -10,10 +10,14 @@
 //! probability for bit-oriented models.
 //!
 //! The [`Decoder`] repeats the encoder's arithmetic and finds each symbol with
-//! the model's [`locate`](crate::model::Model::locate). Every coding decision
+//! the model's [`locate`](Model::locate). Every coding decision
 //! is integer arithmetic, so a stream decodes identically on every platform
 //! (the vector lane decoder estimates a quotient in floating point and then
 //! corrects it to the exact integer; see `decode_table_lanes`).
+//!
+//! The coder defines what it asks of a model: the [`Model`] trait, its
+//! [`Span`]s and limits, and for the lane fast paths the [`LaneTable`]
+//! trait. The models themselves live in the `model` module, the layer above.
 //!
 //! [`IdealCost`] measures `Σ -log2(freq / total)`, the length an ideal coder
 //! would reach with the same model, so coding overhead can be separated from
@@ -22,37 +26,33 @@
 mod cost;
 mod decoder;
 mod encoder;
-mod lane_dec;
-mod lane_enc;
 mod lanes;
-mod refresh_lanes;
+mod model;
 mod sink;
 mod source;
-mod table_lanes;
-#[cfg(target_arch = "x86_64")]
-mod table_simd;
-#[cfg(target_arch = "x86_64")]
-mod table_simd_enc;
-#[cfg(target_arch = "x86_64")]
-mod table_simd_wide;
 
 pub use cost::{log2_q32, IdealCost};
 pub use decoder::Decoder;
 pub use encoder::Encoder;
-#[cfg(feature = "std")]
-pub(crate) use lane_dec::LANE_PAD;
-pub use lanes::{decode_interleaved, encode_interleaved, MAX_LANES};
-pub use refresh_lanes::{decode_refresh_lanes, encode_refresh_lanes};
+pub use lanes::{
+    decode_adaptive_lanes, decode_lanes, decode_table_lanes, encode_adaptive_lanes, encode_lanes,
+    encode_table_lanes, LaneTable, MAX_LANES,
+};
 #[doc(hidden)]
-pub use refresh_lanes::{decode_refresh_lanes_scalar, encode_refresh_lanes_scalar};
+pub use lanes::{
+    decode_adaptive_lanes_scalar, decode_table_lanes_scalar, encode_adaptive_lanes_scalar,
+    encode_table_lanes_scalar,
+};
+#[cfg(feature = "std")]
+pub(crate) use lanes::{encode_counted, LANE_PAD};
+pub use model::{Model, Span, ESCAPE, MAX_ALPHABET, MAX_TOTAL};
 pub use sink::ByteSink;
 #[cfg(feature = "std")]
 pub use sink::IoSink;
 #[cfg(feature = "std")]
 pub use source::IoSource;
 pub use source::{ByteSource, SliceSource};
-#[cfg(feature = "std")]
-pub(crate) use table_lanes::encode_counted;
-pub use table_lanes::{decode_table_lanes, encode_table_lanes};
-#[doc(hidden)]
-pub use table_lanes::{decode_table_lanes_scalar, encode_table_lanes_scalar};
+
+/// Renormalisation threshold of every coder here: a byte is shifted out
+/// while `range < TOP`, so `range >= 2^24` between steps.
+pub(crate) const TOP: u32 = 1 << 24;

@@ -45,10 +45,8 @@ impl ByteSink for Vec<u8> {
     }
 
     fn put_run(&mut self, byte: u8, count: u64) -> Result<()> {
-        let count = usize::try_from(count).map_err(|_| crate::ErrorKind::LimitExceeded {
-            what: "carry run length",
-            declared: count,
-            limit: usize::MAX as u64,
+        let count = usize::try_from(count).map_err(|_| {
+            crate::Error::limit_exceeded("carry run length", count, usize::MAX as u64)
         })?;
         self.resize(self.len() + count, byte);
         Ok(())

@@ -51,6 +51,8 @@
 
 use alloc::vec::Vec;
 
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 use crate::model::{Model, Span, MAX_ALPHABET};
 

@@ -23,6 +23,8 @@ use alloc::vec;
 use alloc::vec::Vec;
 use core::cmp::{Ordering, Reverse};
 
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 
 /// `ln((f + 1) / f)` for `f >= 1` in Q62 fixed point, from

@@ -14,7 +14,7 @@
 use alloc::vec::Vec;
 use bitvec::prelude::{BitSlice, BitVec, Msb0};
 
-use crate::error::{ErrorKind, Result};
+use crate::error::Result;
 
 /// Appends Elias gamma codes to a growing bit vector.
 #[derive(Debug, Default)]
@@ -61,9 +61,10 @@ impl<'a> GammaReader<'a> {
     }
 
     fn bit(&mut self) -> Result<bool> {
-        let b = *self.bits.get(self.pos).ok_or(ErrorKind::CorruptTable {
-            reason: "table ends in the middle of a code",
-        })?;
+        let b = *self
+            .bits
+            .get(self.pos)
+            .ok_or_else(|| crate::Error::corrupt_table("table ends in the middle of a code"))?;
         self.pos += 1;
         Ok(b)
     }

@@ -27,7 +27,7 @@
 //! and kind; then the model's own reader validates its parameters and state.
 //! No reader allocates more than the input justifies.
 //!
-//! Integers inside states use LEB128 (seven bits a byte, least significant
+//! Integers inside states are vints (seven bits a byte, least significant
 //! first, high bit set on all but the last byte — the variable-length
 //! integer of the DWARF standard); readers reject overlong encodings, so each
 //! state has exactly one byte form and therefore one identifier.
@@ -35,7 +35,8 @@
 use alloc::vec::Vec;
 
 use crate::error::{ErrorKind, Result};
-use crate::model::{AdaptiveModel, AdaptiveParams, Model, TableModel, MAX_ALPHABET};
+use crate::model::{Model, StepwiseModel, StepwiseParams, TableModel, MAX_ALPHABET};
+use crate::vint::{put_vint, vint_from_slice, VintError};
 
 /// The first four bytes of every snapshot.
 pub const MAGIC: [u8; 4] = *b"SRsn";
@@ -52,10 +53,6 @@ const CRC_LEN: usize = 4;
 /// Largest state a snapshot may declare: 64 MiB.
 pub const MAX_STATE_LEN: usize = 1 << 26;
 
-pub(crate) fn snapshot_error(reason: &'static str) -> crate::Error {
-    crate::Error::snapshot(reason)
-}
-
 /// A model whose state can be saved in a [`Snapshot`] and restored.
 ///
 /// # Implementer notes
@@ -64,8 +61,8 @@ pub(crate) fn snapshot_error(reason: &'static str) -> crate::Error {
 ///   first its parameters, then its state. Restoring must give a model that
 ///   codes every future symbol exactly as the saved one would (same spans,
 ///   same updates), on every platform — so no floating point, no pointers,
-///   no hash-map iteration order; use fixed-width little-endian or LEB128
-///   integers (see [`write_varint`] and [`read_varint`]).
+///   no hash-map iteration order; use fixed-width little-endian or vint
+///   integers (see [`write_vint`] and [`read_vint`]).
 /// - `read_state` receives exactly the bytes `write_state` wrote (the
 ///   snapshot's checksum has already been verified). It must validate every
 ///   value (parameters in range, model invariants kept), consume all bytes,
@@ -73,14 +70,14 @@ pub(crate) fn snapshot_error(reason: &'static str) -> crate::Error {
 ///   declared count against the bytes left before reserving memory for it.
 ///   Report problems as [`ErrorKind::Snapshot`].
 /// - `KIND` identifies the model type in the snapshot header; it is checked
-///   before `read_state` is called. Kinds in use: 1 [`AdaptiveModel`],
+///   before `read_state` is called. Kinds in use: 1 [`StepwiseModel`],
 ///   2 [`TableModel`], 3 [`ContextModel`](crate::model::ContextModel). A new
 ///   model type takes the next free number.
 ///
 /// # Example
 ///
 /// ```
-/// use subrange::model::snapshot::{read_varint, write_varint, SnapshotState};
+/// use subrange::model::snapshot::{read_vint, write_vint, SnapshotState};
 /// use subrange::model::Snapshot;
 /// use subrange::ErrorKind;
 ///
@@ -91,12 +88,12 @@ pub(crate) fn snapshot_error(reason: &'static str) -> crate::Error {
 /// impl SnapshotState for LastStatus {
 ///     const KIND: u16 = 0x7F01; // a number of our own, outside the crate's range
 ///     fn write_state(&self, out: &mut Vec<u8>) {
-///         write_varint(out, self.0);
+///         write_vint(out, self.0);
 ///     }
 ///     fn read_state(mut state: &[u8]) -> Result<Self, subrange::Error> {
-///         let status = read_varint(&mut state)?;
+///         let status = read_vint(&mut state)?;
 ///         if !state.is_empty() || status > 15 {
-///             return Err(crate::Error::snapshot("bad status state"));
+///             return Err(ErrorKind::Snapshot { reason: "bad status state" }.into());
 ///         }
 ///         Ok(LastStatus(status))
 ///     }
@@ -130,11 +127,11 @@ pub trait SnapshotState: Sized {
 /// # Example
 ///
 /// ```
-/// use subrange::model::{AdaptiveModel, Model, Snapshot};
+/// use subrange::model::{StepwiseModel, Model, Snapshot};
 ///
 /// # fn main() -> Result<(), subrange::Error> {
 /// // Train on yesterday's frames, save, and restore on the other side.
-/// let mut model = AdaptiveModel::new(256)?;
+/// let mut model = StepwiseModel::new(256)?;
 /// for &b in b"1042 231 45.67 12.3\n1042 232 45.90 12.3\n" {
 ///     model.update(b.into());
 /// }
@@ -143,7 +140,7 @@ pub trait SnapshotState: Sized {
 ///
 /// let loaded = Snapshot::from_bytes(&bytes)?;
 /// assert_eq!(loaded.id(), snapshot.id());
-/// let restored: AdaptiveModel = loaded.restore()?;
+/// let restored: StepwiseModel = loaded.restore()?;
 /// assert_eq!(restored, model);
 /// # Ok(())
 /// # }
@@ -196,10 +193,10 @@ impl Snapshot {
     /// [`MAX_STATE_LEN`] (checked before anything is copied).
     ///
     /// ```
-    /// use subrange::model::{AdaptiveModel, Snapshot};
+    /// use subrange::model::{StepwiseModel, Snapshot};
     /// use subrange::ErrorKind;
     ///
-    /// let snapshot = Snapshot::capture(&AdaptiveModel::new(16).unwrap()).unwrap();
+    /// let snapshot = Snapshot::capture(&StepwiseModel::new(16).unwrap()).unwrap();
     /// let mut damaged = snapshot.as_bytes().to_vec();
     /// damaged[14] ^= 1;
     /// let err = Snapshot::from_bytes(&damaged).unwrap_err();
@@ -207,18 +204,22 @@ impl Snapshot {
     /// ```
     pub fn from_bytes(bytes: &[u8]) -> Result<Self> {
         if bytes.len() < 4 || bytes[..4] != MAGIC {
-            return Err(snapshot_error(
+            return Err(crate::Error::snapshot(
                 "not a model snapshot (magic number missing)",
             ));
         }
         if bytes.len() < HEADER_LEN + CRC_LEN {
-            return Err(snapshot_error("snapshot is shorter than its header"));
+            return Err(crate::Error::snapshot(
+                "snapshot is shorter than its header",
+            ));
         }
         if bytes[4] != VERSION {
-            return Err(snapshot_error("unsupported snapshot version"));
+            return Err(crate::Error::snapshot("unsupported snapshot version"));
         }
         if bytes[5] != 0 {
-            return Err(snapshot_error("reserved snapshot header byte is set"));
+            return Err(crate::Error::snapshot(
+                "reserved snapshot header byte is set",
+            ));
         }
         let declared = u32::from_le_bytes([bytes[8], bytes[9], bytes[10], bytes[11]]);
         if declared as usize > MAX_STATE_LEN {
@@ -229,12 +230,14 @@ impl Snapshot {
             ));
         }
         if bytes.len() - HEADER_LEN - CRC_LEN != declared as usize {
-            return Err(snapshot_error("snapshot length does not match its header"));
+            return Err(crate::Error::snapshot(
+                "snapshot length does not match its header",
+            ));
         }
         let (body, crc) = bytes.split_at(bytes.len() - CRC_LEN);
         let recorded = u32::from_le_bytes([crc[0], crc[1], crc[2], crc[3]]);
         if crc32fast::hash(body) != recorded {
-            return Err(snapshot_error(
+            return Err(crate::Error::snapshot(
                 "snapshot checksum mismatch (damaged snapshot)",
             ));
         }
@@ -283,39 +286,38 @@ impl Snapshot {
     /// model, or the model's reader rejects the state.
     ///
     /// ```
-    /// use subrange::model::{AdaptiveModel, Snapshot, TableModel};
+    /// use subrange::model::{StepwiseModel, Snapshot, TableModel};
     ///
-    /// let snapshot = Snapshot::capture(&AdaptiveModel::new(8).unwrap()).unwrap();
-    /// assert!(snapshot.restore::<AdaptiveModel>().is_ok());
+    /// let snapshot = Snapshot::capture(&StepwiseModel::new(8).unwrap()).unwrap();
+    /// assert!(snapshot.restore::<StepwiseModel>().is_ok());
     /// assert!(snapshot.restore::<TableModel>().is_err()); // another kind
     /// ```
     pub fn restore<M: SnapshotState>(&self) -> Result<M> {
         if self.kind() != M::KIND {
-            return Err(snapshot_error("snapshot holds a different kind of model"));
+            return Err(crate::Error::snapshot(
+                "snapshot holds a different kind of model",
+            ));
         }
         M::read_state(self.state())
     }
 }
 
-/// Appends `value` as LEB128 (one to five bytes).
+/// Appends `value` as a vint (LEB128, one to five bytes; the container's
+/// integer code, `docs/FORMAT.md`).
 ///
 /// ```
-/// use subrange::model::snapshot::write_varint;
+/// use subrange::model::snapshot::write_vint;
 ///
 /// let mut out = Vec::new();
 /// // DWARF 4, section 7.6, figure 22 (from memory): 12857 is B9 64.
-/// write_varint(&mut out, 12_857);
+/// write_vint(&mut out, 12_857);
 /// assert_eq!(out, [0xB9, 0x64]);
 /// ```
-pub fn write_varint(out: &mut Vec<u8>, mut value: u32) {
-    while value >= 0x80 {
-        out.push(value as u8 | 0x80);
-        value >>= 7;
-    }
-    out.push(value as u8);
+pub fn write_vint(out: &mut Vec<u8>, value: u32) {
+    put_vint(out, u64::from(value));
 }
 
-/// Reads one LEB128 value from the front of `input` and advances it.
+/// Reads one vint from the front of `input` and advances it.
 ///
 /// # Errors
 ///
@@ -323,65 +325,54 @@ pub fn write_varint(out: &mut Vec<u8>, mut value: u32) {
 /// does not fit in a `u32`, or the encoding is longer than needed.
 ///
 /// ```
-/// use subrange::model::snapshot::read_varint;
+/// use subrange::model::snapshot::read_vint;
 ///
 /// // DWARF 4, section 7.6, figure 22 (from memory): 81 01 is 129.
 /// let mut input: &[u8] = &[0x81, 0x01, 0x07];
-/// assert_eq!(read_varint(&mut input).unwrap(), 129);
+/// assert_eq!(read_vint(&mut input).unwrap(), 129);
 /// assert_eq!(input, &[0x07]);
-/// assert!(read_varint(&mut &[0x80u8, 0x00][..]).is_err()); // overlong zero
+/// assert!(read_vint(&mut &[0x80u8, 0x00][..]).is_err()); // overlong zero
 /// ```
-pub fn read_varint(input: &mut &[u8]) -> Result<u32> {
-    let mut value = 0u32;
-    for i in 0..5 {
-        let Some((&byte, rest)) = input.split_first() else {
-            return Err(snapshot_error("state ends inside a number"));
-        };
-        *input = rest;
-        let bits = u32::from(byte & 0x7F);
-        if i == 4 && bits > 0x0F {
-            return Err(snapshot_error("number in the state is too large"));
-        }
-        value |= bits << (7 * i);
-        if byte & 0x80 == 0 {
-            if byte == 0 && i > 0 {
-                return Err(snapshot_error("overlong number in the state"));
-            }
-            return Ok(value);
-        }
-    }
-    Err(snapshot_error("number in the state is too large"))
+pub fn read_vint(input: &mut &[u8]) -> Result<u32> {
+    let (value, len) = vint_from_slice(input).map_err(|e| match e {
+        VintError::Truncated => crate::Error::snapshot("state ends inside a number"),
+        VintError::Malformed => crate::Error::snapshot("malformed number in the state"),
+    })?;
+    let value = u32::try_from(value)
+        .map_err(|_| crate::Error::snapshot("number in the state is too large"))?;
+    *input = &input[len..];
+    Ok(value)
 }
 
-/// State layout of an [`AdaptiveModel`] (kind 1): LEB128 alphabet size,
+/// State layout of an [`StepwiseModel`] (kind 1): vint alphabet size,
 /// increment and limit; one byte for the escape setting (0 chosen by the
-/// model, 1 off, 2 on); then every frequency as LEB128, the escape's last
-/// (see [`AdaptiveModel::frequencies`]).
-impl SnapshotState for AdaptiveModel {
+/// model, 1 off, 2 on); then every frequency as a vint, the escape's last
+/// (see [`StepwiseModel::frequencies`]).
+impl SnapshotState for StepwiseModel {
     const KIND: u16 = 1;
 
     fn write_state(&self, out: &mut Vec<u8>) {
         let params = self.params();
-        write_varint(out, self.alphabet_size());
-        write_varint(out, params.increment);
-        write_varint(out, params.limit);
+        write_vint(out, self.alphabet_size());
+        write_vint(out, params.increment);
+        write_vint(out, params.limit);
         out.push(match params.escape {
             None => 0,
             Some(false) => 1,
             Some(true) => 2,
         });
         for &f in self.frequencies() {
-            write_varint(out, f);
+            write_vint(out, f);
         }
     }
 
     fn read_state(mut state: &[u8]) -> Result<Self> {
         let input = &mut state;
-        let alphabet = read_varint(input)?;
-        let increment = read_varint(input)?;
-        let limit = read_varint(input)?;
+        let alphabet = read_vint(input)?;
+        let increment = read_vint(input)?;
+        let limit = read_vint(input)?;
         let Some((&escape, rest)) = input.split_first() else {
-            return Err(snapshot_error("adaptive model state ends early"));
+            return Err(crate::Error::snapshot("adaptive model state ends early"));
         };
         *input = rest;
         let escape = match escape {
@@ -389,18 +380,18 @@ impl SnapshotState for AdaptiveModel {
             1 => Some(false),
             2 => Some(true),
             _ => {
-                return Err(snapshot_error(
+                return Err(crate::Error::snapshot(
                     "adaptive model state has a bad escape setting",
                 ))
             }
         };
-        let params = AdaptiveParams {
+        let params = StepwiseParams {
             increment,
             limit,
             escape,
         };
         if alphabet == 0 || alphabet > MAX_ALPHABET {
-            return Err(snapshot_error(
+            return Err(crate::Error::snapshot(
                 "adaptive model state has a bad alphabet size",
             ));
         }
@@ -408,18 +399,20 @@ impl SnapshotState for AdaptiveModel {
         // the input before making it.
         let entries = alphabet as usize + 1;
         if input.len() < entries - 1 {
-            return Err(snapshot_error("adaptive model state ends early"));
+            return Err(crate::Error::snapshot("adaptive model state ends early"));
         }
         let mut freq = Vec::with_capacity(entries.min(input.len()));
         while !input.is_empty() {
             if freq.len() == entries {
-                return Err(snapshot_error("adaptive model state has trailing bytes"));
+                return Err(crate::Error::snapshot(
+                    "adaptive model state has trailing bytes",
+                ));
             }
-            freq.push(read_varint(input)?);
+            freq.push(read_vint(input)?);
         }
-        AdaptiveModel::from_frequencies(alphabet, params, &freq).map_err(|e| match e.kind() {
+        StepwiseModel::from_frequencies(alphabet, params, &freq).map_err(|e| match e.kind() {
             ErrorKind::InvalidParameter { .. } => {
-                snapshot_error("adaptive model state has invalid parameters or frequencies")
+                crate::Error::snapshot("adaptive model state has invalid parameters or frequencies")
             }
             _ => e,
         })
@@ -439,12 +432,14 @@ impl SnapshotState for TableModel {
         let (table, used) =
             TableModel::from_table_bytes(state, MAX_ALPHABET).map_err(|e| match e.kind() {
                 ErrorKind::CorruptTable { .. } | ErrorKind::LimitExceeded { .. } => {
-                    snapshot_error("table model state is not a valid table")
+                    crate::Error::snapshot("table model state is not a valid table")
                 }
                 _ => e,
             })?;
         if used != state.len() {
-            return Err(snapshot_error("table model state has trailing bytes"));
+            return Err(crate::Error::snapshot(
+                "table model state has trailing bytes",
+            ));
         }
         Ok(table)
     }
@@ -458,26 +453,26 @@ mod tests {
     fn varint_round_trip_and_bounds() {
         for v in [0u32, 1, 127, 128, 16_383, 16_384, 65_536, u32::MAX] {
             let mut out = Vec::new();
-            write_varint(&mut out, v);
+            write_vint(&mut out, v);
             let mut input = &out[..];
-            assert_eq!(read_varint(&mut input).unwrap(), v);
+            assert_eq!(read_vint(&mut input).unwrap(), v);
             assert!(input.is_empty());
         }
         // 2^32 does not fit; six-byte encodings never do.
-        assert!(read_varint(&mut &[0x80u8, 0x80, 0x80, 0x80, 0x10][..]).is_err());
-        assert!(read_varint(&mut &[0xFFu8, 0xFF, 0xFF, 0xFF, 0xFF, 0x01][..]).is_err());
-        assert!(read_varint(&mut &[0x80u8][..]).is_err());
+        assert!(read_vint(&mut &[0x80u8, 0x80, 0x80, 0x80, 0x10][..]).is_err());
+        assert!(read_vint(&mut &[0xFFu8, 0xFF, 0xFF, 0xFF, 0xFF, 0x01][..]).is_err());
+        assert!(read_vint(&mut &[0x80u8][..]).is_err());
     }
 
     #[test]
     fn adaptive_state_round_trip_all_stores() {
         for alphabet in [1u32, 16, 17, 256, 40_000] {
-            let mut m = AdaptiveModel::new(alphabet).unwrap();
+            let mut m = StepwiseModel::new(alphabet).unwrap();
             for i in 0..5000u32 {
                 m.update(i.wrapping_mul(2_654_435_761) % alphabet);
             }
             let snap = Snapshot::capture(&m).unwrap();
-            let back: AdaptiveModel = Snapshot::from_bytes(snap.as_bytes())
+            let back: StepwiseModel = Snapshot::from_bytes(snap.as_bytes())
                 .unwrap()
                 .restore()
                 .unwrap();
@@ -490,12 +485,12 @@ mod tests {
     fn state_allocation_is_bounded_by_input() {
         // Declares 65,536 symbols but carries two bytes of frequencies.
         let mut state = Vec::new();
-        write_varint(&mut state, 65_536);
-        write_varint(&mut state, 24);
-        write_varint(&mut state, 65_536);
+        write_vint(&mut state, 65_536);
+        write_vint(&mut state, 24);
+        write_vint(&mut state, 65_536);
         state.push(0);
         state.extend_from_slice(&[1, 1]);
-        let err = AdaptiveModel::read_state(&state).unwrap_err();
+        let err = StepwiseModel::read_state(&state).unwrap_err();
         assert!(matches!(err.kind(), ErrorKind::Snapshot { .. }));
     }
 }

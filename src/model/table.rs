@@ -16,7 +16,10 @@
 use alloc::vec;
 use alloc::vec::Vec;
 
-use crate::error::{ErrorKind, Result};
+use crate::coder::LaneTable;
+#[cfg(doc)]
+use crate::error::ErrorKind;
+use crate::error::Result;
 use crate::model::quantize::quantize_counts;
 use crate::model::serial::{GammaReader, GammaWriter};
 use crate::model::{Model, Span, MAX_ALPHABET};
@@ -99,11 +102,10 @@ impl TableModel {
     pub fn from_probabilities(probabilities: &[f64], log2_total: u32) -> Result<Self> {
         let max = probabilities.iter().cloned().fold(0.0f64, f64::max);
         if probabilities.iter().any(|p| !p.is_finite() || *p < 0.0) || max <= 0.0 {
-            return Err(ErrorKind::InvalidParameter {
-                name: "probabilities",
-                reason: "weights must be finite, non-negative and not all zero",
-            }
-            .into());
+            return Err(crate::Error::invalid_parameter(
+                "probabilities",
+                "weights must be finite, non-negative and not all zero",
+            ));
         }
         let scale = (1u64 << 40) as f64 / max;
         let counts: Vec<u64> = probabilities
@@ -297,9 +299,22 @@ impl Model for TableModel {
     }
 }
 
+impl LaneTable for TableModel {
+    fn frequencies(&self) -> &[u32] {
+        self.frequencies()
+    }
+    fn cumulative(&self) -> &[u32] {
+        self.cumulative()
+    }
+    fn log2_total(&self) -> u32 {
+        self.log2_total()
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::error::ErrorKind;
 
     #[test]
     fn locate_inverts_span() {

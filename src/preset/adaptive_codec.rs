@@ -1,4 +1,4 @@
-//! The `adaptive` preset's block codec: a [`RefreshModel`] over the bytes
+//! The `adaptive` preset's block codec: a [`AdaptiveModel`] over the bytes
 //! of the block, started afresh at every block, over interleaved lanes.
 //!
 //! The encoder first reads the block once: its set of byte values (only
@@ -6,7 +6,7 @@
 //! model over the block's segments with one histogram each, the exact ideal
 //! cost of coding it — a block that cannot come out shorter than it is is
 //! stored without being coded. Otherwise the block is coded a segment at a
-//! time with [`encode_refresh_lanes`] over `n` lanes, `n` being the `lanes`
+//! time with [`encode_adaptive_lanes`] over `n` lanes, `n` being the `lanes`
 //! parameter reduced so that every lane has at least 1 KiB.
 //!
 //! Payload: `lanes: u8`, the byte set (below), `lanes - 1` lane lengths as
@@ -23,9 +23,9 @@
 
 use alloc::vec::Vec;
 
-use crate::coder::{decode_refresh_lanes, encode_refresh_lanes, log2_q32, IdealCost};
+use crate::coder::{decode_adaptive_lanes, encode_adaptive_lanes, log2_q32, IdealCost};
 use crate::error::{ErrorKind, Result};
-use crate::model::{RefreshModel, RefreshParams};
+use crate::model::{AdaptiveModel, AdaptiveParams};
 use crate::preset::corrupt;
 use crate::preset::lanes::{put_lanes, read_lanes};
 use crate::vint::Cursor;
@@ -39,8 +39,8 @@ const LANE_MIN_BYTES: usize = 1024;
 /// Byte sets of fewer values than this are listed, larger ones mapped.
 const LIST_MAX: usize = 31;
 
-fn refresh_params(params: &[u32]) -> RefreshParams {
-    RefreshParams {
+fn refresh_params(params: &[u32]) -> AdaptiveParams {
+    AdaptiveParams {
         log2_total: params[1],
         first_period: FIRST_PERIOD,
         max_period: params[2],
@@ -109,12 +109,12 @@ fn read_byte_set(cur: &mut Cursor<'_>) -> Result<[bool; 256]> {
 
 /// Checks that the parameters fit together (the model's own rules).
 pub(crate) fn check(params: &[u32]) -> Result<()> {
-    RefreshModel::with_params(256, refresh_params(params)).map(drop)
+    AdaptiveModel::with_params(256, refresh_params(params)).map(drop)
 }
 
 /// The model's cost of `raw`, segment by segment, without coding it.
 fn cost(raw: &[u8], params: &[u32]) -> Result<IdealCost> {
-    let mut model = RefreshModel::with_symbols(&byte_set(raw), refresh_params(params))?;
+    let mut model = AdaptiveModel::with_symbols(&byte_set(raw), refresh_params(params))?;
     let shift = model.log2_total();
     let mut cost = IdealCost::new();
     let mut rest = raw;
@@ -142,8 +142,8 @@ pub(crate) fn encode(raw: &[u8], params: &[u32]) -> Result<Vec<u8>> {
 /// [`encode`] with the block's byte set already known.
 fn encode_with_set(raw: &[u8], params: &[u32], set: &[bool; 256]) -> Result<Vec<u8>> {
     let lanes = lanes_for(raw.len(), params[0]);
-    let mut model = RefreshModel::with_symbols(set, refresh_params(params))?;
-    let streams = encode_refresh_lanes(&mut model, raw, lanes)?;
+    let mut model = AdaptiveModel::with_symbols(set, refresh_params(params))?;
+    let streams = encode_adaptive_lanes(&mut model, raw, lanes)?;
     let coded: usize = streams.iter().map(Vec::len).sum();
     let mut out = Vec::with_capacity(coded + 34 + 8 * lanes);
     out.push(lanes as u8);
@@ -194,10 +194,10 @@ pub(crate) fn decode(payload: &[u8], params: &[u32], out: &mut [u8]) -> Result<(
         return Err(corrupt(0, "lane count outside 1 ..= the preset's lanes"));
     }
     let set = read_byte_set(&mut cur)?;
-    let mut model = RefreshModel::with_symbols(&set, refresh_params(params))
+    let mut model = AdaptiveModel::with_symbols(&set, refresh_params(params))
         .map_err(|_| corrupt(1, "byte set does not fit the table total"))?;
     let views = read_lanes(&mut cur, usize::from(lanes))?;
-    decode_refresh_lanes(&mut model, &views, out).map_err(|e| match e.kind() {
+    decode_adaptive_lanes(&mut model, &views, out).map_err(|e| match e.kind() {
         ErrorKind::InvalidParameter { .. } => corrupt(0, "lane count"),
         _ => e,
     })

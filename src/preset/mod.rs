@@ -8,15 +8,15 @@
 //! - `static` (id 1): per block, a [`TableModel`](crate::model::TableModel)
 //!   quantised from the block's byte histogram; the table is stored in the
 //!   block and the bytes are coded over interleaved lanes
-//!   ([`encode_interleaved`](crate::coder::encode_interleaved)). Fast in both
+//!   ([`encode_lanes`](crate::coder::encode_lanes)). Fast in both
 //!   directions; wins on memoryless, skewed data.
-//! - `adaptive` (id 5): a [`RefreshModel`](crate::model::RefreshModel)
+//! - `adaptive` (id 5): a [`AdaptiveModel`](crate::model::AdaptiveModel)
 //!   over the block's byte values, restarted at every block: its table is
 //!   rebuilt from the counts at growing intervals, and each stretch between
 //!   rebuilds is coded over interleaved lanes like a `static` block. No table
 //!   to store, follows drifting statistics, nearly as fast as `static`.
 //! - `stepwise` (id 2), kept for reading: an
-//!   [`AdaptiveModel`](crate::model::AdaptiveModel) over 256 symbols,
+//!   [`StepwiseModel`](crate::model::StepwiseModel) over 256 symbols,
 //!   restarted at every block, updated after every byte, one coder lane.
 //!   Containers that use it (preset id 2) decode, and [`Preset::new`] still writes it, but it is not offered
 //!   among the presets ([`PresetKind::ALL`], the command line): `adaptive`

@@ -4,7 +4,7 @@
 //!
 //! Every byte value starts with count 1; after each coded byte its count
 //! grows by `increment`, and when the total would pass `limit` all counts are
-//! halved first (rounding up), as [`AdaptiveModel`] does with its escape
+//! halved first (rounding up), as [`StepwiseModel`] does with its escape
 //! turned off. Nothing but the parameters is needed to rebuild the model, so
 //! the payload is one range-coded stream.
 //!
@@ -17,15 +17,15 @@ use alloc::vec::Vec;
 
 use crate::coder::{Decoder, Encoder};
 use crate::error::Result;
-use crate::model::{AdaptiveModel, AdaptiveParams};
+use crate::model::{StepwiseModel, StepwiseParams};
 
-fn model(params: &[u32]) -> Result<AdaptiveModel> {
-    let p = AdaptiveParams {
+fn model(params: &[u32]) -> Result<StepwiseModel> {
+    let p = StepwiseParams {
         increment: params[0],
         limit: params[1],
         escape: Some(false),
     };
-    AdaptiveModel::with_params(256, p)
+    StepwiseModel::with_params(256, p)
 }
 
 /// Checks that `increment` and `limit` fit together.

@@ -1,4 +1,4 @@
-//! Seeded synthetic data for the strong-model tests and benches.
+//! Seeded synthetic data for the context-mixing tests and benches.
 //!
 //! Demo data from the project's scenario: river-gauging stations sending
 //! water level, flow and temperature readings (telemetry records), and

@@ -1,7 +1,7 @@
 //! proptest strategies for models with valid, arbitrary parameters.
 
 use proptest::prelude::*;
-use subrange::model::{AdaptiveModel, AdaptiveParams, TableModel};
+use subrange::model::{StepwiseModel, StepwiseParams, TableModel};
 
 /// Alphabet sizes across the whole valid range, weighted towards the
 /// boundaries where the model changes storage or needs its escape.
@@ -21,7 +21,7 @@ pub fn alphabet() -> impl Strategy<Value = u32> {
 /// with it), escape forced on, forced off or left to the model.
 pub fn adaptive_model(
     alphabet: impl Strategy<Value = u32>,
-) -> impl Strategy<Value = AdaptiveModel> {
+) -> impl Strategy<Value = StepwiseModel> {
     (alphabet, 0u8..3, 0u32..8192, any::<u32>()).prop_map(
         |(alphabet, mode, inc_seed, limit_seed)| {
             let no_escape_room = 65_535u32.saturating_sub(alphabet) / 4;
@@ -35,16 +35,16 @@ pub fn adaptive_model(
                 Some(false) => alphabet + 1 + 4 * inc,
                 _ => 2 + 4 * inc,
             };
-            let mut p = AdaptiveParams::default();
+            let mut p = StepwiseParams::default();
             p.increment = inc;
             p.limit = need + limit_seed % (65_536 - need + 1);
             p.escape = escape;
-            AdaptiveModel::with_params(alphabet, p)
+            StepwiseModel::with_params(alphabet, p)
                 .or_else(|_| {
                     // Left to itself the model chose no escape, and this limit is too
                     // small for that; ask for the escape instead.
                     p.escape = Some(true);
-                    AdaptiveModel::with_params(alphabet, p)
+                    StepwiseModel::with_params(alphabet, p)
                 })
                 .expect("parameters within the documented range")
         },
@@ -91,11 +91,11 @@ pub fn power_of_two_frequencies(max_alphabet: usize) -> impl Strategy<Value = Ve
         })
 }
 
-/// A [`RefreshModel`](subrange::model::RefreshModel) of any valid shape:
+/// A [`AdaptiveModel`](subrange::model::AdaptiveModel) of any valid shape:
 /// alphabet 1 ..= 256, some symbols excluded, short and long segments, slow
 /// and fast forgetting, small and large totals.
-pub fn refresh_model() -> impl Strategy<Value = subrange::model::RefreshModel> {
-    use subrange::model::{RefreshModel, RefreshParams};
+pub fn refresh_model() -> impl Strategy<Value = subrange::model::AdaptiveModel> {
+    use subrange::model::{AdaptiveModel, AdaptiveParams};
     (
         1usize..=256,
         any::<u64>(),
@@ -112,12 +112,12 @@ pub fn refresh_model() -> impl Strategy<Value = subrange::model::RefreshModel> {
                 let codable: Vec<bool> = (0..n)
                     .map(|s| s == 0 || mask & 1 == 0 || mask >> (s % 64) & 1 == 1)
                     .collect();
-                let mut p = RefreshParams::default();
+                let mut p = AdaptiveParams::default();
                 p.log2_total = k;
                 p.first_period = first;
                 p.max_period = first + extra;
                 p.limit = limit;
-                RefreshModel::with_symbols(&codable, p).ok()
+                AdaptiveModel::with_symbols(&codable, p).ok()
             },
         )
 }

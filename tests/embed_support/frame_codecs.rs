@@ -10,8 +10,8 @@
 
 use flate2::{Compress, Compression, Decompress, FlushCompress, FlushDecompress};
 use subrange::coder::Encoder;
-use subrange::model::snapshot::write_varint;
-use subrange::model::{AdaptiveModel, ContextModel, ContextParams, Model, Snapshot};
+use subrange::model::snapshot::write_vint;
+use subrange::model::{ContextModel, ContextParams, Model, Snapshot, StepwiseModel};
 
 /// Deflate's window: a preset dictionary longer than this is useless.
 pub const DICTIONARY_LEN: usize = 32 * 1024;
@@ -26,7 +26,7 @@ pub fn training_sample(frames: &[Vec<u8>]) -> Vec<u8> {
 
 /// Trains a 256-symbol adaptive model on `sample` and snapshots it.
 pub fn primed_snapshot(sample: &[u8]) -> Snapshot {
-    let mut model = AdaptiveModel::new(256).unwrap();
+    let mut model = StepwiseModel::new(256).unwrap();
     for &b in sample {
         model.update(b.into());
     }
@@ -43,8 +43,8 @@ pub fn primed_context_snapshot(sample: &[u8]) -> Snapshot {
 /// A frame coded from a cold adaptive model: length, then coded bytes.
 pub fn cold_frame(data: &[u8]) -> Vec<u8> {
     let mut out = Vec::new();
-    write_varint(&mut out, data.len() as u32);
-    let mut model = AdaptiveModel::new(256).unwrap();
+    write_vint(&mut out, data.len() as u32);
+    let mut model = StepwiseModel::new(256).unwrap();
     let mut enc = Encoder::with_sink(out);
     for &b in data {
         enc.encode(&mut model, b.into()).unwrap();

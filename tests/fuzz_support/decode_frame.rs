@@ -27,7 +27,7 @@ use std::fmt::Debug;
 use std::sync::OnceLock;
 
 use subrange::model::{
-    AdaptiveModel, ContextModel, ContextParams, Model, Snapshot, SnapshotState, TableModel,
+    ContextModel, ContextParams, Model, Snapshot, SnapshotState, StepwiseModel, TableModel,
     MAX_CONTEXT_LIMIT,
 };
 use subrange::prime::{decode_message, encode_message, frame_snapshot_id, Primer};
@@ -64,7 +64,7 @@ fn gauge_text() -> Vec<u8> {
 
 /// A built-in snapshot's model, restored once.
 enum BuiltIn {
-    Adaptive(Primer<AdaptiveModel>),
+    Adaptive(Primer<StepwiseModel>),
     Table(Primer<TableModel>),
     Context(Primer<ContextModel>),
 }
@@ -93,7 +93,7 @@ fn built_in() -> &'static [BuiltIn; 3] {
     static MODELS: OnceLock<[BuiltIn; 3]> = OnceLock::new();
     MODELS.get_or_init(|| {
         let text = gauge_text();
-        let mut adaptive = AdaptiveModel::new(256).expect("valid alphabet");
+        let mut adaptive = StepwiseModel::new(256).expect("valid alphabet");
         for &b in &text {
             adaptive.update(b.into());
         }
@@ -145,7 +145,7 @@ fn round_trip(pick: u8, sample: &[u8], message: &[u8]) {
         model.train(sample);
         check_primed(&model, message);
     } else {
-        let mut model = AdaptiveModel::new(256).expect("valid alphabet");
+        let mut model = StepwiseModel::new(256).expect("valid alphabet");
         for &b in sample {
             model.update(b.into());
         }

@@ -2,11 +2,11 @@
 //! bounded number of symbols: errors are fine, panics and hangs are not.
 
 use subrange::coder::{
-    decode_refresh_lanes, decode_refresh_lanes_scalar, decode_table_lanes,
+    decode_adaptive_lanes, decode_adaptive_lanes_scalar, decode_table_lanes,
     decode_table_lanes_scalar, Decoder,
 };
 use subrange::model::{
-    AdaptiveModel, AdaptiveParams, Model, RefreshModel, RefreshParams, TableModel,
+    AdaptiveModel, AdaptiveParams, Model, StepwiseModel, StepwiseParams, TableModel,
 };
 
 /// Runs every check on one input; panics on the first broken promise.
@@ -33,14 +33,14 @@ pub fn check(data: &[u8]) {
     let log2_total = [8, 10, 12, 12, 13, 14, 15, 16][usize::from(mode >> 5)];
     let table = TableModel::from_counts(&counts, log2_total).ok();
 
-    let mut params = AdaptiveParams::default();
+    let mut params = StepwiseParams::default();
     params.increment = 1 + u32::from(mode >> 4);
     params.escape = Some(mode & 1 == 1);
-    let adaptive = AdaptiveModel::with_params(alphabet, params).ok();
+    let adaptive = StepwiseModel::with_params(alphabet, params).ok();
 
     // A refreshed model over the bytes the table leaves codable (or all of
     // them), with short segments and fast forgetting from the mode bits.
-    let mut refresh_params = RefreshParams::default();
+    let mut refresh_params = AdaptiveParams::default();
     refresh_params.log2_total = log2_total.max(8);
     refresh_params.first_period = 1 + u32::from(mode & 0x1F);
     refresh_params.max_period = 32 + u32::from(mode) * 4;
@@ -51,7 +51,7 @@ pub fn check(data: &[u8]) {
             .collect(),
         None => vec![true; 256],
     };
-    let refresh = RefreshModel::with_symbols(&codable, refresh_params).ok();
+    let refresh = AdaptiveModel::with_symbols(&codable, refresh_params).ok();
 
     let Ok(mut dec) = Decoder::new(stream) else {
         return;
@@ -103,14 +103,14 @@ pub fn check(data: &[u8]) {
         if let Some(m) = refresh.as_ref() {
             let mut fast_model = m.clone();
             let fast =
-                decode_refresh_lanes(&mut fast_model, &views, &mut out).map_err(|e| e.to_string());
+                decode_adaptive_lanes(&mut fast_model, &views, &mut out).map_err(|e| e.to_string());
             let mut slow_model = m.clone();
-            let slow = decode_refresh_lanes_scalar(&mut slow_model, &views, &mut reference)
+            let slow = decode_adaptive_lanes_scalar(&mut slow_model, &views, &mut reference)
                 .map_err(|e| e.to_string());
-            assert_eq!(fast, slow, "vector and scalar refreshed lanes disagree");
+            assert_eq!(fast, slow, "vector and scalar adaptive lanes disagree");
             assert!(
                 out == reference,
-                "vector and scalar refreshed lanes wrote different bytes"
+                "vector and scalar adaptive lanes wrote different bytes"
             );
         }
     }

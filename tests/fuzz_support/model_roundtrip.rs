@@ -28,11 +28,11 @@
 //! escape setting stays reachable.
 
 use subrange::coder::{
-    decode_refresh_lanes, decode_table_lanes, encode_refresh_lanes, encode_refresh_lanes_scalar,
+    decode_adaptive_lanes, decode_table_lanes, encode_adaptive_lanes, encode_adaptive_lanes_scalar,
     encode_table_lanes, encode_table_lanes_scalar, Decoder, Encoder,
 };
 use subrange::model::{
-    AdaptiveModel, AdaptiveParams, Model, RefreshModel, RefreshParams, TableModel, MAX_TOTAL,
+    AdaptiveModel, AdaptiveParams, Model, StepwiseModel, StepwiseParams, TableModel, MAX_TOTAL,
 };
 
 /// Symbol updates one input may cost in adaptive model creation and
@@ -41,8 +41,8 @@ pub const WORK: u64 = 1 << 18;
 
 /// The adaptive model's parameters from the setup bytes, or `None` when
 /// they cannot fit together.
-fn adaptive_params(head: &[u8; 8], alphabet: u32) -> Option<AdaptiveParams> {
-    let mut params = AdaptiveParams::default();
+fn adaptive_params(head: &[u8; 8], alphabet: u32) -> Option<StepwiseParams> {
+    let mut params = StepwiseParams::default();
     params.increment = 1 + u32::from(head[4]) % 64;
     params.escape = match head[5] & 3 {
         0 => Some(false),
@@ -50,7 +50,7 @@ fn adaptive_params(head: &[u8; 8], alphabet: u32) -> Option<AdaptiveParams> {
         _ => None,
     };
     if head[7] >= 128 {
-        // The least limit the model accepts (`AdaptiveModel::with_params`),
+        // The least limit the model accepts (`StepwiseModel::with_params`),
         // up to the largest.
         let escape = params
             .escape
@@ -83,18 +83,18 @@ pub fn check(data: &[u8]) {
     let Ok(mut table) = TableModel::from_counts(&counts, log2_total) else {
         return;
     };
-    let Ok(mut adaptive) = AdaptiveModel::with_params(alphabet, params) else {
+    let Ok(mut adaptive) = StepwiseModel::with_params(alphabet, params) else {
         return;
     };
     // A refreshed model over up to 256 symbols, short segments and fast
     // forgetting drawn from bits 2-7 of byte 5 and from byte 4.
-    let mut refresh_params = RefreshParams::default();
+    let mut refresh_params = AdaptiveParams::default();
     refresh_params.log2_total = 8 + u32::from(head[5] >> 2 & 3) * 2;
     refresh_params.first_period = 1 + u32::from(head[5] >> 4 & 3) * 8;
     refresh_params.max_period = refresh_params.first_period + u32::from(head[5] >> 6) * 64;
     refresh_params.limit = 1 + u32::from(head[4]) * 16;
     let refresh_alphabet = alphabet.min(256);
-    let Ok(mut refresh) = RefreshModel::with_params(refresh_alphabet, refresh_params) else {
+    let Ok(mut refresh) = AdaptiveModel::with_params(refresh_alphabet, refresh_params) else {
         return;
     };
     let refresh_start = refresh.clone();
@@ -142,7 +142,7 @@ pub fn check(data: &[u8]) {
     }
     let bytes = enc.finish().expect("Vec sink cannot fail");
 
-    let mut adaptive = AdaptiveModel::with_params(alphabet, params).expect("same params");
+    let mut adaptive = StepwiseModel::with_params(alphabet, params).expect("same params");
     let mut refresh = refresh_start;
     let mut dec = Decoder::new(&bytes).expect("valid stream");
     for &((kind, symbol), v) in &coded_plan {
@@ -175,15 +175,15 @@ pub fn check(data: &[u8]) {
     }
     let data = runs(3);
     let fresh =
-        || RefreshModel::with_params(refresh_alphabet, refresh_params).expect("same params");
-    let fast = encode_refresh_lanes(&mut fresh(), &data, lanes).expect("codable bytes");
-    let slow = encode_refresh_lanes_scalar(&mut fresh(), &data, lanes).expect("codable bytes");
+        || AdaptiveModel::with_params(refresh_alphabet, refresh_params).expect("same params");
+    let fast = encode_adaptive_lanes(&mut fresh(), &data, lanes).expect("codable bytes");
+    let slow = encode_adaptive_lanes_scalar(&mut fresh(), &data, lanes).expect("codable bytes");
     assert!(
         fast == slow,
         "vector and scalar refreshed lane encoders disagree"
     );
     let views: Vec<&[u8]> = fast.iter().map(Vec::as_slice).collect();
     let mut back = vec![0u8; data.len()];
-    decode_refresh_lanes(&mut fresh(), &views, &mut back).expect("valid lanes");
+    decode_adaptive_lanes(&mut fresh(), &views, &mut back).expect("valid lanes");
     assert_eq!(back, data);
 }

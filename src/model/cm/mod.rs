@@ -1,19 +1,24 @@
 //! Context-mixing engines: whole blocks in, range-coded bytes out.
 //!
-//! Two engines code a block of bytes bit by bit, predicting every bit from
-//! the bytes before it:
+//! Three engines code a block of bytes bit by bit, predicting every bit
+//! from the bytes before it:
 //!
 //! - the **order-2** engine ([`encode_order2`] / [`decode_order2`]): direct
 //!   order-2 context tables whose new contexts inherit order-1 predictions;
 //!   fast, and close to the data's order-2 conditional entropy;
 //! - the **mix** engine ([`encode_mix`] / [`decode_mix`]): hashed contexts of
 //!   orders 1 to 6, word and column contexts and a match model, combined by
-//!   logistic mixing and refined by two adaptive probability maps; the
-//!   strongest model of the crate.
+//!   logistic mixing and refined by two adaptive probability maps;
+//! - the **history** engine ([`encode_history`] / [`decode_history`]):
+//!   bit-history contexts, two mixing layers and a refinement chain, with
+//!   the x86 transform chosen per block; the strongest model of the crate.
 //!
-//! Both outputs are bare coded streams: a container records the raw length
-//! and the parameters ([`Order2Params::to_bytes`], [`MixParams::to_bytes`])
-//! and passes them back to the decoder. Before decoding, a container
+//! The outputs are bare coded streams: a container records the raw length
+//! and the parameters (the `order2`, `mix` and `history` presets write each
+//! parameter as a number of the block header, `docs/FORMAT.md`) and passes
+//! them back to the decoder; [`Order2Params::to_bytes`] and
+//! [`MixParams::to_bytes`] give a fixed-size form for callers that store
+//! the parameters themselves. Before decoding, a container
 //! compares the parameters' need for its block size
 //! ([`memory_needed_for`](MixParams::memory_needed_for)) with its limit
 //! ([`check_memory`]); the decoders then allocate exactly the tables for
@@ -43,21 +48,24 @@
 //! # }
 //! ```
 
-pub(crate) mod arena;
-mod fast;
+pub(crate) mod column;
+pub(crate) mod hashed;
 mod history;
 mod io;
+pub(crate) mod matcher;
+mod mix;
+mod order2;
 mod params;
 mod shrink;
-mod strong;
+pub(crate) mod word;
 
-#[cfg(feature = "std")]
-pub(crate) use fast::encode_order2_or_store;
-pub use fast::{decode_order2, encode_order2, ideal_cost_order2};
 #[cfg(feature = "std")]
 pub(crate) use history::encode_history_or_store;
 pub use history::{decode_history, encode_history, ideal_cost_history, HistoryParams};
-pub use params::{check_memory, MixParams, Order2Params};
 #[cfg(feature = "std")]
-pub(crate) use strong::encode_mix_or_store;
-pub use strong::{decode_mix, encode_mix, ideal_cost_mix};
+pub(crate) use mix::encode_mix_or_store;
+pub use mix::{decode_mix, encode_mix, ideal_cost_mix};
+#[cfg(feature = "std")]
+pub(crate) use order2::encode_order2_or_store;
+pub use order2::{decode_order2, encode_order2, ideal_cost_order2};
+pub use params::{check_memory, MixParams, Order2Params};

@@ -16,12 +16,14 @@
 //! bytes, an engine whose allocations are exactly `memory_needed_for(len)`
 //! bytes of tables (plus the output).
 
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
-use crate::model::apm::Apm;
-use crate::model::cm::arena::{groups_for, GroupArena};
-use crate::model::hashed::SlotTable;
-use crate::model::matcher::MatchModel;
-use crate::model::mix::Mixer;
+use crate::model::arena::{groups_for, GroupArena};
+use crate::model::bit::apm::Apm;
+use crate::model::bit::mix::Mixer;
+use crate::model::cm::hashed::SlotTable;
+use crate::model::cm::matcher::MatchModel;
 
 /// Entries of a direct nibble-tree table per context: 17 groups of 16.
 pub(crate) const NODES_PER_CONTEXT: usize = 17 * 16;
@@ -124,8 +126,8 @@ impl Order2Params {
         (groups_for(len, 65536), groups_for(len, 256))
     }
 
-    /// The parameters as three bytes: flags (bit 0: `order1`) and `limit`
-    /// (little-endian).
+    /// The parameters as three bytes: flags (bit 0 `order1`, bit 1
+    /// `precise`) and `limit` (little-endian).
     pub fn to_bytes(&self) -> [u8; 3] {
         let [l0, l1] = self.limit.to_le_bytes();
         [u8::from(self.order1) | u8::from(self.precise) << 1, l0, l1]
@@ -153,7 +155,7 @@ impl Order2Params {
     }
 }
 
-/// Parameters of the strong mixing engine ([`encode_mix`](super::encode_mix)).
+/// Parameters of the mix engine ([`encode_mix`](super::encode_mix)).
 ///
 /// # Example
 ///
@@ -362,7 +364,7 @@ impl MixParams {
     }
 
     /// The parameters as four bytes: `mem_log2`, `orders`, flags (bit 0
-    /// `word`, bit 1 `column`, bit 2 `matcher`), `rate`.
+    /// `word`, bit 1 `column`, bit 2 `matcher`, bit 3 `precise`), `rate`.
     pub fn to_bytes(&self) -> [u8; 4] {
         let flags = u8::from(self.word)
             | (u8::from(self.column) << 1)

@@ -62,6 +62,8 @@
 use alloc::vec::Vec;
 
 use crate::coder::log2_q32;
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 use crate::model::TableModel;
 

@@ -24,8 +24,8 @@
 //! Invariant: every hash depends only on bytes already coded, so encoder and
 //! decoder compute the same ones.
 
-use crate::model::hashed::hash2;
-use crate::model::word::WordContext;
+use crate::model::cm::hashed::hash2;
+use crate::model::cm::word::WordContext;
 
 /// Hashed contexts.
 pub(crate) const CONTEXTS: usize = 12;

@@ -39,10 +39,10 @@ use super::refine::Refiner;
 use super::slots::Slots;
 use super::state::{next_state, StateMap, RUN};
 use crate::error::Result;
+use crate::model::bit::logistic::stretch;
+use crate::model::cm::hashed::hash2;
 use crate::model::cm::io::BitIo;
-use crate::model::hashed::hash2;
-use crate::model::logistic::stretch;
-use crate::model::matcher::MatchModel;
+use crate::model::cm::matcher::MatchModel;
 
 /// Mixer inputs: two per context, order 0, order 1, two for the match
 /// model, the bias.

@@ -29,7 +29,7 @@
 use alloc::vec;
 use alloc::vec::Vec;
 
-use crate::model::logistic::{squash, stretch};
+use crate::model::bit::logistic::{squash, stretch};
 
 /// Largest input count.
 pub(crate) const MAX_INPUTS: usize = 48;

@@ -18,7 +18,7 @@
 //!   direct order 0 and order 1 with `1/n` counting (the order-0 counts
 //!   coded in place of the mix while they predict better, [`referee`]), and a match model over
 //!   the whole block with a minimum length and a backward check
-//!   ([`MatchModel`](crate::model::matcher));
+//!   ([`MatchModel`](crate::model::cm::matcher));
 //! - the x86 call/jump target transform ([`x86`](crate::model::x86)),
 //!   chosen per block by detection.
 //!

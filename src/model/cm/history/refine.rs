@@ -16,7 +16,7 @@
 
 use alloc::vec::Vec;
 
-use crate::model::logistic::squash;
+use crate::model::bit::logistic::squash;
 
 const POINTS: usize = 32;
 

@@ -8,7 +8,7 @@
 //! seen recently in that context. A second, shared table then learns what
 //! each state really predicts: `p(1 | state)` is an adaptive counter per
 //! state, updated with the rate `1/n` of its own count (see
-//! [`counter`](crate::model::counter)). The same history in two contexts
+//! [`counter`](crate::model::bit::counter)). The same history in two contexts
 //! thus gives the same prediction, learned from every context that passed
 //! through that state: a context seen twice is predicted as well as the
 //! data's many other contexts seen twice allow, not from two samples.
@@ -26,7 +26,7 @@
 //! stays inside the table (it is built and checked at compile time); the
 //! tables are integer constants, the same on every platform.
 
-use crate::model::counter::{counter_p16, counter_update};
+use crate::model::bit::counter::{counter_p16, counter_update};
 
 /// Largest larger count for each smaller count `0 ..= 4`.
 const MAX_HIGH: [u32; 5] = [40, 20, 10, 6, 5];

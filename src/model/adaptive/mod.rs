@@ -10,7 +10,7 @@
 //! tree walk, and — because the table does not depend on the symbols of the
 //! segment being coded — interleaved lanes can code a whole segment with
 //! the byte-table kernels of the static lanes (see
-//! [`encode_refresh_lanes`](crate::coder::encode_refresh_lanes)). Adapting
+//! [`encode_adaptive_lanes`](crate::coder::encode_adaptive_lanes)). Adapting
 //! per segment instead of per symbol costs a little on short inputs and
 //! next to nothing on long ones.
 //!
@@ -19,8 +19,8 @@
 //! drift. The new table gives every codable symbol a frequency of at least 1
 //! and shares the rest of the total in proportion to the counts, rounded to
 //! the nearest unit; the rounding surplus or deficit goes to the most
-//! frequent symbol (see [`RefreshModel::frequencies`]). Symbols can be
-//! excluded up front ([`RefreshModel::with_symbols`]): they get frequency
+//! frequent symbol (see [`AdaptiveModel::frequencies`]). Symbols can be
+//! excluded up front ([`AdaptiveModel::with_symbols`]): they get frequency
 //! 0 and leave their share to the others, which is how a block coder that
 //! knows its block's byte set avoids paying for absent bytes.
 //!
@@ -29,28 +29,31 @@
 //! symbol of a segment; encoder and decoder that start from the same
 //! parameters and see the same symbols hold identical tables at every step.
 
+use crate::coder::LaneTable;
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 use crate::model::{Model, Span};
 
-/// Largest alphabet of a [`RefreshModel`]: the byte values.
-pub const MAX_REFRESH_ALPHABET: u32 = 256;
+/// Largest alphabet of a [`AdaptiveModel`]: the byte values.
+pub const MAX_ADAPTIVE_ALPHABET: u32 = 256;
 
-/// Parameters of a [`RefreshModel`].
+/// Parameters of a [`AdaptiveModel`].
 ///
 /// # Example
 ///
 /// ```
-/// use subrange::model::{RefreshModel, RefreshParams};
+/// use subrange::model::{AdaptiveModel, AdaptiveParams};
 ///
-/// let mut params = RefreshParams::default();
+/// let mut params = AdaptiveParams::default();
 /// params.max_period = 1024; // rebuild the table less often: faster
 /// params.limit = 1 << 16; // remember longer: for stationary data
-/// let model = RefreshModel::with_params(256, params).unwrap();
+/// let model = AdaptiveModel::with_params(256, params).unwrap();
 /// assert_eq!(model.params().max_period, 1024);
 /// ```
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[non_exhaustive]
-pub struct RefreshParams {
+pub struct AdaptiveParams {
     /// The table's total is `2^log2_total` (default 12; at most 16, and
     /// at least enough for every codable symbol to have frequency 1).
     pub log2_total: u32,
@@ -64,9 +67,9 @@ pub struct RefreshParams {
     pub limit: u32,
 }
 
-impl Default for RefreshParams {
+impl Default for AdaptiveParams {
     fn default() -> Self {
-        RefreshParams {
+        AdaptiveParams {
             log2_total: 12,
             first_period: 32,
             max_period: 256,
@@ -82,11 +85,11 @@ impl Default for RefreshParams {
 ///
 /// ```
 /// use subrange::coder::{Decoder, Encoder};
-/// use subrange::model::RefreshModel;
+/// use subrange::model::AdaptiveModel;
 ///
 /// # fn main() -> Result<(), subrange::Error> {
 /// let log = b"G107 level 212 cm, flow 1123 l/s\n".repeat(100);
-/// let mut model = RefreshModel::new(256)?;
+/// let mut model = AdaptiveModel::new(256)?;
 /// let mut enc = Encoder::new();
 /// for &b in &log {
 ///     enc.encode(&mut model, b.into())?;
@@ -94,7 +97,7 @@ impl Default for RefreshParams {
 /// let bytes = enc.finish()?;
 /// assert!(bytes.len() < log.len() * 2 / 3);
 ///
-/// let mut model = RefreshModel::new(256)?;
+/// let mut model = AdaptiveModel::new(256)?;
 /// let mut dec = Decoder::new(&bytes)?;
 /// for &b in &log {
 ///     assert_eq!(dec.decode(&mut model)?, u32::from(b));
@@ -103,8 +106,8 @@ impl Default for RefreshParams {
 /// # }
 /// ```
 #[derive(Debug, Clone, PartialEq, Eq)]
-pub struct RefreshModel {
-    params: RefreshParams,
+pub struct AdaptiveModel {
+    params: AdaptiveParams,
     alphabet: usize,
     /// Per symbol: `u32::MAX` when it can be coded, else 0 (also for the
     /// values past the alphabet).
@@ -121,14 +124,14 @@ pub struct RefreshModel {
     left: u64,
 }
 
-impl RefreshModel {
+impl AdaptiveModel {
     /// A model over `alphabet` symbols (`1 ..= 256`), default parameters.
     ///
     /// # Errors
     ///
     /// [`ErrorKind::InvalidParameter`] for an alphabet outside `1 ..= 256`.
     pub fn new(alphabet: u32) -> Result<Self> {
-        Self::with_params(alphabet, RefreshParams::default())
+        Self::with_params(alphabet, AdaptiveParams::default())
     }
 
     /// A model over `alphabet` symbols with `params`.
@@ -136,9 +139,9 @@ impl RefreshModel {
     /// # Errors
     ///
     /// [`ErrorKind::InvalidParameter`] for an alphabet outside `1 ..= 256`
-    /// or parameters that break the rules of [`RefreshParams`].
-    pub fn with_params(alphabet: u32, params: RefreshParams) -> Result<Self> {
-        if alphabet == 0 || alphabet > MAX_REFRESH_ALPHABET {
+    /// or parameters that break the rules of [`AdaptiveParams`].
+    pub fn with_params(alphabet: u32, params: AdaptiveParams) -> Result<Self> {
+        if alphabet == 0 || alphabet > MAX_ADAPTIVE_ALPHABET {
             return Err(crate::Error::invalid_parameter(
                 "alphabet",
                 "must be 1 ..= 256",
@@ -154,20 +157,20 @@ impl RefreshModel {
     ///
     /// [`ErrorKind::InvalidParameter`] for more than 256 symbols, none
     /// codable, a total smaller than the number of codable symbols, or
-    /// parameters that break the rules of [`RefreshParams`].
+    /// parameters that break the rules of [`AdaptiveParams`].
     ///
     /// # Example
     ///
     /// ```
-    /// use subrange::model::{Model, RefreshModel, RefreshParams};
+    /// use subrange::model::{Model, AdaptiveModel, AdaptiveParams};
     ///
     /// let digits: Vec<bool> = (0..256).map(|b| (b'0'..=b'9').contains(&(b as u8))).collect();
-    /// let model = RefreshModel::with_symbols(&digits, RefreshParams::default()).unwrap();
+    /// let model = AdaptiveModel::with_symbols(&digits, AdaptiveParams::default()).unwrap();
     /// assert!(model.span(u32::from(b'7')).is_some());
     /// assert!(model.span(u32::from(b'x')).is_none());
     /// ```
-    pub fn with_symbols(codable: &[bool], params: RefreshParams) -> Result<Self> {
-        if codable.is_empty() || codable.len() > MAX_REFRESH_ALPHABET as usize {
+    pub fn with_symbols(codable: &[bool], params: AdaptiveParams) -> Result<Self> {
+        if codable.is_empty() || codable.len() > MAX_ADAPTIVE_ALPHABET as usize {
             return Err(crate::Error::invalid_parameter(
                 "alphabet",
                 "must be 1 ..= 256",
@@ -202,7 +205,7 @@ impl RefreshModel {
         for (m, &c) in mask.iter_mut().zip(codable) {
             *m = if c { u32::MAX } else { 0 };
         }
-        let mut model = RefreshModel {
+        let mut model = AdaptiveModel {
             params,
             alphabet: codable.len(),
             mask,
@@ -219,7 +222,7 @@ impl RefreshModel {
     }
 
     /// The model's parameters.
-    pub fn params(&self) -> RefreshParams {
+    pub fn params(&self) -> AdaptiveParams {
         self.params
     }
 
@@ -360,7 +363,7 @@ impl RefreshModel {
     }
 }
 
-impl Model for RefreshModel {
+impl Model for AdaptiveModel {
     fn alphabet_size(&self) -> u32 {
         self.alphabet as u32
     }
@@ -398,13 +401,31 @@ impl Model for RefreshModel {
     }
 }
 
+impl LaneTable for AdaptiveModel {
+    fn frequencies(&self) -> &[u32] {
+        self.frequencies()
+    }
+    fn cumulative(&self) -> &[u32] {
+        self.cumulative()
+    }
+    fn log2_total(&self) -> u32 {
+        self.log2_total()
+    }
+    fn segment_left(&self) -> u64 {
+        self.segment_left()
+    }
+    fn update_run(&mut self, symbols: &[u8]) {
+        self.update_run(symbols)
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
     use alloc::vec;
     use alloc::vec::Vec;
 
-    fn check_table(m: &RefreshModel) {
+    fn check_table(m: &AdaptiveModel) {
         let total: u32 = m.frequencies().iter().sum();
         assert_eq!(total, m.total());
         for (s, &f) in m.frequencies().iter().enumerate() {
@@ -414,7 +435,7 @@ mod tests {
 
     #[test]
     fn tables_stay_exact_through_skewed_and_flat_counts() {
-        let mut m = RefreshModel::new(256).unwrap();
+        let mut m = AdaptiveModel::new(256).unwrap();
         check_table(&m);
         assert!(m.frequencies().iter().all(|&f| f == 16));
         // All one symbol, then all symbols equally: rounding in both
@@ -431,12 +452,12 @@ mod tests {
 
     #[test]
     fn segments_double_up_to_the_longest_period() {
-        let p = RefreshParams {
+        let p = AdaptiveParams {
             first_period: 4,
             max_period: 20,
-            ..RefreshParams::default()
+            ..AdaptiveParams::default()
         };
-        let mut m = RefreshModel::with_params(3, p).unwrap();
+        let mut m = AdaptiveModel::with_params(3, p).unwrap();
         let mut lengths = vec![];
         let mut run = 0;
         for _ in 0..100 {
@@ -452,11 +473,11 @@ mod tests {
 
     #[test]
     fn halving_keeps_counts_under_the_limit() {
-        let p = RefreshParams {
+        let p = AdaptiveParams {
             limit: 100,
-            ..RefreshParams::default()
+            ..AdaptiveParams::default()
         };
-        let mut m = RefreshModel::with_params(4, p).unwrap();
+        let mut m = AdaptiveModel::with_params(4, p).unwrap();
         for i in 0..5000u32 {
             m.update(i % 3);
             assert!(m.count_total <= 100 + m.period);
@@ -468,7 +489,7 @@ mod tests {
     #[test]
     fn update_run_equals_single_updates() {
         let data: Vec<u8> = (0..20_000u32).map(|i| (i * i % 251) as u8).collect();
-        let mut a = RefreshModel::new(256).unwrap();
+        let mut a = AdaptiveModel::new(256).unwrap();
         let mut b = a.clone();
         for &x in &data {
             a.update(u32::from(x));
@@ -485,7 +506,7 @@ mod tests {
     #[test]
     fn locate_inverts_span() {
         let codable: Vec<bool> = (0..40).map(|s| s % 3 != 1).collect();
-        let mut m = RefreshModel::with_symbols(&codable, RefreshParams::default()).unwrap();
+        let mut m = AdaptiveModel::with_symbols(&codable, AdaptiveParams::default()).unwrap();
         for i in 0..3000u32 {
             m.update((i * 7 % 40) / 3 * 3);
         }
@@ -498,21 +519,21 @@ mod tests {
 
     #[test]
     fn bad_parameters_are_refused() {
-        assert!(RefreshModel::new(0).is_err());
-        assert!(RefreshModel::new(257).is_err());
-        let mut p = RefreshParams {
+        assert!(AdaptiveModel::new(0).is_err());
+        assert!(AdaptiveModel::new(257).is_err());
+        let mut p = AdaptiveParams {
             log2_total: 7,
-            ..RefreshParams::default()
+            ..AdaptiveParams::default()
         };
-        assert!(RefreshModel::with_params(256, p).is_err());
-        assert!(RefreshModel::with_params(128, p).is_ok());
+        assert!(AdaptiveModel::with_params(256, p).is_err());
+        assert!(AdaptiveModel::with_params(128, p).is_ok());
         p.log2_total = 17;
-        assert!(RefreshModel::with_params(2, p).is_err());
-        let p = RefreshParams {
+        assert!(AdaptiveModel::with_params(2, p).is_err());
+        let p = AdaptiveParams {
             max_period: 8,
-            ..RefreshParams::default()
+            ..AdaptiveParams::default()
         };
-        assert!(RefreshModel::with_params(2, p).is_err());
-        assert!(RefreshModel::with_symbols(&[false; 4], RefreshParams::default()).is_err());
+        assert!(AdaptiveModel::with_params(2, p).is_err());
+        assert!(AdaptiveModel::with_symbols(&[false; 4], AdaptiveParams::default()).is_err());
     }
 }

@@ -20,12 +20,14 @@
 //! Invariant: every point stays in `0 ..= 65535` (a shift step never
 //! overshoots), and outputs are clamped to `1 ..= 65535`.
 
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 use alloc::vec;
 use alloc::vec::Vec;
 
-use crate::model::cm::arena::GroupMap;
-use crate::model::logistic::{squash, stretch};
+use crate::model::arena::GroupMap;
+use crate::model::bit::logistic::{squash, stretch};
 
 /// Points per context curve.
 const POINTS: usize = 33;

@@ -6,7 +6,7 @@
 //! "the byte starts with the bits of `n` after its leading 1", and each node
 //! has a [`BitPredictor`] of its own — together the 255 binary predictions
 //! describe any distribution over 256 byte values, and an adaptive predictor
-//! per node makes an adaptive byte model. (The strong engines use the same
+//! per node makes an adaptive byte model. (The context-mixing engines use the same
 //! tree, with node tables per context instead of one tree.)
 //!
 //! Invariant: the node index stays in `1 ..= 255` while a byte is coded, so

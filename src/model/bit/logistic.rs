@@ -4,7 +4,7 @@
 //! from independent sources adds up; `squash(x) = 1 / (1 + e^-x)` maps a sum
 //! back to a probability.
 //!
-//! Fixed-point conventions used throughout the strong models:
+//! Fixed-point conventions used throughout the context-mixing engines:
 //! - a probability is a 16-bit integer `p16` (`p16 / 65536` is the
 //!   probability of a 1), as the coder's binary step takes it;
 //! - a stretched value `x` is an `i32` with 8 fractional bits

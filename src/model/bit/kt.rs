@@ -15,6 +15,8 @@
 //!
 //! Invariant: `n0 + n1 < limit` after every update.
 
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 use crate::model::bit::BitPredictor;
 
@@ -25,7 +27,7 @@ use crate::model::bit::BitPredictor;
 /// ```
 /// use subrange::model::{BitPredictor, KtPredictor};
 ///
-/// let mut kt = KtPredictor::new();
+/// let mut kt = KtPredictor::default();
 /// assert_eq!(kt.p1(), 32768);
 /// kt.update(false);
 /// kt.update(false);
@@ -42,8 +44,13 @@ pub struct KtPredictor {
 }
 
 impl Default for KtPredictor {
+    /// A predictor with no observations and the default limit.
     fn default() -> Self {
-        Self::new()
+        KtPredictor {
+            n0: 0,
+            n1: 0,
+            limit: Self::DEFAULT_LIMIT,
+        }
     }
 }
 
@@ -51,21 +58,14 @@ impl KtPredictor {
     /// Default halving limit: 2^30 observations.
     pub const DEFAULT_LIMIT: u32 = 1 << 30;
 
-    /// A predictor with no observations and the default limit.
-    pub const fn new() -> Self {
-        KtPredictor {
-            n0: 0,
-            n1: 0,
-            limit: Self::DEFAULT_LIMIT,
-        }
-    }
-
-    /// A predictor that halves its counts when their sum reaches `limit`.
+    /// A predictor with no observations that halves its counts when their
+    /// sum reaches `limit` ([`default`](Self::default) takes
+    /// [`DEFAULT_LIMIT`](Self::DEFAULT_LIMIT)).
     ///
     /// # Errors
     ///
     /// [`ErrorKind::InvalidParameter`] unless `4 <= limit <= 2^30`.
-    pub fn with_limit(limit: u32) -> Result<Self> {
+    pub fn new(limit: u32) -> Result<Self> {
         if !(4..=Self::DEFAULT_LIMIT).contains(&limit) {
             return Err(crate::Error::invalid_parameter(
                 "limit",
@@ -114,12 +114,12 @@ mod tests {
 
     #[test]
     fn halves_at_limit() {
-        let mut kt = KtPredictor::with_limit(8).unwrap();
+        let mut kt = KtPredictor::new(8).unwrap();
         for _ in 0..7 {
             kt.update(true);
         }
         kt.update(false);
         assert_eq!(kt.counts(), (1, 4));
-        assert!(KtPredictor::with_limit(1).is_err());
+        assert!(KtPredictor::new(1).is_err());
     }
 }

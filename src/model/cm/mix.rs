@@ -42,19 +42,19 @@ use alloc::vec::Vec;
 
 use crate::coder::{Decoder, Encoder, IdealCost};
 use crate::error::Result;
-use crate::model::apm::Apm;
-use crate::model::cm::arena::{groups_for, GroupArena};
-use crate::model::cm::fast::update_stored;
+use crate::model::arena::{groups_for, GroupArena};
+use crate::model::bit::apm::Apm;
+use crate::model::bit::counter::{counter_p16, counter_update, COUNTER_INIT};
+use crate::model::bit::logistic::{squash, stretch};
+use crate::model::bit::mix::Mixer;
+use crate::model::cm::column::ColumnContext;
+use crate::model::cm::hashed::{hash2, SlotTable, SLOT_WORDS};
 use crate::model::cm::io::{BitIo, Coarse};
+use crate::model::cm::matcher::MatchModel;
+use crate::model::cm::order2::update_stored;
 use crate::model::cm::params::{MixParams, NODES_PER_CONTEXT};
 use crate::model::cm::shrink::{code_bytes, finish_or_store};
-use crate::model::column::ColumnContext;
-use crate::model::counter::{counter_p16, counter_update, COUNTER_INIT};
-use crate::model::hashed::{hash2, SlotTable, SLOT_WORDS};
-use crate::model::logistic::{squash, stretch};
-use crate::model::matcher::MatchModel;
-use crate::model::mix::Mixer;
-use crate::model::word::WordContext;
+use crate::model::cm::word::WordContext;
 
 /// Most hashed contexts: orders 2 to 6, the word and the column context.
 const MAX_HASHED: usize = 7;

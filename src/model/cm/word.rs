@@ -10,7 +10,7 @@
 //! Invariant: the current word's hash is 0 exactly when the last byte was not
 //! a letter; a finished word's hash moves to `previous`.
 
-use crate::model::hashed::hash2;
+use crate::model::cm::hashed::hash2;
 
 /// Hashes of the current and the previous word.
 #[derive(Debug, Clone, Copy, Default)]

@@ -23,6 +23,8 @@
 use alloc::vec;
 use alloc::vec::Vec;
 
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 use crate::model::fenwick::FenwickTree;
 use crate::model::{Model, Span, ESCAPE, MAX_ALPHABET, MAX_TOTAL};
@@ -30,22 +32,22 @@ use crate::model::{Model, Span, ESCAPE, MAX_ALPHABET, MAX_TOTAL};
 /// Alphabets up to this size use a linear array instead of a Fenwick tree.
 const LINEAR_MAX: usize = 16;
 
-/// Parameters of an [`AdaptiveModel`].
+/// Parameters of an [`StepwiseModel`].
 ///
 /// # Example
 ///
 /// ```
-/// use subrange::model::{AdaptiveModel, AdaptiveParams};
+/// use subrange::model::{StepwiseModel, StepwiseParams};
 ///
-/// let mut params = AdaptiveParams::default();
+/// let mut params = StepwiseParams::default();
 /// params.increment = 16;
 /// params.limit = 1 << 13; // adapt faster: halve more often
-/// let model = AdaptiveModel::with_params(256, params).unwrap();
+/// let model = StepwiseModel::with_params(256, params).unwrap();
 /// assert_eq!(model.params().limit, 8192);
 /// ```
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[non_exhaustive]
-pub struct AdaptiveParams {
+pub struct StepwiseParams {
     /// Added to a symbol's count each time it is coded (default 24).
     pub increment: u32,
     /// Counts are halved when the total would exceed this (default 2^16).
@@ -55,9 +57,9 @@ pub struct AdaptiveParams {
     pub escape: Option<bool>,
 }
 
-impl Default for AdaptiveParams {
+impl Default for StepwiseParams {
     fn default() -> Self {
-        AdaptiveParams {
+        StepwiseParams {
             increment: 24,
             limit: MAX_TOTAL,
             escape: None,
@@ -165,11 +167,11 @@ impl Store {
 ///
 /// ```
 /// use subrange::coder::{Decoder, Encoder};
-/// use subrange::model::{AdaptiveModel, Model};
+/// use subrange::model::{StepwiseModel, Model};
 ///
 /// # fn main() -> Result<(), subrange::Error> {
 /// let text = b"gauge 17: level steady, flow steady, temperature steady";
-/// let mut model = AdaptiveModel::new(256)?;
+/// let mut model = StepwiseModel::new(256)?;
 /// let mut enc = Encoder::new();
 /// for &b in text {
 ///     enc.encode(&mut model, b.into())?;
@@ -177,7 +179,7 @@ impl Store {
 /// let bytes = enc.finish()?;
 /// assert!(bytes.len() < text.len());
 ///
-/// let mut model = AdaptiveModel::new(256)?;
+/// let mut model = StepwiseModel::new(256)?;
 /// let mut dec = Decoder::new(&bytes)?;
 /// let back: Vec<u8> = (0..text.len())
 ///     .map(|_| dec.decode(&mut model).map(|s| s as u8))
@@ -187,21 +189,21 @@ impl Store {
 /// # }
 /// ```
 #[derive(Debug, Clone, PartialEq, Eq)]
-pub struct AdaptiveModel {
+pub struct StepwiseModel {
     store: Store,
     alphabet: u32,
-    params: AdaptiveParams,
+    params: StepwiseParams,
     escape: bool,
 }
 
-impl AdaptiveModel {
+impl StepwiseModel {
     /// A model over `alphabet` symbols with default parameters.
     ///
     /// # Errors
     ///
     /// [`ErrorKind::InvalidParameter`] unless `1 <= alphabet <= 65536`.
     pub fn new(alphabet: u32) -> Result<Self> {
-        Self::with_params(alphabet, AdaptiveParams::default())
+        Self::with_params(alphabet, StepwiseParams::default())
     }
 
     /// A model with explicit parameters.
@@ -212,7 +214,7 @@ impl AdaptiveModel {
     /// `increment >= 1`, `limit <= 2^16`, and the limit leaves room to learn:
     /// `limit >= alphabet + 1 + 4·increment` without escape,
     /// `limit >= 2 + 4·increment` with it.
-    pub fn with_params(alphabet: u32, params: AdaptiveParams) -> Result<Self> {
+    pub fn with_params(alphabet: u32, params: StepwiseParams) -> Result<Self> {
         let bad = |name, reason| Err(crate::Error::invalid_parameter(name, reason));
         if alphabet == 0 || alphabet > MAX_ALPHABET {
             return bad("alphabet", "must be 1 ..= 65536");
@@ -234,7 +236,7 @@ impl AdaptiveModel {
         if params.limit < need {
             return bad(
                 "limit",
-                "too small for this alphabet and increment (see AdaptiveModel::with_params)",
+                "too small for this alphabet and increment (see StepwiseModel::with_params)",
             );
         }
         let freq = if escape {
@@ -244,7 +246,7 @@ impl AdaptiveModel {
         } else {
             vec![1u32; alphabet as usize]
         };
-        Ok(AdaptiveModel {
+        Ok(StepwiseModel {
             store: Store::new(freq),
             alphabet,
             params,
@@ -253,7 +255,7 @@ impl AdaptiveModel {
     }
 
     /// The parameters in force.
-    pub fn params(&self) -> AdaptiveParams {
+    pub fn params(&self) -> StepwiseParams {
         self.params
     }
 
@@ -273,14 +275,14 @@ impl AdaptiveModel {
     }
 
     /// All current frequencies, one per symbol, followed by the escape's
-    /// when the model [uses an escape](AdaptiveModel::uses_escape). With
-    /// [`params`](AdaptiveModel::params) this is the model's whole state:
-    /// [`from_frequencies`](AdaptiveModel::from_frequencies) rebuilds it.
+    /// when the model [uses an escape](StepwiseModel::uses_escape). With
+    /// [`params`](StepwiseModel::params) this is the model's whole state:
+    /// [`from_frequencies`](StepwiseModel::from_frequencies) rebuilds it.
     ///
     /// ```
-    /// use subrange::model::{AdaptiveModel, Model};
+    /// use subrange::model::{StepwiseModel, Model};
     ///
-    /// let mut model = AdaptiveModel::new(3).unwrap();
+    /// let mut model = StepwiseModel::new(3).unwrap();
     /// model.update(2);
     /// assert_eq!(model.frequencies(), &[1, 1, 25]);
     /// ```
@@ -289,28 +291,28 @@ impl AdaptiveModel {
     }
 
     /// A model with the given parameters in the given state, as returned by
-    /// [`frequencies`](AdaptiveModel::frequencies) (for restoring a trained
+    /// [`frequencies`](StepwiseModel::frequencies) (for restoring a trained
     /// model).
     ///
     /// # Errors
     ///
     /// [`ErrorKind::InvalidParameter`] when the parameters are invalid (as for
-    /// [`with_params`](AdaptiveModel::with_params)), when `freq` does not have
+    /// [`with_params`](StepwiseModel::with_params)), when `freq` does not have
     /// one entry per symbol (plus one for the escape, if the parameters make
     /// the model use one), when the frequencies sum to more than the limit,
     /// or when a frequency that must be at least 1 is 0 (every symbol's
     /// without escape, the escape's with it).
     ///
     /// ```
-    /// use subrange::model::{AdaptiveModel, AdaptiveParams, Model};
+    /// use subrange::model::{StepwiseModel, StepwiseParams, Model};
     ///
-    /// let mut model = AdaptiveModel::new(4).unwrap();
+    /// let mut model = StepwiseModel::new(4).unwrap();
     /// model.update(1);
-    /// let copy = AdaptiveModel::from_frequencies(4, model.params(), model.frequencies()).unwrap();
+    /// let copy = StepwiseModel::from_frequencies(4, model.params(), model.frequencies()).unwrap();
     /// assert_eq!(copy, model);
-    /// assert!(AdaptiveModel::from_frequencies(4, AdaptiveParams::default(), &[1, 0, 1, 1]).is_err());
+    /// assert!(StepwiseModel::from_frequencies(4, StepwiseParams::default(), &[1, 0, 1, 1]).is_err());
     /// ```
-    pub fn from_frequencies(alphabet: u32, params: AdaptiveParams, freq: &[u32]) -> Result<Self> {
+    pub fn from_frequencies(alphabet: u32, params: StepwiseParams, freq: &[u32]) -> Result<Self> {
         let mut model = Self::with_params(alphabet, params)?;
         let bad = |reason| Err(crate::Error::invalid_parameter("freq", reason));
         let entries = alphabet as usize + usize::from(model.escape);
@@ -346,7 +348,7 @@ impl AdaptiveModel {
     }
 }
 
-impl Model for AdaptiveModel {
+impl Model for StepwiseModel {
     #[inline(always)]
     fn alphabet_size(&self) -> u32 {
         self.alphabet
@@ -405,7 +407,7 @@ mod tests {
     #[test]
     fn total_stays_within_limit() {
         for alphabet in [1u32, 2, 16, 17, 256, 20_000, 65_536] {
-            let mut m = AdaptiveModel::new(alphabet).unwrap();
+            let mut m = StepwiseModel::new(alphabet).unwrap();
             for i in 0..20_000u32 {
                 m.update(i.wrapping_mul(2_654_435_761) % alphabet);
                 assert!(m.total() <= MAX_TOTAL && m.total() >= 1);
@@ -415,23 +417,23 @@ mod tests {
 
     #[test]
     fn escape_mode_for_large_alphabets() {
-        let m = AdaptiveModel::new(65_536).unwrap();
+        let m = StepwiseModel::new(65_536).unwrap();
         assert!(m.uses_escape());
         assert_eq!(m.span(5), None);
         assert!(m.escape().is_some());
-        assert!(!AdaptiveModel::new(256).unwrap().uses_escape());
+        assert!(!StepwiseModel::new(256).unwrap().uses_escape());
     }
 
     #[test]
     #[allow(clippy::field_reassign_with_default)]
     fn rejects_bad_parameters() {
-        assert!(AdaptiveModel::new(0).is_err());
-        assert!(AdaptiveModel::new(65_537).is_err());
-        let mut p = AdaptiveParams::default();
+        assert!(StepwiseModel::new(0).is_err());
+        assert!(StepwiseModel::new(65_537).is_err());
+        let mut p = StepwiseParams::default();
         p.escape = Some(false);
-        assert!(AdaptiveModel::with_params(65_536, p).is_err());
+        assert!(StepwiseModel::with_params(65_536, p).is_err());
         p.escape = None;
         p.increment = 0;
-        assert!(AdaptiveModel::with_params(10, p).is_err());
+        assert!(StepwiseModel::with_params(10, p).is_err());
     }
 }

@@ -1,4 +1,4 @@
-//! The lane decoder: reads what [`LaneEncoder`](super::lane_enc) wrote,
+//! The lane decoder: reads what [`LaneEncoder`](super::encode) wrote,
 //! in pieces, each piece with its own byte table.
 //!
 //! All lane streams are copied back to back into one buffer, each followed
@@ -20,9 +20,8 @@
 
 use alloc::vec::Vec;
 
+use crate::coder::TOP;
 use crate::error::Result;
-
-const TOP: u32 = 1 << 24;
 
 /// Rows decoded between two checks of the lanes' read positions.
 pub(crate) const CHUNK_ROWS: usize = 64;
@@ -106,7 +105,7 @@ impl DecodeTables {
         self.slots.resize(total + FILL, 0);
         self.symbols.resize(total + FILL, 0);
         #[cfg(target_arch = "x86_64")]
-        if super::table_simd::fill_tables(self, freq, cum) {
+        if super::simd::decode::fill_tables(self, freq, cum) {
             return;
         }
         fill_spans(self, freq, cum);
@@ -125,7 +124,7 @@ impl DecodeTables {
 
 /// Writes every span of `freq` / `cum` into the slot (and symbol) tables
 /// of `t` (see [`DecodeTables::set`]). Plain code, compiled once more for
-/// wider vectors where the CPU has them (`table_simd::fill_tables`).
+/// wider vectors where the CPU has them (`simd::decode::fill_tables`).
 #[inline(always)]
 pub(crate) fn fill_spans(t: &mut DecodeTables, freq: &[u32], cum: &[u32]) {
     let n = freq.len().min(cum.len());
@@ -192,7 +191,7 @@ fn decode_step(lane: &mut LaneState, buffer: &[u8], tables: &DecodeTables) -> u8
 
 /// The vector kernel a lane decoder may use (none off x86-64).
 #[cfg(target_arch = "x86_64")]
-pub(crate) type Vector = Option<super::table_simd::Kernel>;
+pub(crate) type Vector = Option<super::simd::Kernel>;
 /// The vector kernel a lane decoder may use (none off x86-64).
 #[cfg(not(target_arch = "x86_64"))]
 pub(crate) type Vector = Option<core::convert::Infallible>;
@@ -200,7 +199,7 @@ pub(crate) type Vector = Option<core::convert::Infallible>;
 /// The best vector kernel for `lanes` lanes on this CPU, if any.
 pub(crate) fn best_kernel(lanes: usize) -> Vector {
     #[cfg(target_arch = "x86_64")]
-    return super::table_simd::Kernel::for_lanes(lanes);
+    return super::simd::Kernel::for_lanes(lanes);
     #[cfg(not(target_arch = "x86_64"))]
     {
         let _ = lanes;
@@ -335,7 +334,7 @@ impl LaneDecoder {
             // The kernels' quotient bound needs `r < 2^24`: totals of at
             // least 2^8.
             if tables.shift >= 8 {
-                return super::table_simd::decode_rows(kernel, lanes, buffer, tables, chunk);
+                return super::simd::decode::decode_rows(kernel, lanes, buffer, tables, chunk);
             }
         }
         match n {

@@ -2,7 +2,7 @@
 //! per 512-bit vector with AVX-512, eight per 256-bit vector with AVX2.
 //!
 //! One pass codes one row — a symbol in every lane — exactly as the scalar
-//! `encode_step` in `lane_enc` does, all the row's vectors side by side so
+//! `encode_step` in `lanes::encode` does, all the row's vectors side by side so
 //! that their dependency chains (multiply, select, renormalise) overlap:
 //!
 //! 1. A gather reads each byte's packed `cum | (freq - 1) << 16`.
@@ -34,66 +34,8 @@
 
 use core::arch::x86_64::*;
 
-use crate::coder::lane_enc::{propagate_carry, EncodeTable, FRONT};
-
-/// Which vector kernel of the lane encoder this CPU runs.
-#[derive(Clone, Copy, PartialEq, Eq, Debug)]
-pub(crate) enum EncodeKernel {
-    /// AVX-512 F, BW and CD: sixteen lanes a vector, scatter stores; lane
-    /// counts that are a multiple of sixteen.
-    Avx512,
-    /// AVX2: eight lanes a vector; lane counts that are a multiple of eight.
-    Avx2,
-}
-
-impl EncodeKernel {
-    /// Every kernel, best first.
-    pub(crate) const ALL: [EncodeKernel; 2] = [EncodeKernel::Avx512, EncodeKernel::Avx2];
-
-    /// The best kernel for `lanes` lanes on the running CPU, if any.
-    pub(crate) fn for_lanes(lanes: usize) -> Option<EncodeKernel> {
-        Self::ALL
-            .into_iter()
-            .find(|k| k.fits(lanes) && k.supported())
-    }
-
-    /// Whether the kernel codes `lanes` lanes (up to 32, a multiple of its
-    /// vector width).
-    pub(crate) fn fits(self, lanes: usize) -> bool {
-        lanes > 0
-            && lanes <= crate::coder::MAX_LANES
-            && match self {
-                EncodeKernel::Avx512 => lanes.is_multiple_of(16),
-                EncodeKernel::Avx2 => lanes.is_multiple_of(8),
-            }
-    }
-
-    /// Whether the running CPU has the kernel's instructions.
-    pub(crate) fn supported(self) -> bool {
-        #[cfg(feature = "std")]
-        {
-            match self {
-                EncodeKernel::Avx512 => {
-                    std::is_x86_feature_detected!("avx512f")
-                        && std::is_x86_feature_detected!("avx512bw")
-                        && std::is_x86_feature_detected!("avx512cd")
-                }
-                EncodeKernel::Avx2 => std::is_x86_feature_detected!("avx2"),
-            }
-        }
-        #[cfg(not(feature = "std"))]
-        {
-            match self {
-                EncodeKernel::Avx512 => cfg!(all(
-                    target_feature = "avx512f",
-                    target_feature = "avx512bw",
-                    target_feature = "avx512cd"
-                )),
-                EncodeKernel::Avx2 => cfg!(target_feature = "avx2"),
-            }
-        }
-    }
-}
+use super::EncodeKernel;
+use crate::coder::lanes::encode::{propagate_carry, EncodeTable, FRONT};
 
 /// The lane encoder's state, as the kernels read and update it: lane `l`'s
 /// region is `buf[l * stride ..][..stride]`, its stream starting [`FRONT`]
@@ -408,9 +350,10 @@ unsafe fn rows_avx2<const V: usize>(mut lanes: Lanes<'_>, rows: &[u8], table: &E
 #[cfg(test)]
 mod tests {
     use super::EncodeKernel;
-    use crate::coder::encode_interleaved;
-    use crate::coder::lane_enc::{EncodeTable, LaneEncoder};
-    use crate::model::TableModel;
+    use crate::coder::encode_lanes;
+    use crate::coder::lanes::encode::{EncodeTable, LaneEncoder};
+    use crate::coder::lanes::testing::TestTable;
+    use crate::coder::LaneTable;
     use alloc::vec;
     use alloc::vec::Vec;
     use proptest::prelude::*;
@@ -422,19 +365,19 @@ mod tests {
             .filter(|k| {
                 let ok = k.supported();
                 if !ok {
-                    std::println!("skipped: lane-encoder kernel {k:?} (this CPU lacks it)");
+                    std::eprintln!("skipped: lane-encoder kernel {k:?} (this CPU lacks it)");
                 }
                 ok
             })
             .collect()
     }
 
-    fn table_of(model: &TableModel) -> EncodeTable {
+    fn table_of(model: &TestTable) -> EncodeTable {
         EncodeTable::new(model.frequencies(), model.cumulative(), model.log2_total())
     }
 
     /// Codes `data` in pieces of the lengths in `pieces` (cycled), as the
-    /// refreshed lanes do, on `kernel` (`None`: the scalar steps).
+    /// adaptive lanes do, on `kernel` (`None`: the scalar steps).
     fn code(
         t: &EncodeTable,
         data: &[u8],
@@ -466,7 +409,7 @@ mod tests {
     impl Lane {
         /// Codes `b`; returns whether its carry reached a last byte of 0xFF
         /// (the kernels' scalar detour).
-        fn step(&mut self, model: &TableModel, b: u8) -> bool {
+        fn step(&mut self, model: &TestTable, b: u8) -> bool {
             let (freq, cum, shift) = (model.frequencies(), model.cumulative(), model.log2_total());
             let (c, f) = (cum[usize::from(b)], freq[usize::from(b)]);
             let r = self.range >> shift;
@@ -474,7 +417,7 @@ mod tests {
             let spill = carry && self.out.last() == Some(&0xFF);
             if carry {
                 let len = self.out.len();
-                crate::coder::lane_enc::propagate_carry(&mut self.out, len);
+                crate::coder::lanes::encode::propagate_carry(&mut self.out, len);
             }
             self.low = sum;
             self.range = if c + f < 1 << shift {
@@ -482,7 +425,7 @@ mod tests {
             } else {
                 self.range - r * c
             };
-            while self.range < 1 << 24 {
+            while self.range < crate::coder::TOP {
                 self.out.push((self.low >> 24) as u8);
                 self.low <<= 8;
                 self.range <<= 8;
@@ -493,7 +436,7 @@ mod tests {
 
     /// Carries that reach a last byte of 0xFF in the scalar steps of the
     /// `lanes` lanes.
-    fn spills(model: &TableModel, data: &[u8], lanes: usize) -> usize {
+    fn spills(model: &TestTable, data: &[u8], lanes: usize) -> usize {
         (0..lanes.min(data.len()))
             .map(|l| {
                 let mut lane = Lane {
@@ -514,7 +457,7 @@ mod tests {
     /// `lanes` lanes), to make carries into runs of 0xFF: each step takes
     /// the symbol that makes one, else one that leaves 0xFF as the last
     /// byte, else a pseudo-random one.
-    fn carry_heavy(model: &TableModel, len: usize, lanes: usize) -> Vec<u8> {
+    fn carry_heavy(model: &TestTable, len: usize, lanes: usize) -> Vec<u8> {
         let mut data = vec![0u8; len];
         let mut seed = 0x9E37_79B9u32;
         for l in 0..lanes {
@@ -549,7 +492,7 @@ mod tests {
     fn lane_edges_match_the_scalar_steps() {
         let kernels = kernels();
         for log2_total in [8u32, 12, 16] {
-            let model = TableModel::from_counts(&[3, 1, 60], log2_total).unwrap();
+            let model = TestTable::from_counts(&[3, 1, 60], log2_total).unwrap();
             let t = table_of(&model);
             for lanes in 1..=crate::coder::MAX_LANES {
                 let data = carry_heavy(&model, 8_000 + 300 * lanes, lanes);
@@ -561,7 +504,7 @@ mod tests {
                     );
                 }
                 let mut m = model.clone();
-                let reference = encode_interleaved(&mut m, &data, lanes).unwrap();
+                let reference = encode_lanes(&mut m, &data, lanes).unwrap();
                 assert_eq!(code(&t, &data, lanes, None, &[data.len()]), reference);
                 for &k in &kernels {
                     let whole = code(&t, &data, lanes, Some(k), &[data.len()]);
@@ -617,11 +560,11 @@ mod tests {
             lanes in prop::sample::select(vec![8usize, 16, 24, 32]),
             pieces in prop::collection::vec(1usize..300, 1..4),
         ) {
-            let model = TableModel::from_counts(&counts, log2_total).unwrap();
+            let model = TestTable::from_counts(&counts, log2_total).unwrap();
             let t = table_of(&model);
             let want = code(&t, &data, lanes, None, &[data.len()]);
             let mut m = model.clone();
-            prop_assert_eq!(&want, &encode_interleaved(&mut m, &data, lanes).unwrap());
+            prop_assert_eq!(&want, &encode_lanes(&mut m, &data, lanes).unwrap());
             for k in kernels() {
                 prop_assert_eq!(&code(&t, &data, lanes, Some(k), &[data.len()]), &want);
                 prop_assert_eq!(&code(&t, &data, lanes, Some(k), &pieces), &want);

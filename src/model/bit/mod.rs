@@ -8,6 +8,13 @@
 //! with the same bits. [`encode_with`] and [`decode_with`] do the
 //! predict–code–update step in one call.
 //!
+//! Around the trait: [`CountingPredictor`] and [`KtPredictor`] (count-based
+//! rates), [`BitTree`] (bytes through a binary tree of predictors),
+//! [`stretch`] / [`squash`] (the logistic domain), [`Mixer`] and
+//! [`MixedPredictor`] (logistic mixing) and [`Apm`] (an adaptive
+//! probability map). The packed counters of the context-mixing engines are
+//! in `counter`.
+//!
 //! This file also holds the simplest predictor, [`ShiftPredictor`]: a
 //! probability moved a fixed fraction `2^-rate` towards each coded bit (an
 //! exponentially decaying average; small rates adapt fast, large rates
@@ -15,9 +22,25 @@
 //! 32-bit state never leaves `0 .. 2^32`, so `p1` is always in `1 ..= 65535`
 //! after clamping.
 
+pub(crate) mod apm;
+pub(crate) mod counter;
+mod kt;
+pub(crate) mod logistic;
+pub(crate) mod mix;
+mod tree;
+
+pub use apm::Apm;
+pub use counter::{CountingPredictor, MAX_COUNT_LIMIT};
+pub use kt::KtPredictor;
+pub use logistic::{squash, stretch, STRETCH_MAX};
+pub use mix::{MixedPredictor, Mixer, MAX_MIXER_INPUTS, MAX_MIXER_SETS};
+pub use tree::BitTree;
+
 use alloc::boxed::Box;
 
 use crate::coder::{ByteSink, ByteSource, Decoder, Encoder};
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 
 /// A source of binary probabilities: `P(next bit = 1)` scaled to 2^16.

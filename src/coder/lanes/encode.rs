@@ -36,9 +36,9 @@
 use alloc::vec;
 use alloc::vec::Vec;
 
+use crate::coder::encoder::flush_value;
+use crate::coder::TOP;
 use crate::error::{ErrorKind, Result};
-
-const TOP: u32 = 1 << 24;
 
 /// Rows coded per scalar pass of a lane group before the next group takes
 /// over.
@@ -181,18 +181,7 @@ struct Shape {
 
 /// Ends one lane: the same flush as `Encoder::finish`.
 fn flush_lane(mut low: u32, range: u32, out: &mut [u8], mut pos: usize) -> usize {
-    let end = u64::from(low) + u64::from(range);
-    let mut keep = 0;
-    let mut value = u64::from(low);
-    for k in 0..=4u32 {
-        let mask = (1u64 << (32 - 8 * k)) - 1;
-        let candidate = (u64::from(low) + mask) & !mask;
-        if candidate < end {
-            keep = k;
-            value = candidate;
-            break;
-        }
-    }
+    let (value, keep) = flush_value(u64::from(low), range);
     if value >> 32 != 0 {
         propagate_carry(out, pos);
     }
@@ -207,7 +196,7 @@ fn flush_lane(mut low: u32, range: u32, out: &mut [u8], mut pos: usize) -> usize
 
 /// The vector kernel a lane encoder may use (none off x86-64).
 #[cfg(target_arch = "x86_64")]
-pub(crate) type EncodeVector = Option<super::table_simd_enc::EncodeKernel>;
+pub(crate) type EncodeVector = Option<super::simd::EncodeKernel>;
 /// The vector kernel a lane encoder may use (none off x86-64).
 #[cfg(not(target_arch = "x86_64"))]
 pub(crate) type EncodeVector = Option<core::convert::Infallible>;
@@ -215,7 +204,7 @@ pub(crate) type EncodeVector = Option<core::convert::Infallible>;
 /// The best vector kernel for encoding `lanes` lanes on this CPU, if any.
 pub(crate) fn best_encode_kernel(lanes: usize) -> EncodeVector {
     #[cfg(target_arch = "x86_64")]
-    return super::table_simd_enc::EncodeKernel::for_lanes(lanes);
+    return super::simd::EncodeKernel::for_lanes(lanes);
     #[cfg(not(target_arch = "x86_64"))]
     {
         let _ = lanes;
@@ -383,9 +372,9 @@ impl LaneEncoder {
     fn rows(&mut self, body: &[u8], table: &EncodeTable, shape: &Shape) {
         #[cfg(target_arch = "x86_64")]
         if let Some(kernel) = self.kernel {
-            super::table_simd_enc::encode_rows(
+            super::simd::encode::encode_rows(
                 kernel,
-                super::table_simd_enc::Lanes {
+                super::simd::encode::Lanes {
                     low: &mut self.low,
                     range: &mut self.range,
                     pos: &mut self.pos,

@@ -1,7 +1,7 @@
 //! The 512-bit build of the byte-table lane decoder (x86-64 with AVX-512 F
 //! and BW): sixteen lanes per vector.
 //!
-//! Each step is the one of [`table_simd`](super::table_simd), on vectors
+//! Each step is the one of [`decode`](super::decode), on vectors
 //! twice as wide, so a row of 32 lanes takes half the instructions:
 //!
 //! 1. `r = range >> log2_total`; the slot `t = min(code / r, total - 1)`,
@@ -17,14 +17,14 @@
 //! flag and the byte counts need no extra blend instructions, and sixteen
 //! decoded symbols narrow to bytes in one instruction.
 //!
-//! Invariant, kept by the caller (`table_simd::decode_rows` asserts it): no
+//! Invariant, kept by the caller (`decode::decode_rows` asserts it): no
 //! position can pass `buffer.len() - 4` during the call, so every four-byte
 //! gather reads inside the buffer.
 #![allow(unsafe_code)]
 
 use core::arch::x86_64::*;
 
-use crate::coder::lane_dec::{DecodeTables, LaneState};
+use crate::coder::lanes::decode::{DecodeTables, LaneState};
 
 /// Whether the running CPU has this kernel's instructions.
 pub(crate) fn supported() -> bool {
@@ -213,11 +213,13 @@ mod tests {
     /// values where rounding bites (the cases of the 256-bit kernel's test).
     #[test]
     fn slot_is_the_exact_clamped_quotient() {
+        crate::coder::lanes::simd::decode::tests::check_quotient_cases();
         if !supported() {
+            std::eprintln!("skipped: the 512-bit slot estimate (this CPU lacks AVX-512 F and BW)");
             return;
         }
         let mut checked = 0u64;
-        for (r, last, codes) in crate::coder::table_simd::tests::quotient_cases() {
+        for (r, last, codes) in crate::coder::lanes::simd::decode::tests::quotient_cases() {
             for chunk in codes.chunks(16) {
                 let mut c = [0u32; 16];
                 c[..chunk.len()].copy_from_slice(chunk);

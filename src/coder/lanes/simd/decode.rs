@@ -3,7 +3,7 @@
 //!
 //! Each vector holds the `range`, `code` and read position of eight lanes,
 //! and one pass decodes one symbol in each of them, exactly as the scalar
-//! step in `lane_dec` does:
+//! step in `lanes::decode` does:
 //!
 //! 1. `r = range >> log2_total`; the slot `t = min(code / r, total - 1)`.
 //!    The quotient is estimated in `f32` and then corrected with integer
@@ -34,67 +34,8 @@
 
 use core::arch::x86_64::*;
 
-use crate::coder::lane_dec::{fill_spans, DecodeTables, LaneState};
-
-/// Which build of the kernel this CPU runs.
-#[derive(Clone, Copy, PartialEq, Eq, Debug)]
-pub(crate) enum Kernel {
-    /// AVX-512 F and BW with 512-bit vectors: sixteen lanes a vector, two
-    /// vectors a pass (`table_simd_wide`); lane counts that are a multiple
-    /// of sixteen.
-    Avx512Wide,
-    /// AVX-512 F and VL: 32 vector registers, four vectors a pass.
-    Avx512,
-    /// AVX2: 16 vector registers, two vectors a pass.
-    Avx2,
-}
-
-impl Kernel {
-    /// The best kernel for `lanes` lanes on the running CPU; none unless
-    /// the lane count is a multiple of eight.
-    pub(crate) fn for_lanes(lanes: usize) -> Option<Kernel> {
-        if !lanes.is_multiple_of(8) {
-            return None;
-        }
-        [Kernel::Avx512Wide, Kernel::Avx512, Kernel::Avx2]
-            .into_iter()
-            .find(|k| k.fits(lanes) && k.supported())
-    }
-
-    /// Whether the kernel decodes `lanes` lanes (a multiple of its vector
-    /// width).
-    pub(crate) fn fits(self, lanes: usize) -> bool {
-        match self {
-            Kernel::Avx512Wide => lanes.is_multiple_of(16),
-            _ => lanes.is_multiple_of(8),
-        }
-    }
-
-    /// Whether the running CPU has the kernel's instructions.
-    pub(crate) fn supported(self) -> bool {
-        #[cfg(feature = "std")]
-        {
-            match self {
-                Kernel::Avx512Wide => super::table_simd_wide::supported(),
-                Kernel::Avx512 => {
-                    std::is_x86_feature_detected!("avx512f")
-                        && std::is_x86_feature_detected!("avx512vl")
-                }
-                Kernel::Avx2 => std::is_x86_feature_detected!("avx2"),
-            }
-        }
-        #[cfg(not(feature = "std"))]
-        {
-            match self {
-                Kernel::Avx512Wide => super::table_simd_wide::supported(),
-                Kernel::Avx512 => {
-                    cfg!(all(target_feature = "avx512f", target_feature = "avx512vl"))
-                }
-                Kernel::Avx2 => cfg!(target_feature = "avx2"),
-            }
-        }
-    }
-}
+use super::Kernel;
+use crate::coder::lanes::decode::{fill_spans, DecodeTables, LaneState};
 
 /// Fills the decoding tables of `freq` / `cum` (see `DecodeTables::set`)
 /// with the widest stores the CPU has: the table fill of the refreshed
@@ -164,7 +105,7 @@ pub(crate) fn decode_rows(
             // vectors` lanes, and the asserts above are the bounds the
             // kernel relies on (see `decode_rows` of the narrow build).
             unsafe {
-                use super::table_simd_wide::rows;
+                use super::decode_wide::rows;
                 match (vectors, tables.packed) {
                     (2, true) => rows::<2, true>(group, first, n, buffer, tables, chunk),
                     (2, false) => rows::<2, false>(group, first, n, buffer, tables, chunk),
@@ -351,9 +292,7 @@ macro_rules! kernel {
                     // SAFETY: the kernel's features include AVX2.
                     let t = unsafe { slot(code[g], r, last_slot) };
 
-                    // SAFETY: `t < total <= slots.len()`; the symbol table has at
-                    // least three bytes of padding past `total` for the four-byte
-                    // read.
+                    // SAFETY: `t < total <= slots.len()`.
                     let entry = unsafe { _mm256_i32gather_epi32::<4>(slots, t) };
                     let (cum, freq, sym) = if PACKED {
                         let cum = _mm256_and_si256(entry, low12);
@@ -364,6 +303,9 @@ macro_rules! kernel {
                             _mm256_srli_epi32::<24>(entry),
                         )
                     } else {
+                        // SAFETY: `t < total`, and the symbol table has at least
+                        // three bytes of padding past `total` for the four-byte
+                        // read.
                         let sym = unsafe { _mm256_i32gather_epi32::<1>(symbols, t) };
                         let cum = _mm256_and_si256(entry, low16);
                         let freq = _mm256_add_epi32(_mm256_srli_epi32::<16>(entry), one);
@@ -471,11 +413,29 @@ pub(crate) mod tests {
         cases
     }
 
+    /// The cases cover what they are for, on any CPU: every `r` in
+    /// `2^8 ..= 2^24`, and for each `(r, last)` codes on both sides of a
+    /// multiple of `r`, and at and above the clamp where codes reach it.
+    pub(crate) fn check_quotient_cases() {
+        let cases = quotient_cases();
+        assert!(cases.len() > 1000);
+        for (r, last, codes) in &cases {
+            assert!((256..=1 << 24).contains(r));
+            assert!(codes.iter().any(|&c| c % r == r - 1) && codes.iter().any(|&c| c % r == 0));
+            if u32::MAX / r > *last {
+                assert!(codes.iter().any(|&c| c / r == *last));
+                assert!(codes.iter().any(|&c| c / r > *last));
+            }
+        }
+    }
+
     /// Scalar `min(code / r, last)` against the vector estimate, on
     /// [`quotient_cases`].
     #[test]
     fn slot_is_the_exact_clamped_quotient() {
+        check_quotient_cases();
         if !Kernel::Avx2.supported() {
+            std::eprintln!("skipped: the 256-bit slot estimate (this CPU lacks AVX2)");
             return;
         }
         let mut checked = 0u64;

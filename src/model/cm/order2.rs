@@ -1,4 +1,4 @@
-//! The fast engine: order-2 contexts that inherit from order 1.
+//! The order-2 engine: order-2 contexts that inherit from order 1.
 //!
 //! Each byte is coded bit by bit through the nibble trees of its order-2
 //! context (the two previous bytes, 65,536 of them). A context table holds 17
@@ -33,11 +33,11 @@ use alloc::vec::Vec;
 
 use crate::coder::{Decoder, Encoder, IdealCost};
 use crate::error::Result;
-use crate::model::cm::arena::GroupArena;
+use crate::model::arena::GroupArena;
+use crate::model::bit::counter::{counter_n, counter_p16, counter_update, COUNTER_INIT};
 use crate::model::cm::io::{BitIo, Coarse};
 use crate::model::cm::params::{Order2Params, NODES_PER_CONTEXT};
 use crate::model::cm::shrink::{code_bytes, finish_or_store};
-use crate::model::counter::{counter_n, counter_p16, counter_update, COUNTER_INIT};
 
 /// Updates a counter stored as `counter ^ COUNTER_INIT` (so that zeroed
 /// memory, which the allocator hands out lazily, reads as fresh counters).

@@ -1,31 +1,30 @@
-//! The fast path for [`RefreshModel`] over interleaved lanes.
+//! The fast path for a [`LaneTable`] that learns, over interleaved lanes.
 //!
-//! A refreshed model's table is fixed for a whole segment, so a segment is
+//! A lane table is fixed for a whole segment, so a segment is
 //! coded exactly like a block with a static table: the [lane
-//! encoder](super::lane_enc) and [lane decoder](super::lane_dec) (vector
+//! encoder](super::encode) and [lane decoder](super::decode) (vector
 //! kernels included) run over it, keeping their states from one segment to
 //! the next; between segments the model learns the segment's bytes in one
 //! step and the coding tables are rebuilt from its new frequencies.
 //!
-//! Invariant: [`encode_refresh_lanes`] writes exactly the streams of
-//! [`encode_interleaved`](super::encode_interleaved) with the same model
+//! Invariant: [`encode_adaptive_lanes`] writes exactly the streams of
+//! [`encode_lanes`](super::encode_lanes) with the same model
 //! and lane count, and both leave the model in the same state; the same
 //! holds for the decoders.
 
 use alloc::vec::Vec;
 
-use crate::coder::lane_dec::{best_kernel, DecodeTables, LaneDecoder, Vector};
-use crate::coder::lane_enc::{best_encode_kernel, EncodeTable, EncodeVector, LaneEncoder};
-use crate::coder::lanes::check_lanes;
+use crate::coder::lanes::decode::{best_kernel, DecodeTables, LaneDecoder, Vector};
+use crate::coder::lanes::encode::{best_encode_kernel, EncodeTable, EncodeVector, LaneEncoder};
+use crate::coder::lanes::{check_lanes, LaneTable};
 #[cfg(doc)]
 use crate::error::ErrorKind;
 use crate::error::Result;
-use crate::model::{Model, RefreshModel};
 
 /// Codes `data` with `model` over `lanes` interleaved coders, a segment at
 /// a time; the model learns every byte.
 ///
-/// Output is identical to [`encode_interleaved`](super::encode_interleaved)
+/// Output is identical to [`encode_lanes`](super::encode_lanes)
 /// with the same model and lane count.
 ///
 /// # Errors
@@ -37,58 +36,59 @@ use crate::model::{Model, RefreshModel};
 /// # Example
 ///
 /// ```
-/// use subrange::coder::{decode_refresh_lanes, encode_refresh_lanes};
-/// use subrange::model::RefreshModel;
+/// use subrange::coder::{decode_adaptive_lanes, encode_adaptive_lanes};
+/// use subrange::model::AdaptiveModel;
 ///
 /// # fn main() -> Result<(), subrange::Error> {
 /// let data = b"G107,1440,212,1123,98\nG114,1440,208,1081,97\n".repeat(200);
-/// let mut model = RefreshModel::new(256)?;
-/// let lanes = encode_refresh_lanes(&mut model, &data, 8)?;
+/// let mut model = AdaptiveModel::new(256)?;
+/// let lanes = encode_adaptive_lanes(&mut model, &data, 8)?;
 /// let coded: usize = lanes.iter().map(Vec::len).sum();
 /// assert!(coded < data.len() / 2);
 ///
 /// let views: Vec<&[u8]> = lanes.iter().map(Vec::as_slice).collect();
-/// let mut model = RefreshModel::new(256)?;
+/// let mut model = AdaptiveModel::new(256)?;
 /// let mut back = vec![0; data.len()];
-/// decode_refresh_lanes(&mut model, &views, &mut back)?;
+/// decode_adaptive_lanes(&mut model, &views, &mut back)?;
 /// assert_eq!(back, data);
 /// # Ok(())
 /// # }
 /// ```
-pub fn encode_refresh_lanes(
-    model: &mut RefreshModel,
+pub fn encode_adaptive_lanes<T: LaneTable + ?Sized>(
+    model: &mut T,
     data: &[u8],
     lanes: usize,
 ) -> Result<Vec<Vec<u8>>> {
     encode_with(model, data, lanes, best_encode_kernel(lanes))
 }
 
-/// [`encode_refresh_lanes`] on the scalar steps only, whatever the CPU: the
+/// [`encode_adaptive_lanes`] on the scalar steps only, whatever the CPU: the
 /// reference the vector kernels are checked against (by the tests and the
 /// fuzz targets). Same results, slower.
 ///
 /// # Errors
 ///
-/// As for [`encode_refresh_lanes`].
+/// As for [`encode_adaptive_lanes`].
 #[doc(hidden)]
-pub fn encode_refresh_lanes_scalar(
-    model: &mut RefreshModel,
+pub fn encode_adaptive_lanes_scalar<T: LaneTable + ?Sized>(
+    model: &mut T,
     data: &[u8],
     lanes: usize,
 ) -> Result<Vec<Vec<u8>>> {
     encode_with(model, data, lanes, None)
 }
 
-/// [`encode_refresh_lanes`] with the vector kernel chosen by the caller.
-fn encode_with(
-    model: &mut RefreshModel,
+/// [`encode_adaptive_lanes`] with the vector kernel chosen by the caller.
+fn encode_with<T: LaneTable + ?Sized>(
+    model: &mut T,
     data: &[u8],
     lanes: usize,
     kernel: EncodeVector,
 ) -> Result<Vec<Vec<u8>>> {
     check_lanes(lanes)?;
     let mut table = EncodeTable::new(model.frequencies(), model.cumulative(), model.log2_total());
-    // The set of codable symbols never changes, so the first table tells.
+    // The set of codable symbols never changes (a `LaneTable` rule), so
+    // the first table tells.
     table.check_codable(data, model.alphabet_size())?;
     let mut enc = LaneEncoder::with_kernel(data.len(), lanes, kernel);
     let mut rest = data;
@@ -105,9 +105,9 @@ fn encode_with(
     Ok(enc.finish().into_vecs())
 }
 
-/// Decodes `out.len()` bytes coded by [`encode_refresh_lanes`] (or by
-/// [`encode_interleaved`](super::encode_interleaved) with a
-/// [`RefreshModel`]) with `streams.len()` lanes; the model learns every
+/// Decodes `out.len()` bytes coded by [`encode_adaptive_lanes`] (or by
+/// [`encode_lanes`](super::encode_lanes) with the same
+/// model) with `streams.len()` lanes; the model learns every
 /// byte.
 ///
 /// # Errors
@@ -116,33 +116,33 @@ fn encode_with(
 /// [`ErrorKind::Truncated`], [`ErrorKind::CorruptStream`] or
 /// [`ErrorKind::TrailingBytes`] when a lane's stream is damaged. The work
 /// done is bounded by `out.len()` whatever the input.
-pub fn decode_refresh_lanes(
-    model: &mut RefreshModel,
+pub fn decode_adaptive_lanes<T: LaneTable + ?Sized>(
+    model: &mut T,
     streams: &[&[u8]],
     out: &mut [u8],
 ) -> Result<()> {
     decode_with(model, streams, out, best_kernel(streams.len()))
 }
 
-/// [`decode_refresh_lanes`] on the scalar steps only, whatever the CPU: the
+/// [`decode_adaptive_lanes`] on the scalar steps only, whatever the CPU: the
 /// reference the vector kernels are checked against (by the tests and the
 /// fuzz targets). Same results, slower.
 ///
 /// # Errors
 ///
-/// As for [`decode_refresh_lanes`].
+/// As for [`decode_adaptive_lanes`].
 #[doc(hidden)]
-pub fn decode_refresh_lanes_scalar(
-    model: &mut RefreshModel,
+pub fn decode_adaptive_lanes_scalar<T: LaneTable + ?Sized>(
+    model: &mut T,
     streams: &[&[u8]],
     out: &mut [u8],
 ) -> Result<()> {
     decode_with(model, streams, out, None)
 }
 
-/// [`decode_refresh_lanes`] with the vector kernel chosen by the caller.
-fn decode_with(
-    model: &mut RefreshModel,
+/// [`decode_adaptive_lanes`] with the vector kernel chosen by the caller.
+fn decode_with<T: LaneTable + ?Sized>(
+    model: &mut T,
     streams: &[&[u8]],
     out: &mut [u8],
     kernel: Vector,
@@ -168,9 +168,9 @@ fn decode_with(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::coder::{decode_interleaved, encode_interleaved};
+    use crate::coder::lanes::testing::Segmented;
+    use crate::coder::{decode_lanes, encode_lanes};
     use crate::error::ErrorKind;
-    use crate::model::RefreshParams;
     use alloc::vec;
 
     fn drifting(len: usize) -> Vec<u8> {
@@ -186,26 +186,20 @@ mod tests {
     fn identical_to_the_generic_path() {
         let data = drifting(70_001);
         for log2_total in [8u32, 12, 15] {
-            let p = RefreshParams {
-                log2_total,
-                max_period: 4096,
-                limit: 1 << 14,
-                ..RefreshParams::default()
-            };
             for lanes in [1usize, 3, 4, 8, 24, 32] {
-                let fresh = || RefreshModel::with_params(256, p).unwrap();
+                let fresh = || Segmented::new(256, log2_total, 3001);
                 let (mut a, mut b) = (fresh(), fresh());
-                let fast = encode_refresh_lanes(&mut a, &data, lanes).unwrap();
-                let slow = encode_interleaved(&mut b, &data, lanes).unwrap();
+                let fast = encode_adaptive_lanes(&mut a, &data, lanes).unwrap();
+                let slow = encode_lanes(&mut b, &data, lanes).unwrap();
                 assert_eq!(fast, slow, "log2_total={log2_total} lanes={lanes}");
                 assert_eq!(a, b);
                 let views: Vec<&[u8]> = fast.iter().map(Vec::as_slice).collect();
                 let (mut c, mut d) = (fresh(), fresh());
                 let mut out = vec![0u8; data.len()];
-                decode_refresh_lanes(&mut c, &views, &mut out).unwrap();
+                decode_adaptive_lanes(&mut c, &views, &mut out).unwrap();
                 assert_eq!(out, data);
                 let mut out2 = vec![0u8; data.len()];
-                decode_interleaved(&mut d, &views, &mut out2).unwrap();
+                decode_lanes(&mut d, &views, &mut out2).unwrap();
                 assert_eq!(out2, data);
                 assert_eq!(c, a);
             }
@@ -216,8 +210,13 @@ mod tests {
     #[test]
     fn kernels_agree_with_the_scalar_steps() {
         let data = drifting(40_000);
-        let fresh = || RefreshModel::new(256).unwrap();
-        let mut streams = encode_refresh_lanes(&mut fresh(), &data, 16).unwrap();
+        let fresh = || Segmented::new(256, 12, 2048);
+        if best_kernel(16).is_none() {
+            std::eprintln!(
+                "skipped: the vector lane decoder (this CPU lacks AVX2); scalar steps only"
+            );
+        }
+        let mut streams = encode_adaptive_lanes(&mut fresh(), &data, 16).unwrap();
         for damage in 0..3 {
             match damage {
                 1 => streams[5][40] ^= 0x21,
@@ -226,10 +225,10 @@ mod tests {
             }
             let views: Vec<&[u8]> = streams.iter().map(Vec::as_slice).collect();
             let mut want = vec![0u8; data.len()];
-            let verdict = decode_refresh_lanes_scalar(&mut fresh(), &views, &mut want)
+            let verdict = decode_adaptive_lanes_scalar(&mut fresh(), &views, &mut want)
                 .map_err(|e| alloc::format!("{e:?}"));
             let mut got = vec![0u8; data.len()];
-            let v = decode_refresh_lanes(&mut fresh(), &views, &mut got)
+            let v = decode_adaptive_lanes(&mut fresh(), &views, &mut got)
                 .map_err(|e| alloc::format!("{e:?}"));
             assert_eq!(v, verdict, "damage {damage}");
             if damage == 0 {
@@ -243,16 +242,16 @@ mod tests {
 
     #[test]
     fn uncodable_bytes_and_bad_lane_counts() {
-        let mut m = RefreshModel::new(10).unwrap();
-        let err = encode_refresh_lanes(&mut m, &[1, 2, 200], 2).unwrap_err();
+        let mut m = Segmented::new(10, 12, 100);
+        let err = encode_adaptive_lanes(&mut m, &[1, 2, 200], 2).unwrap_err();
         assert!(matches!(
             err.kind(),
             ErrorKind::UncodableSymbol { symbol: 200, .. }
         ));
-        assert_eq!(m, RefreshModel::new(10).unwrap());
-        assert!(encode_refresh_lanes(&mut m, &[1], 0).is_err());
-        assert!(encode_refresh_lanes(&mut m, &[1], 33).is_err());
+        assert_eq!(m, Segmented::new(10, 12, 100));
+        assert!(encode_adaptive_lanes(&mut m, &[1], 0).is_err());
+        assert!(encode_adaptive_lanes(&mut m, &[1], 33).is_err());
         let mut out = [0u8; 4];
-        assert!(decode_refresh_lanes(&mut m, &[], &mut out).is_err());
+        assert!(decode_adaptive_lanes(&mut m, &[], &mut out).is_err());
     }
 }

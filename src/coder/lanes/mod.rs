@@ -12,15 +12,90 @@
 //! k + 2N, …`, so a decoder that knows the block length and `N` knows how many
 //! symbols each lane carries. Each lane stream is an ordinary coded stream
 //! (see [`Encoder`]), ended by its own flush; a container stores their lengths.
+//!
+//! Three pairs of entry points share that layout and write the same bytes:
+//!
+//! - [`encode_lanes`] / [`decode_lanes`]: any [`Model`], one
+//!   scalar coder per lane;
+//! - [`encode_table_lanes`] / [`decode_table_lanes`]: a [`LaneTable`]'s
+//!   current table for the whole block, with every lane's state in registers
+//!   ([`encode`] and [`decode`], vector kernels in `simd`);
+//! - [`encode_adaptive_lanes`] / [`decode_adaptive_lanes`]: the same steps
+//!   segment by segment, the model learning each segment and handing over
+//!   its next table.
 
 use alloc::vec::Vec;
 
-use crate::coder::{Decoder, Encoder, SliceSource};
-use crate::error::{ErrorKind, Result};
-use crate::model::Model;
+use crate::coder::{Decoder, Encoder, Model, SliceSource};
+#[cfg(doc)]
+use crate::error::ErrorKind;
+use crate::error::Result;
+
+mod adaptive;
+mod decode;
+mod encode;
+#[cfg(target_arch = "x86_64")]
+mod simd;
+mod table;
+#[cfg(test)]
+pub(crate) mod testing;
+
+pub use adaptive::{
+    decode_adaptive_lanes, decode_adaptive_lanes_scalar, encode_adaptive_lanes,
+    encode_adaptive_lanes_scalar,
+};
+#[cfg(feature = "std")]
+pub(crate) use decode::LANE_PAD;
+#[cfg(feature = "std")]
+pub(crate) use table::encode_counted;
+pub use table::{
+    decode_table_lanes, decode_table_lanes_scalar, encode_table_lanes, encode_table_lanes_scalar,
+};
 
 /// Most lanes a block may use.
 pub const MAX_LANES: usize = 32;
+
+/// A byte model whose frequencies form a table with a power-of-two total
+/// that holds for a segment of symbols: what the table lanes code with.
+///
+/// # Implementer notes
+///
+/// - [`frequencies`](LaneTable::frequencies) has one entry per symbol (at
+///   most 256), [`cumulative`](LaneTable::cumulative) one more (the running
+///   sums, the last one the total), and the total is
+///   `2^log2_total()` with `log2_total() <= 16`; they agree with the
+///   model's [`Model::span`].
+/// - A symbol has a frequency of 0 in every table or in none: the set of
+///   codable symbols never changes.
+/// - [`segment_left`](LaneTable::segment_left) is at least 1: the symbols
+///   still coded with the current table. [`update_run`](LaneTable::update_run)
+///   learns at most that many symbols at once, exactly as
+///   [`Model::update`] for each would, and may change the table only when
+///   it ends the segment. A table that never changes keeps the defaults.
+pub trait LaneTable: Model {
+    /// The frequencies, one per symbol.
+    fn frequencies(&self) -> &[u32];
+
+    /// The cumulative frequencies: `alphabet_size() + 1` entries, the last
+    /// one the total.
+    fn cumulative(&self) -> &[u32];
+
+    /// `log2` of the total.
+    fn log2_total(&self) -> u32;
+
+    /// Symbols still coded with the current table (at least 1). The
+    /// default, `u64::MAX`, is a table that never changes.
+    fn segment_left(&self) -> u64 {
+        u64::MAX
+    }
+
+    /// Learns a run of coded symbols, no longer than
+    /// [`segment_left`](LaneTable::segment_left), at once. The default
+    /// learns nothing.
+    fn update_run(&mut self, symbols: &[u8]) {
+        let _ = symbols;
+    }
+}
 
 /// Codes the bytes of `data` with `model` over `lanes` interleaved coders.
 ///
@@ -35,21 +110,21 @@ pub const MAX_LANES: usize = 32;
 /// # Example
 ///
 /// ```
-/// use subrange::coder::{decode_interleaved, encode_interleaved};
+/// use subrange::coder::{decode_lanes, encode_lanes};
 /// use subrange::model::TableModel;
 ///
 /// # fn main() -> Result<(), subrange::Error> {
 /// let data = b"level 112 cm, flow 3.4 m3/s, water 11.2 C; level 113 cm".to_vec();
 /// let mut model = TableModel::from_bytes_histogram(&data, 12)?;
-/// let streams = encode_interleaved(&mut model, &data, 4)?;
+/// let streams = encode_lanes(&mut model, &data, 4)?;
 /// let views: Vec<&[u8]> = streams.iter().map(|s| s.as_slice()).collect();
 /// let mut back = vec![0u8; data.len()];
-/// decode_interleaved(&mut model, &views, &mut back)?;
+/// decode_lanes(&mut model, &views, &mut back)?;
 /// assert_eq!(back, data);
 /// # Ok(())
 /// # }
 /// ```
-pub fn encode_interleaved<M: Model + ?Sized>(
+pub fn encode_lanes<M: Model + ?Sized>(
     model: &mut M,
     data: &[u8],
     lanes: usize,
@@ -64,7 +139,7 @@ pub fn encode_interleaved<M: Model + ?Sized>(
     }
 }
 
-/// Decodes `out.len()` bytes coded by [`encode_interleaved`] with
+/// Decodes `out.len()` bytes coded by [`encode_lanes`] with
 /// `streams.len()` lanes.
 ///
 /// # Errors
@@ -72,7 +147,7 @@ pub fn encode_interleaved<M: Model + ?Sized>(
 /// [`ErrorKind::InvalidParameter`] unless `1 <= streams.len() <= MAX_LANES`;
 /// the decoder's errors ([`ErrorKind::Truncated`], [`ErrorKind::CorruptStream`]);
 /// [`ErrorKind::TrailingBytes`] when a lane holds more than its symbols need.
-pub fn decode_interleaved<M: Model + ?Sized>(
+pub fn decode_lanes<M: Model + ?Sized>(
     model: &mut M,
     streams: &[&[u8]],
     out: &mut [u8],
@@ -127,14 +202,10 @@ fn decode_n<M: Model + ?Sized, const N: usize>(
         .iter()
         .map(|s| Decoder::new(s))
         .collect::<Result<_>>()?;
-    let decoders: &mut [Decoder<SliceSource<'_>>; N] =
-        decoders
-            .as_mut_slice()
-            .try_into()
-            .map_err(|_| ErrorKind::InvalidParameter {
-                name: "lanes",
-                reason: "lane count mismatch",
-            })?;
+    let decoders: &mut [Decoder<SliceSource<'_>>; N] = decoders
+        .as_mut_slice()
+        .try_into()
+        .map_err(|_| crate::Error::invalid_parameter("lanes", "lane count mismatch"))?;
     let mut chunks = out.chunks_exact_mut(N);
     for chunk in &mut chunks {
         for (dec, b) in decoders.iter_mut().zip(chunk.iter_mut()) {
@@ -175,27 +246,27 @@ fn finish_all<'a, 'b: 'a>(
 
 #[cfg(test)]
 mod tests {
+    use super::testing::{Segmented, TestTable};
     use super::*;
-    use crate::model::{AdaptiveModel, TableModel};
     use alloc::vec;
 
     #[test]
     fn every_lane_count_round_trips() {
         let data: Vec<u8> = (0..5000u32).map(|i| (i * i % 97) as u8).collect();
         for lanes in 1..=MAX_LANES {
-            let mut t = TableModel::from_bytes_histogram(&data, 12).unwrap();
-            let s = encode_interleaved(&mut t, &data, lanes).unwrap();
+            let mut t = TestTable::from_bytes(&data, 12).unwrap();
+            let s = encode_lanes(&mut t, &data, lanes).unwrap();
             let v: Vec<&[u8]> = s.iter().map(|x| x.as_slice()).collect();
             let mut out = vec![0u8; data.len()];
-            decode_interleaved(&mut t, &v, &mut out).unwrap();
+            decode_lanes(&mut t, &v, &mut out).unwrap();
             assert_eq!(out, data);
 
-            let mut a = AdaptiveModel::new(256).unwrap();
-            let s = encode_interleaved(&mut a, &data[..lanes * 3 + 1], lanes).unwrap();
+            let mut a = Segmented::new(256, 12, 7);
+            let s = encode_lanes(&mut a, &data[..lanes * 3 + 1], lanes).unwrap();
             let v: Vec<&[u8]> = s.iter().map(|x| x.as_slice()).collect();
-            let mut a = AdaptiveModel::new(256).unwrap();
+            let mut a = Segmented::new(256, 12, 7);
             let mut out = vec![0u8; lanes * 3 + 1];
-            decode_interleaved(&mut a, &v, &mut out).unwrap();
+            decode_lanes(&mut a, &v, &mut out).unwrap();
             assert_eq!(out, &data[..lanes * 3 + 1]);
         }
     }
@@ -203,11 +274,11 @@ mod tests {
     #[test]
     fn trailing_bytes_in_a_lane_are_reported() {
         let data = vec![1u8, 2, 3, 1, 2, 3, 1, 1];
-        let mut t = TableModel::from_bytes_histogram(&data, 8).unwrap();
-        let mut s = encode_interleaved(&mut t, &data, 2).unwrap();
+        let mut t = TestTable::from_bytes(&data, 8).unwrap();
+        let mut s = encode_lanes(&mut t, &data, 2).unwrap();
         s[1].extend_from_slice(&[1, 2, 3, 4, 5]);
         let v: Vec<&[u8]> = s.iter().map(|x| x.as_slice()).collect();
         let mut out = vec![0u8; data.len()];
-        assert!(decode_interleaved(&mut t, &v, &mut out).is_err());
+        assert!(decode_lanes(&mut t, &v, &mut out).is_err());
     }
 }

@@ -4,7 +4,7 @@
 //! (together with the bits of the current byte's high nibble, when coding the
 //! low nibble) is hashed to a *slot*: sixteen `u32`s, one 64-byte cache line.
 //! Entry 0 holds a 32-bit check value taken from other bits of the same hash;
-//! entries 1 to 15 are packed [counters](super::counter) for the 15 nodes of
+//! entries 1 to 15 are packed [counters](crate::model::bit::counter) for the 15 nodes of
 //! the nibble's binary tree (node `1`, then `2·node + bit`). Coding a byte
 //! touches two slots per context, one per nibble.
 //!
@@ -27,7 +27,7 @@
 use alloc::vec;
 use alloc::vec::Vec;
 
-use crate::model::counter::{counter_n, COUNTER_INIT};
+use crate::model::bit::counter::{counter_n, COUNTER_INIT};
 
 /// `u32`s per slot.
 pub(crate) const SLOT_WORDS: usize = 16;
@@ -168,7 +168,7 @@ impl SlotTable {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::model::counter::counter_update;
+    use crate::model::bit::counter::counter_update;
 
     #[test]
     fn finds_again_and_replaces_the_weaker() {

@@ -19,16 +19,18 @@
 //! vectorise. All of it is integer arithmetic, so encoder and decoder compute
 //! the same weights on every platform.
 //!
-//! [`Mixer`] is the low-level piece the strong engines use;
+//! [`Mixer`] is the low-level piece the context-mixing engines use;
 //! [`MixedPredictor`] wraps it around any set of [`BitPredictor`]s, which is
 //! how a user combines predictors of their own.
 
 use alloc::vec;
 use alloc::vec::Vec;
 
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
+use crate::model::bit::logistic::{squash, stretch, STRETCH_MAX};
 use crate::model::bit::BitPredictor;
-use crate::model::logistic::{squash, stretch, STRETCH_MAX};
 
 /// Largest weight magnitude: 16.0 in 16.16 fixed point.
 const WEIGHT_LIMIT: i32 = 16 << 16;

@@ -21,9 +21,9 @@
 use alloc::vec;
 use alloc::vec::Vec;
 
-use crate::model::counter::{counter_p16, counter_update, COUNTER_INIT};
-use crate::model::hashed::hash2;
-use crate::model::logistic::stretch;
+use crate::model::bit::counter::{counter_p16, counter_update, COUNTER_INIT};
+use crate::model::bit::logistic::stretch;
+use crate::model::cm::hashed::hash2;
 
 /// Bytes hashed to find match candidates.
 pub(crate) const MIN_LEN: usize = 6;

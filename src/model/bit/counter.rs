@@ -22,6 +22,8 @@
 //! whose bits are all zero is *not* valid (it means probability 0), tables
 //! initialise slots with [`COUNTER_INIT`].
 
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 use crate::model::bit::BitPredictor;
 
