@@ -54,7 +54,7 @@
 //! parameters standing for the defaults of the rest.
 
 mod adaptive_codec;
-mod cm_codec;
+mod mix_codec;
 mod history_codec;
 mod lanes;
 mod static_codec;
@@ -623,8 +623,8 @@ impl Preset {
             PresetKind::Static => Ok(()),
             PresetKind::Adaptive => adaptive_codec::check(self.params()),
             PresetKind::Stepwise => stepwise_codec::check(self.params()),
-            PresetKind::Order2 => cm_codec::order2_params(self.params()).map(drop),
-            PresetKind::Mix => cm_codec::mix_params(self.params()).map(drop),
+            PresetKind::Order2 => mix_codec::order2_params(self.params()).map(drop),
+            PresetKind::Mix => mix_codec::mix_params(self.params()).map(drop),
             PresetKind::History => history_codec::params(self.params()).map(drop),
         }
     }
@@ -645,8 +645,8 @@ impl Preset {
             PresetKind::Static => static_codec::encode(raw, self.params()),
             PresetKind::Adaptive => adaptive_codec::encode(raw, self.params()),
             PresetKind::Stepwise => stepwise_codec::encode(raw, self.params()),
-            PresetKind::Order2 => cm_codec::encode_o2(raw, self.params()),
-            PresetKind::Mix => cm_codec::encode_mx(raw, self.params()),
+            PresetKind::Order2 => mix_codec::encode_o2(raw, self.params()),
+            PresetKind::Mix => mix_codec::encode_mx(raw, self.params()),
             PresetKind::History => history_codec::encode(raw, self.params()),
         }
     }
@@ -666,9 +666,9 @@ impl Preset {
                 adaptive_codec::encode_or_store(raw, self.params())
             }
             PresetKind::Order2 if !raw.is_empty() => {
-                cm_codec::encode_o2_or_store(raw, self.params())
+                mix_codec::encode_o2_or_store(raw, self.params())
             }
-            PresetKind::Mix if !raw.is_empty() => cm_codec::encode_mx_or_store(raw, self.params()),
+            PresetKind::Mix if !raw.is_empty() => mix_codec::encode_mx_or_store(raw, self.params()),
             PresetKind::History if !raw.is_empty() => {
                 history_codec::encode_or_store(raw, self.params())
             }
@@ -731,8 +731,8 @@ impl Preset {
             PresetKind::Static => static_codec::decode(payload, self.params(), out),
             PresetKind::Adaptive => adaptive_codec::decode(payload, self.params(), out),
             PresetKind::Stepwise => stepwise_codec::decode(payload, self.params(), out),
-            PresetKind::Order2 => cm_codec::decode_o2(payload, self.params(), out),
-            PresetKind::Mix => cm_codec::decode_mx(payload, self.params(), out),
+            PresetKind::Order2 => mix_codec::decode_o2(payload, self.params(), out),
+            PresetKind::Mix => mix_codec::decode_mx(payload, self.params(), out),
             PresetKind::History => history_codec::decode(payload, self.params(), out),
         }
     }
@@ -768,8 +768,8 @@ impl Preset {
             PresetKind::Static => static_codec::ideal(raw, self.params()),
             PresetKind::Adaptive => adaptive_codec::ideal(raw, self.params()),
             PresetKind::Stepwise => stepwise_codec::ideal(raw, self.params()),
-            PresetKind::Order2 => cm_codec::ideal_o2(raw, self.params()),
-            PresetKind::Mix => cm_codec::ideal_mx(raw, self.params()),
+            PresetKind::Order2 => mix_codec::ideal_o2(raw, self.params()),
+            PresetKind::Mix => mix_codec::ideal_mx(raw, self.params()),
             PresetKind::History => history_codec::ideal(raw, self.params()),
         }
     }
@@ -793,8 +793,8 @@ impl Preset {
             PresetKind::Static => static_codec::working_memory(self.params(), block_size),
             PresetKind::Adaptive => adaptive_codec::working_memory(self.params(), block_size),
             PresetKind::Stepwise => stepwise_codec::model_memory(),
-            PresetKind::Order2 => cm_codec::order2_memory(self.params(), block_size),
-            PresetKind::Mix => cm_codec::mix_memory(self.params(), block_size),
+            PresetKind::Order2 => mix_codec::order2_memory(self.params(), block_size),
+            PresetKind::Mix => mix_codec::mix_memory(self.params(), block_size),
             PresetKind::History => history_codec::memory(self.params(), block_size),
         };
         buffers.saturating_add(model)
