@@ -1,171 +1,164 @@
-//! The `order2` and `mix` presets' block codecs: the context-mixing engines
-//! of [`model::cm`](crate::model::cm), restarted at every block.
+//! The `mix` preset's block codec: the mixing engine of
+//! [`model::cm`](crate::model::cm), restarted at every block (the payload
+//! and memory rules the context-mixing presets share are in
+//! [`engine`](super::engine)).
 //!
-//! A block's payload is the engine's bare coded stream; the raw length comes
-//! from the block frame and the parameters from the container header, so
-//! nothing else is stored. The decoder checks the engine's memory need
-//! against the reader's limit through [`Preset::memory_needed`](super::Preset::memory_needed)
-//! before any block is decoded.
+//! Header parameters: `memory_mib` (context table memory, a power of two
+//! 1 ..= 1024 MiB), `orders` (bit k enables order k + 1), `word`, `column`,
+//! `matcher` (0 or 1 each), `rate` (mixer learning rate), `precise` (the
+//! binary step).
 //!
-//! Header parameters (all small integers, validated by the engines):
-//! - `order2`: `order1` (0 or 1: new order-2 contexts inherit order-1
-//!   predictions), `limit` (counter limit, 1 ..= 1023);
-//! - `mix`: `memory_mib` (context table memory, a power of two 1 ..= 1024
-//!   MiB), `orders` (bit k enables order k + 1), `word`, `column`, `matcher`
-//!   (0 or 1 each), `rate` (mixer learning rate).
-//!
-//! Invariant: the engines allocate exactly their declared tables plus
-//! `raw_len` output bytes, whatever the payload says.
+//! Invariant: the typed parameters are exactly the engine's [`MixParams`],
+//! checked by the engine's own rules.
 
 use alloc::vec::Vec;
 
 use crate::coder::IdealCost;
 use crate::error::Result;
-use crate::model::cm::{
-    decode_mix, decode_order2, encode_mix, encode_order2, ideal_cost_mix, ideal_cost_order2,
-    MixParams, Order2Params,
+use crate::model::cm::{decode_mix, encode_mix, encode_mix_or_store, ideal_cost_mix, MixParams};
+use crate::preset::codec::Codec;
+use crate::preset::engine::{block_len, copy_exact, mem_log2, PRECISE};
+use crate::preset::spec::{ParamSpec, Values};
+
+/// The context table memory.
+const MEMORY_MIB: ParamSpec = ParamSpec {
+    name: "memory_mib",
+    default: 4,
+    min: 1,
+    max: 1024,
+    help: "context table memory in MiB, a power of two (the decoder needs the same)",
+    absent: None,
 };
 
-fn flag(v: u32, name: &'static str) -> Result<bool> {
-    match v {
-        0 => Ok(false),
-        1 => Ok(true),
-        _ => Err(crate::Error::invalid_parameter(name, "must be 0 or 1")),
+/// The context orders in use.
+const ORDERS: ParamSpec = ParamSpec {
+    name: "orders",
+    default: 0b00_0111,
+    min: 0,
+    max: 0b11_1111,
+    help: "context orders in use: bit k enables order k + 1 (default orders 1, 2, 3)",
+    absent: None,
+};
+
+/// The word context.
+const WORD: ParamSpec = ParamSpec {
+    name: "word",
+    default: 1,
+    min: 0,
+    max: 1,
+    help: "word context for text (1 on, 0 off)",
+    absent: None,
+};
+
+/// The column context.
+const COLUMN: ParamSpec = ParamSpec {
+    name: "column",
+    default: 1,
+    min: 0,
+    max: 1,
+    help: "column context for line-structured records (1 on, 0 off)",
+    absent: None,
+};
+
+/// The match model.
+const MATCHER: ParamSpec = ParamSpec {
+    name: "matcher",
+    default: 1,
+    min: 0,
+    max: 1,
+    help: "match model predicting from the longest earlier match (1 on, 0 off)",
+    absent: None,
+};
+
+/// The mixer's learning rate.
+const RATE: ParamSpec = ParamSpec {
+    name: "rate",
+    default: 6,
+    min: 1,
+    max: 64,
+    help: "mixer learning rate",
+    absent: None,
+};
+
+/// The `mix` preset.
+pub(crate) struct Mix;
+
+impl Codec for Mix {
+    type Params = MixParams;
+    const ID: u32 = 4;
+    const NAME: &'static str = "mix";
+    const SUMMARY: &'static str =
+        "orders 1-6, word, column and match models, logistically mixed; strong, slow";
+    const PARAMS: &'static [ParamSpec] =
+        &[MEMORY_MIB, ORDERS, WORD, COLUMN, MATCHER, RATE, PRECISE];
+
+    // The engine's parameter struct is non-exhaustive: start from its
+    // defaults and set every field the header carries.
+    #[allow(clippy::field_reassign_with_default)]
+    fn parse(values: Values<'_>) -> Result<MixParams> {
+        let mem_log2 = mem_log2(values.get(&MEMORY_MIB)?, MixParams::MAX_MEM_LOG2)?;
+        let mut p = MixParams::default();
+        p.mem_log2 = mem_log2;
+        p.orders = u8::try_from(values.get(&ORDERS)?).map_err(|_| {
+            crate::Error::invalid_parameter("orders", "must be a bit mask of orders 1 to 6")
+        })?;
+        p.word = values.flag(&WORD)?;
+        p.column = values.flag(&COLUMN)?;
+        p.matcher = values.flag(&MATCHER)?;
+        p.rate = u8::try_from(values.get(&RATE)?)
+            .map_err(|_| crate::Error::invalid_parameter("rate", "out of range"))?;
+        p.precise = values.flag(&PRECISE)?;
+        p.validate()?;
+        Ok(p)
     }
-}
 
-// The engines' parameter structs are non-exhaustive: start from their
-// defaults and set every field the header carries.
-#[allow(clippy::field_reassign_with_default)]
-pub(crate) fn order2_params(params: &[u32]) -> Result<Order2Params> {
-    let mut p = Order2Params::default();
-    p.order1 = flag(params[0], "order1")?;
-    p.limit = u16::try_from(params[1])
-        .map_err(|_| crate::Error::invalid_parameter("limit", "must be in 1 ..= 1023"))?;
-    p.precise = flag(params[2], "precise")?;
-    p.validate()?;
-    Ok(p)
-}
-
-#[allow(clippy::field_reassign_with_default)]
-pub(crate) fn mix_params(params: &[u32]) -> Result<MixParams> {
-    let mib = params[0];
-    if !mib.is_power_of_two() || mib > 1 << MixParams::MAX_MEM_LOG2 {
-        return Err(crate::Error::invalid_parameter(
-            "memory_mib",
-            "must be a power of two in 1 ..= 1024",
-        ));
+    fn encode(raw: &[u8], p: &MixParams) -> Result<Vec<u8>> {
+        encode_mix(raw, p)
     }
-    let mut p = MixParams::default();
-    p.mem_log2 = mib.trailing_zeros() as u8;
-    p.orders = u8::try_from(params[1]).map_err(|_| {
-        crate::Error::invalid_parameter("orders", "must be a bit mask of orders 1 to 6")
-    })?;
-    p.word = flag(params[2], "word")?;
-    p.column = flag(params[3], "column")?;
-    p.matcher = flag(params[4], "matcher")?;
-    p.rate = u8::try_from(params[5])
-        .map_err(|_| crate::Error::invalid_parameter("rate", "out of range"))?;
-    p.precise = flag(params[6], "precise")?;
-    p.validate()?;
-    Ok(p)
-}
 
-pub(crate) fn encode_o2(raw: &[u8], params: &[u32]) -> Result<Vec<u8>> {
-    encode_order2(raw, &order2_params(params)?)
-}
-
-pub(crate) fn decode_o2(payload: &[u8], params: &[u32], out: &mut [u8]) -> Result<()> {
-    let back = decode_order2(payload, out.len(), &order2_params(params)?)?;
-    copy_exact(&back, out)
-}
-
-pub(crate) fn encode_mx(raw: &[u8], params: &[u32]) -> Result<Vec<u8>> {
-    encode_mix(raw, &mix_params(params)?)
-}
-
-/// As [`encode_o2`]; `None` when the block does not shrink (see
-/// `encode_order2_or_store`).
-pub(crate) fn encode_o2_or_store(raw: &[u8], params: &[u32]) -> Result<Option<Vec<u8>>> {
-    crate::model::cm::encode_order2_or_store(raw, &order2_params(params)?)
-}
-
-/// As [`encode_mx`]; `None` when the block does not shrink (see
-/// `encode_mix_or_store`).
-pub(crate) fn encode_mx_or_store(raw: &[u8], params: &[u32]) -> Result<Option<Vec<u8>>> {
-    crate::model::cm::encode_mix_or_store(raw, &mix_params(params)?)
-}
-
-pub(crate) fn decode_mx(payload: &[u8], params: &[u32], out: &mut [u8]) -> Result<()> {
-    let back = decode_mix(payload, out.len(), &mix_params(params)?)?;
-    copy_exact(&back, out)
-}
-
-pub(crate) fn ideal_o2(raw: &[u8], params: &[u32]) -> Result<IdealCost> {
-    ideal_cost_order2(raw, &order2_params(params)?)
-}
-
-pub(crate) fn ideal_mx(raw: &[u8], params: &[u32]) -> Result<IdealCost> {
-    ideal_cost_mix(raw, &mix_params(params)?)
-}
-
-fn copy_exact(back: &[u8], out: &mut [u8]) -> Result<()> {
-    if back.len() != out.len() {
-        return Err(crate::Error::corrupt_stream(
-            0,
-            "engine returned a block of the wrong length",
-        ));
+    /// `None` when the block's first sixteenth does not shrink (see
+    /// [`encode_mix_or_store`]).
+    fn encode_or_store(raw: &[u8], p: &MixParams) -> Result<Option<Vec<u8>>> {
+        encode_mix_or_store(raw, p)
     }
-    out.copy_from_slice(back);
-    Ok(())
-}
 
-/// Working memory for `order2` beyond the block buffers: the engine's
-/// tables (its own accounting) and the block it decodes into before the copy
-/// into the caller's buffer.
-pub(crate) fn order2_memory(params: &[u32], block_size: u64) -> u64 {
-    order2_params(params).map_or(u64::MAX, |p| {
-        let len = usize::try_from(block_size).unwrap_or(usize::MAX);
-        p.memory_needed_for(len).saturating_add(block_size)
-    })
-}
+    fn decode(payload: &[u8], p: &MixParams, out: &mut [u8]) -> Result<()> {
+        copy_exact(&decode_mix(payload, out.len(), p)?, out)
+    }
 
-/// Working memory for `mix`, as for [`order2_memory`].
-pub(crate) fn mix_memory(params: &[u32], block_size: u64) -> u64 {
-    mix_params(params).map_or(u64::MAX, |p| {
-        let len = usize::try_from(block_size).unwrap_or(usize::MAX);
-        p.memory_needed_for(len).saturating_add(block_size)
-    })
+    fn ideal_cost(raw: &[u8], p: &MixParams) -> Result<IdealCost> {
+        ideal_cost_mix(raw, p)
+    }
+
+    /// The engine's tables (its own accounting) and the block it decodes
+    /// into before the copy into the caller's buffer.
+    fn working_memory(p: &MixParams, block_size: u64) -> u64 {
+        p.memory_needed_for(block_len(block_size))
+            .saturating_add(block_size)
+    }
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::preset::PresetKind;
+    use crate::preset::codec::OpsOf;
 
-    fn defaults(kind: PresetKind) -> Vec<u32> {
-        kind.param_specs().iter().map(|p| p.default).collect()
+    fn parse(values: &[u32]) -> Result<MixParams> {
+        Mix::parse(Values::new(Mix::PARAMS, values))
     }
 
     #[test]
     fn header_defaults_are_the_engine_defaults() {
-        assert_eq!(
-            order2_params(&defaults(PresetKind::Order2)).unwrap(),
-            Order2Params::default()
-        );
-        assert_eq!(
-            mix_params(&defaults(PresetKind::Mix)).unwrap(),
-            MixParams::default()
-        );
+        let defaults: Vec<u32> = Mix::PARAMS.iter().map(|s| s.default).collect();
+        assert_eq!(parse(&defaults).unwrap(), MixParams::default());
     }
 
     #[test]
     fn bad_parameters_are_typed_errors() {
-        assert!(mix_params(&[3, 0b10_1011, 1, 1, 1, 6, 1]).is_err()); // 3 MiB: not a power of two
-        assert!(mix_params(&[32, 0b10_1011, 2, 1, 1, 6, 1]).is_err());
-        assert!(mix_params(&[32, 0b10_1011, 1, 1, 1, 6, 2]).is_err());
-        assert!(order2_params(&[1, 0, 1]).is_err());
-        assert!(order2_params(&[1, 60, 2]).is_err());
-        assert_eq!(mix_memory(&[3, 0, 0, 0, 0, 0, 1], 1), u64::MAX);
+        assert!(parse(&[3, 0b10_1011, 1, 1, 1, 6, 1]).is_err()); // 3 MiB: not a power of two
+        assert!(parse(&[32, 0b10_1011, 2, 1, 1, 6, 1]).is_err());
+        assert!(parse(&[32, 0b10_1011, 1, 1, 1, 6, 2]).is_err());
+        let ops = OpsOf::<Mix>::OPS;
+        assert_eq!(ops.working_memory(&[3, 0, 0, 0, 0, 0, 1], 1), u64::MAX);
     }
 }

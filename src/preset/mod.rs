@@ -52,11 +52,34 @@
 //! prints it with every parameter, and [`FromStr`](core::str::FromStr) (and
 //! [`Preset::from_name`]) read it back, a name alone or any subset of
 //! parameters standing for the defaults of the rest.
+//!
+//! # Layout
+//!
+//! - `codec.rs`: the `Codec` trait, what one preset is and does (id, name,
+//!   parameter specs, parsing of the recorded values into typed
+//!   parameters, block encode, encode-or-store, decode, ideal cost, memory
+//!   bound).
+//! - One file per preset, `<name>_codec.rs`: its typed parameters, their
+//!   [`ParamSpec`]s, its payload layout and its `Codec`.
+//! - `registry.rs`: the one table of the codecs, from which [`PresetKind`],
+//!   [`PresetKind::ALL`], the lookups by id and name and the list of names
+//!   in messages follow.
+//! - `spec.rs`: [`ParamSpec`] and the recorded values read by spec;
+//!   `text.rs`: the textual form; `lanes.rs` and `engine.rs`: the parts the
+//!   lane-coded and the context-mixing presets share.
+//!
+//! Adding a preset is one new `<name>_codec.rs` implementing `Codec` (with
+//! an id no other preset has used) and one line in the registry's table.
 
 mod adaptive_codec;
-mod mix_codec;
+mod codec;
+mod engine;
 mod history_codec;
 mod lanes;
+mod mix_codec;
+mod order2_codec;
+mod registry;
+mod spec;
 mod static_codec;
 mod stepwise_codec;
 mod text;
@@ -65,335 +88,11 @@ use alloc::vec::Vec;
 use core::fmt;
 
 use crate::error::{ErrorKind, Result};
+pub use registry::PresetKind;
+pub use spec::ParamSpec;
 
 /// Most parameters a preset may have.
 pub const MAX_PARAMS: usize = 8;
-
-/// Valid preset names, for messages (a unit test keeps it in step with
-/// [`PresetKind::ALL`]).
-const NAME_LIST: &str =
-    "unknown preset name: expected one of static, adaptive, order2, mix, history";
-
-/// One integer parameter of a preset: its name, default and valid range.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub struct ParamSpec {
-    /// Name, as used by [`Preset::set_param`] (e.g. `increment`).
-    pub name: &'static str,
-    /// The value a new preset starts with.
-    pub default: u32,
-    /// Smallest valid value.
-    pub min: u32,
-    /// Largest valid value.
-    pub max: u32,
-    /// What the parameter does, one line.
-    pub help: &'static str,
-    /// The value a header written before this parameter existed implies
-    /// (such a header stops before it); `None` for parameters every header
-    /// records.
-    pub absent: Option<u32>,
-}
-
-/// Which preset: the part of a [`Preset`] that is not a parameter.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
-#[non_exhaustive]
-pub enum PresetKind {
-    /// A table model per block, stored in the block, coded over lanes.
-    Static,
-    /// A refreshed adaptive order-0 model restarted at each block, coded
-    /// over lanes.
-    Adaptive,
-    /// An adaptive order-0 model updated after every byte, restarted at
-    /// each block, one lane; containers with preset id 2 decode (not among
-    /// [`PresetKind::ALL`]).
-    Stepwise,
-    /// The fast order-2 context model, restarted at each block.
-    Order2,
-    /// Orders 1–6, word and column contexts and a match model, mixed;
-    /// restarted at each block.
-    Mix,
-    /// Bit-history context models, two mixing layers and a refinement
-    /// chain, x86 code detected per block; the strongest model, restarted
-    /// at each block (of 32 MiB by default).
-    History,
-}
-
-/// The lane count of the lane-coded presets.
-const LANES: ParamSpec = ParamSpec {
-    name: "lanes",
-    default: 32,
-    min: 1,
-    max: crate::coder::MAX_LANES as u32,
-    help: "interleaved coder lanes per block (blocks under 1 KiB per lane use fewer)",
-    absent: None,
-};
-
-/// The binary step of the context-mixing presets, added after them.
-const PRECISE: ParamSpec = ParamSpec {
-    name: "precise",
-    default: 1,
-    min: 0,
-    max: 1,
-    help: "binary steps split the range exactly (1), or as earlier builds did (0)",
-    absent: Some(0),
-};
-
-const STATIC_PARAMS: &[ParamSpec] = &[
-    LANES,
-    ParamSpec {
-        name: "log2_total",
-        default: 12,
-        min: 8,
-        max: 16,
-        help: "largest table total, as a power of two (small blocks use smaller totals)",
-        absent: None,
-    },
-];
-
-const ADAPTIVE_PARAMS: &[ParamSpec] = &[
-    LANES,
-    ParamSpec {
-        name: "log2_total",
-        default: 12,
-        min: 8,
-        max: 16,
-        help: "table total, as a power of two",
-        absent: None,
-    },
-    ParamSpec {
-        name: "period",
-        default: 256,
-        min: 32,
-        max: 1 << 20,
-        help:
-            "most bytes coded between two rebuilds of the table (the first after 32, then doubling)",
-        absent: None,
-    },
-    ParamSpec {
-        name: "limit",
-        default: 4096,
-        min: 256,
-        max: 1 << 30,
-        help: "at a rebuild, counts are halved while their sum exceeds this",
-        absent: None,
-    },
-];
-
-const STEPWISE_PARAMS: &[ParamSpec] = &[
-    ParamSpec {
-        name: "increment",
-        default: 24,
-        min: 1,
-        max: 8192,
-        help: "added to a byte's count each time it is coded",
-        absent: None,
-    },
-    ParamSpec {
-        name: "limit",
-        default: 65_536,
-        min: 261,
-        max: 65_536,
-        help: "counts are halved when the total would pass this (at least 257 + 4 x increment)",
-        absent: None,
-    },
-];
-
-const ORDER2_PARAMS: &[ParamSpec] = &[
-    ParamSpec {
-        name: "order1",
-        default: 1,
-        min: 0,
-        max: 1,
-        help: "new order-2 contexts start from the order-1 prediction (1) or from even odds (0)",
-        absent: None,
-    },
-    ParamSpec {
-        name: "limit",
-        default: 60,
-        min: 1,
-        max: 1023,
-        help: "counter limit: higher suits long stationary data, lower adapts faster",
-        absent: None,
-    },
-    PRECISE,
-];
-
-const MIX_PARAMS: &[ParamSpec] = &[
-    ParamSpec {
-        name: "memory_mib",
-        default: 4,
-        min: 1,
-        max: 1024,
-        help: "context table memory in MiB, a power of two (the decoder needs the same)",
-        absent: None,
-    },
-    ParamSpec {
-        name: "orders",
-        default: 0b00_0111,
-        min: 0,
-        max: 0b11_1111,
-        help: "context orders in use: bit k enables order k + 1 (default orders 1, 2, 3)",
-        absent: None,
-    },
-    ParamSpec {
-        name: "word",
-        default: 1,
-        min: 0,
-        max: 1,
-        help: "word context for text (1 on, 0 off)",
-        absent: None,
-    },
-    ParamSpec {
-        name: "column",
-        default: 1,
-        min: 0,
-        max: 1,
-        help: "column context for line-structured records (1 on, 0 off)",
-        absent: None,
-    },
-    ParamSpec {
-        name: "matcher",
-        default: 1,
-        min: 0,
-        max: 1,
-        help: "match model predicting from the longest earlier match (1 on, 0 off)",
-        absent: None,
-    },
-    ParamSpec {
-        name: "rate",
-        default: 6,
-        min: 1,
-        max: 64,
-        help: "mixer learning rate",
-        absent: None,
-    },
-    PRECISE,
-];
-
-const HISTORY_PARAMS: &[ParamSpec] = &[
-    ParamSpec {
-        name: "memory_mib",
-        default: 128,
-        min: 1,
-        max: 1024,
-        help: "most context slot memory in MiB, a power of two (a block of n bytes uses at most 256 n)",
-        absent: None,
-    },
-    ParamSpec {
-        name: "x86",
-        default: 1,
-        min: 0,
-        max: 1,
-        help: "detect x86 code per block and code its call/jump targets as absolute (1), or never (0)",
-        absent: None,
-    },
-    ParamSpec {
-        name: "rate",
-        default: 32,
-        min: 1,
-        max: 255,
-        help: "settled mixer learning rate (lower: steadier on stationary data)",
-        absent: None,
-    },
-];
-
-impl PresetKind {
-    /// Every preset kind this release offers for writing, fastest first.
-    pub const ALL: &'static [PresetKind] = &[
-        PresetKind::Static,
-        PresetKind::Adaptive,
-        PresetKind::Order2,
-        PresetKind::Mix,
-        PresetKind::History,
-    ];
-
-    /// Preset kinds kept only so that older containers decode.
-    pub const KEPT_FOR_READING: &'static [PresetKind] = &[PresetKind::Stepwise];
-
-    /// The id recorded in a container header.
-    pub fn id(self) -> u32 {
-        match self {
-            PresetKind::Static => 1,
-            PresetKind::Stepwise => 2,
-            PresetKind::Order2 => 3,
-            PresetKind::Mix => 4,
-            PresetKind::Adaptive => 5,
-            PresetKind::History => 6,
-        }
-    }
-
-    /// The preset's name (`static`, `adaptive`).
-    pub fn name(self) -> &'static str {
-        match self {
-            PresetKind::Static => "static",
-            PresetKind::Adaptive => "adaptive",
-            PresetKind::Stepwise => "stepwise",
-            PresetKind::Order2 => "order2",
-            PresetKind::Mix => "mix",
-            PresetKind::History => "history",
-        }
-    }
-
-    /// One line on what the preset does, for help texts.
-    pub fn summary(self) -> &'static str {
-        match self {
-            PresetKind::Static => {
-                "table model per block from its byte histogram, interleaved lanes; fastest"
-            }
-            PresetKind::Adaptive => {
-                "adaptive order-0 model per block, table rebuilt as it learns, interleaved lanes"
-            }
-            PresetKind::Stepwise => {
-                "adaptive order-0 model updated after every byte, one lane (read only)"
-            }
-            PresetKind::Order2 => "order-2 context model, bit by bit; fast, near order-2 entropy",
-            PresetKind::Mix => {
-                "orders 1-6, word, column and match models, logistically mixed; strong, slow"
-            }
-            PresetKind::History => {
-                "bit-history contexts, two-layer mixing, x86 and record models, 32 MiB blocks; smallest, slowest"
-            }
-        }
-    }
-
-    /// The preset's parameters, in the order a header records them.
-    pub fn param_specs(self) -> &'static [ParamSpec] {
-        match self {
-            PresetKind::Static => STATIC_PARAMS,
-            PresetKind::Adaptive => ADAPTIVE_PARAMS,
-            PresetKind::Stepwise => STEPWISE_PARAMS,
-            PresetKind::Order2 => ORDER2_PARAMS,
-            PresetKind::Mix => MIX_PARAMS,
-            PresetKind::History => HISTORY_PARAMS,
-        }
-    }
-
-    /// The kind with this header id.
-    ///
-    /// # Errors
-    ///
-    /// [`ErrorKind::UnknownPreset`] for an id this release does not know.
-    pub fn from_id(id: u32) -> Result<Self> {
-        Self::ALL
-            .iter()
-            .chain(Self::KEPT_FOR_READING)
-            .copied()
-            .find(|k| k.id() == id)
-            .ok_or_else(|| ErrorKind::UnknownPreset { id }.into())
-    }
-
-    /// The kind with this name (exact, lower case).
-    ///
-    /// # Errors
-    ///
-    /// [`ErrorKind::InvalidParameter`] naming the valid presets.
-    pub fn from_name(name: &str) -> Result<Self> {
-        Self::ALL
-            .iter()
-            .copied()
-            .find(|k| k.name() == name)
-            .ok_or_else(|| crate::Error::invalid_parameter("preset", NAME_LIST))
-    }
-}
 
 /// A preset with its parameters: everything needed to code and decode the
 /// blocks of a container.
@@ -563,10 +262,7 @@ impl Preset {
     /// assert_eq!(Preset::from_name("mix").unwrap().default_block_size(), 1 << 20);
     /// ```
     pub fn default_block_size(&self) -> u64 {
-        match self.kind {
-            PresetKind::History => 32 << 20,
-            _ => 1 << 20,
-        }
+        self.kind.entry().block_size
     }
 
     /// The parameter descriptions.
@@ -619,14 +315,12 @@ impl Preset {
 
     /// Rules between parameters that [`ParamSpec`] ranges cannot express.
     fn check_params(&self) -> Result<()> {
-        match self.kind {
-            PresetKind::Static => Ok(()),
-            PresetKind::Adaptive => adaptive_codec::check(self.params()),
-            PresetKind::Stepwise => stepwise_codec::check(self.params()),
-            PresetKind::Order2 => mix_codec::order2_params(self.params()).map(drop),
-            PresetKind::Mix => mix_codec::mix_params(self.params()).map(drop),
-            PresetKind::History => history_codec::params(self.params()).map(drop),
-        }
+        self.ops().check(self.params())
+    }
+
+    /// The operations of this preset's codec.
+    fn ops(&self) -> &'static dyn codec::Ops {
+        self.kind.entry().ops
     }
 
     /// Codes one block of raw bytes into the preset's payload.
@@ -641,14 +335,7 @@ impl Preset {
         if raw.is_empty() {
             return Ok(Vec::new());
         }
-        match self.kind {
-            PresetKind::Static => static_codec::encode(raw, self.params()),
-            PresetKind::Adaptive => adaptive_codec::encode(raw, self.params()),
-            PresetKind::Stepwise => stepwise_codec::encode(raw, self.params()),
-            PresetKind::Order2 => mix_codec::encode_o2(raw, self.params()),
-            PresetKind::Mix => mix_codec::encode_mx(raw, self.params()),
-            PresetKind::History => history_codec::encode(raw, self.params()),
-        }
+        self.ops().encode(raw, self.params())
     }
 
     /// Codes one block for the container: the payload, or `None` when the
@@ -658,22 +345,10 @@ impl Preset {
     /// a sixteenth of the block) instead of coding all of it; `stepwise`
     /// codes the block and lets the container compare lengths.
     pub(crate) fn encode_or_store(&self, raw: &[u8]) -> Result<Option<Vec<u8>>> {
-        match self.kind {
-            PresetKind::Static if !raw.is_empty() => {
-                static_codec::encode_or_store(raw, self.params())
-            }
-            PresetKind::Adaptive if !raw.is_empty() => {
-                adaptive_codec::encode_or_store(raw, self.params())
-            }
-            PresetKind::Order2 if !raw.is_empty() => {
-                mix_codec::encode_o2_or_store(raw, self.params())
-            }
-            PresetKind::Mix if !raw.is_empty() => mix_codec::encode_mx_or_store(raw, self.params()),
-            PresetKind::History if !raw.is_empty() => {
-                history_codec::encode_or_store(raw, self.params())
-            }
-            _ => self.encode_block(raw).map(Some),
+        if raw.is_empty() {
+            return Ok(Some(Vec::new()));
         }
+        self.ops().encode_or_store(raw, self.params())
     }
 
     /// Decodes a payload made by [`encode_block`](Preset::encode_block) into
@@ -727,14 +402,7 @@ impl Preset {
             }
             return Ok(());
         }
-        match self.kind {
-            PresetKind::Static => static_codec::decode(payload, self.params(), out),
-            PresetKind::Adaptive => adaptive_codec::decode(payload, self.params(), out),
-            PresetKind::Stepwise => stepwise_codec::decode(payload, self.params(), out),
-            PresetKind::Order2 => mix_codec::decode_o2(payload, self.params(), out),
-            PresetKind::Mix => mix_codec::decode_mx(payload, self.params(), out),
-            PresetKind::History => history_codec::decode(payload, self.params(), out),
-        }
+        self.ops().decode(payload, self.params(), out)
     }
 
     /// The ideal cost of coding one block with this preset's models:
@@ -764,14 +432,7 @@ impl Preset {
         if raw.is_empty() {
             return Ok(crate::coder::IdealCost::new());
         }
-        match self.kind {
-            PresetKind::Static => static_codec::ideal(raw, self.params()),
-            PresetKind::Adaptive => adaptive_codec::ideal(raw, self.params()),
-            PresetKind::Stepwise => stepwise_codec::ideal(raw, self.params()),
-            PresetKind::Order2 => mix_codec::ideal_o2(raw, self.params()),
-            PresetKind::Mix => mix_codec::ideal_mx(raw, self.params()),
-            PresetKind::History => history_codec::ideal(raw, self.params()),
-        }
+        self.ops().ideal_cost(raw, self.params())
     }
 
     /// Bytes of memory needed to decode one block of `block_size` raw bytes:
@@ -789,14 +450,7 @@ impl Preset {
     /// ```
     pub fn memory_needed(&self, block_size: u64) -> u64 {
         let buffers = block_size.saturating_mul(2);
-        let model = match self.kind {
-            PresetKind::Static => static_codec::working_memory(self.params(), block_size),
-            PresetKind::Adaptive => adaptive_codec::working_memory(self.params(), block_size),
-            PresetKind::Stepwise => stepwise_codec::model_memory(),
-            PresetKind::Order2 => mix_codec::order2_memory(self.params(), block_size),
-            PresetKind::Mix => mix_codec::mix_memory(self.params(), block_size),
-            PresetKind::History => history_codec::memory(self.params(), block_size),
-        };
+        let model = self.ops().working_memory(self.params(), block_size);
         buffers.saturating_add(model)
     }
 }
@@ -824,40 +478,6 @@ mod tests {
     use super::*;
     use alloc::string::ToString;
     use alloc::vec;
-
-    #[test]
-    fn name_list_names_every_preset() {
-        let listed = NAME_LIST.rsplit("one of ").next().unwrap();
-        let names: Vec<&str> = listed.split(", ").collect();
-        assert_eq!(names, Preset::names().collect::<Vec<_>>());
-    }
-
-    #[test]
-    fn ids_and_names_are_unique_and_params_fit() {
-        let known: Vec<PresetKind> = PresetKind::ALL
-            .iter()
-            .chain(PresetKind::KEPT_FOR_READING)
-            .copied()
-            .collect();
-        for (i, a) in known.iter().enumerate() {
-            assert!(a.param_specs().len() <= MAX_PARAMS);
-            for spec in a.param_specs() {
-                assert!(spec.min <= spec.default && spec.default <= spec.max);
-            }
-            assert!(Preset::new(*a).check_params().is_ok());
-            // Parameters a header may leave out come after all the others.
-            let specs = a.param_specs();
-            let required = specs.iter().filter(|s| s.absent.is_none()).count();
-            assert!(
-                specs[..required].iter().all(|s| s.absent.is_none()),
-                "{a:?}"
-            );
-            for b in &known[i + 1..] {
-                assert_ne!(a.id(), b.id());
-                assert_ne!(a.name(), b.name());
-            }
-        }
-    }
 
     #[test]
     fn from_id_checks_everything() {
