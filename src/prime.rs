@@ -34,7 +34,9 @@
 use alloc::vec::Vec;
 
 use crate::coder::{Decoder, Encoder};
-use crate::error::{ErrorKind, Result};
+#[cfg(doc)]
+use crate::error::ErrorKind;
+use crate::error::Result;
 use crate::model::snapshot::{read_varint, write_varint, Snapshot, SnapshotState};
 use crate::model::{AdaptiveModel, ContextModel, Model, TableModel};
 
@@ -152,10 +154,8 @@ impl<M: SnapshotState + Model + Clone> Primer<M> {
 /// Codes `data` into a frame of snapshot `id`, with the model `model`
 /// gives (asked for once the length is known to fit).
 fn encode_with<M: Model>(id: u32, model: impl FnOnce() -> M, data: &[u8]) -> Result<Vec<u8>> {
-    let len = u32::try_from(data.len()).map_err(|_| ErrorKind::LimitExceeded {
-        what: "message length",
-        declared: data.len() as u64,
-        limit: u32::MAX.into(),
+    let len = u32::try_from(data.len()).map_err(|_| {
+        crate::Error::limit_exceeded("message length", data.len() as u64, u32::MAX.into())
     })?;
     let mut frame = Vec::with_capacity(ID_LEN + 5 + data.len() / 2 + 8);
     frame.extend_from_slice(&id.to_le_bytes());
@@ -182,10 +182,9 @@ fn decode_with<M: Model>(
         ));
     }
     let mut rest = &frame[ID_LEN..];
-    let len = read_varint(&mut rest).map_err(|_| ErrorKind::CorruptStream {
-        offset: ID_LEN as u64,
-        reason: "damaged message length",
-    })? as usize;
+    let len = read_varint(&mut rest)
+        .map_err(|_| crate::Error::corrupt_stream(ID_LEN as u64, "damaged message length"))?
+        as usize;
     if len > max_len {
         return Err(crate::Error::limit_exceeded(
             "message length",
@@ -198,9 +197,11 @@ fn decode_with<M: Model>(
     let mut out = Vec::with_capacity(len);
     for _ in 0..len {
         let s = decoder.decode(&mut model)?;
-        let byte = u8::try_from(s).map_err(|_| ErrorKind::CorruptStream {
-            offset: decoder.bytes_read(),
-            reason: "decoded a symbol outside the byte range",
+        let byte = u8::try_from(s).map_err(|_| {
+            crate::Error::corrupt_stream(
+                decoder.bytes_read(),
+                "decoded a symbol outside the byte range",
+            )
         })?;
         out.push(byte);
     }
@@ -307,6 +308,7 @@ fn unknown_kind() -> crate::Error {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::ErrorKind;
 
     #[test]
     fn empty_message_round_trip() {

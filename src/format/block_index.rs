@@ -19,7 +19,9 @@ use core::ops::Range;
 use std::io::{BufReader, Read, Seek, SeekFrom};
 use std::vec::Vec;
 
-use crate::error::{ErrorKind, Result};
+#[cfg(doc)]
+use crate::error::ErrorKind;
+use crate::error::Result;
 use crate::format::block::{read_frame, Frame};
 use crate::format::header::read_header;
 use crate::format::index::{
@@ -146,7 +148,7 @@ fn walk_frames<R: Read + Seek>(
                         after_end: input.offset(),
                     });
                 };
-                return Err(ErrorKind::CorruptBlock { index, reason }.into());
+                return Err(crate::Error::corrupt_block(index, reason));
             }
         }
     }
@@ -209,13 +211,7 @@ impl BlockIndex {
                     walked.located.end_offset,
                 )
                 .err()
-                .unwrap_or_else(|| {
-                    ErrorKind::CorruptIndex {
-                        offset: len,
-                        reason: "index tail damaged",
-                    }
-                    .into()
-                }),
+                .unwrap_or_else(|| crate::Error::corrupt_index(len, "index tail damaged")),
             });
         }
         check_trailing(&walked)?;

@@ -24,10 +24,9 @@
 use alloc::vec::Vec;
 
 use crate::coder::{decode_refresh_lanes, encode_refresh_lanes, log2_q32, IdealCost};
-use crate::error::{ErrorKind, Result};
+use crate::error::{Error, ErrorKind, Result};
 use crate::model::{RefreshModel, RefreshParams};
 use crate::preset::codec::Codec;
-use crate::preset::corrupt;
 use crate::preset::lanes::{decoder_memory, lanes_for, put_lanes, read_lanes, LANES};
 use crate::preset::spec::{ParamSpec, Values};
 use crate::vint::Cursor;
@@ -144,16 +143,21 @@ impl Codec for Adaptive {
 
     fn decode(payload: &[u8], p: &Params, out: &mut [u8]) -> Result<()> {
         let mut cur = Cursor::new(payload);
-        let lanes = cur.byte().ok_or_else(|| corrupt(0, "payload is empty"))?;
+        let lanes = cur
+            .byte()
+            .ok_or_else(|| Error::corrupt_stream(0, "payload is empty"))?;
         if lanes == 0 || u32::from(lanes) > p.lanes {
-            return Err(corrupt(0, "lane count outside 1 ..= the preset's lanes"));
+            return Err(Error::corrupt_stream(
+                0,
+                "lane count outside 1 ..= the preset's lanes",
+            ));
         }
         let set = read_byte_set(&mut cur)?;
         let mut model = RefreshModel::with_symbols(&set, p.refresh)
-            .map_err(|_| corrupt(1, "byte set does not fit the table total"))?;
+            .map_err(|_| Error::corrupt_stream(1, "byte set does not fit the table total"))?;
         let views = read_lanes(&mut cur, usize::from(lanes))?;
         decode_refresh_lanes(&mut model, &views, out).map_err(|e| match e.kind() {
-            ErrorKind::InvalidParameter { .. } => corrupt(0, "lane count"),
+            ErrorKind::InvalidParameter { .. } => Error::corrupt_stream(0, "lane count"),
             _ => e,
         })
     }
@@ -195,7 +199,10 @@ fn put_byte_set(out: &mut Vec<u8>, set: &[bool; 256]) {
 
 fn read_byte_set(cur: &mut Cursor<'_>) -> Result<[bool; 256]> {
     let at = cur.position();
-    let count = usize::from(cur.byte().ok_or_else(|| corrupt(at, "byte set missing"))?) + 1;
+    let count = usize::from(
+        cur.byte()
+            .ok_or_else(|| Error::corrupt_stream(at as u64, "byte set missing"))?,
+    ) + 1;
     let mut set = [count == 256; 256];
     if count == 256 {
         return Ok(set);
@@ -204,9 +211,12 @@ fn read_byte_set(cur: &mut Cursor<'_>) -> Result<[bool; 256]> {
     if count <= LIST_MAX {
         let list = cur
             .take(count as u64)
-            .ok_or_else(|| corrupt(at, "byte set runs past the payload"))?;
+            .ok_or_else(|| Error::corrupt_stream(at as u64, "byte set runs past the payload"))?;
         if list.windows(2).any(|w| w[0] >= w[1]) {
-            return Err(corrupt(at, "byte set is not in increasing order"));
+            return Err(Error::corrupt_stream(
+                at as u64,
+                "byte set is not in increasing order",
+            ));
         }
         for &b in list {
             set[usize::from(b)] = true;
@@ -214,12 +224,15 @@ fn read_byte_set(cur: &mut Cursor<'_>) -> Result<[bool; 256]> {
     } else {
         let map = cur
             .take(32)
-            .ok_or_else(|| corrupt(at, "byte set runs past the payload"))?;
+            .ok_or_else(|| Error::corrupt_stream(at as u64, "byte set runs past the payload"))?;
         for (v, s) in set.iter_mut().enumerate() {
             *s = map[v / 8] >> (v % 8) & 1 == 1;
         }
         if set.iter().filter(|&&s| s).count() != count {
-            return Err(corrupt(at, "byte set map does not match its size"));
+            return Err(Error::corrupt_stream(
+                at as u64,
+                "byte set map does not match its size",
+            ));
         }
     }
     Ok(set)

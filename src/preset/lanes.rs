@@ -9,8 +9,7 @@
 
 use alloc::vec::Vec;
 
-use crate::error::Result;
-use crate::preset::corrupt;
+use crate::error::{Error, Result};
 use crate::preset::spec::ParamSpec;
 use crate::vint::{put_vint, Cursor};
 
@@ -67,14 +66,14 @@ pub(crate) fn read_lanes<'a>(cur: &mut Cursor<'a>, lanes: usize) -> Result<Vec<&
         let at = cur.position();
         *len = cur
             .vint()
-            .map_err(|_| corrupt(at, "malformed lane length"))?;
+            .map_err(|_| Error::corrupt_stream(at as u64, "malformed lane length"))?;
     }
     let mut views: Vec<&[u8]> = Vec::with_capacity(lanes);
     for &len in &lens[..lanes.saturating_sub(1)] {
         let at = cur.position();
         views.push(
             cur.take(len)
-                .ok_or_else(|| corrupt(at, "lane runs past the payload"))?,
+                .ok_or_else(|| Error::corrupt_stream(at as u64, "lane runs past the payload"))?,
         );
     }
     views.push(cur.rest());

@@ -87,7 +87,9 @@ mod text;
 use alloc::vec::Vec;
 use core::fmt;
 
-use crate::error::{ErrorKind, Result};
+#[cfg(doc)]
+use crate::error::ErrorKind;
+use crate::error::Result;
 pub use registry::PresetKind;
 pub use spec::ParamSpec;
 
@@ -296,13 +298,12 @@ impl Preset {
     /// ```
     pub fn set_param(&mut self, name: &str, value: u32) -> Result<&mut Self> {
         let specs = self.param_specs();
-        let i = specs
-            .iter()
-            .position(|s| s.name == name)
-            .ok_or(ErrorKind::InvalidParameter {
-                name: "preset parameter",
-                reason: "this preset has no parameter of that name",
-            })?;
+        let i = specs.iter().position(|s| s.name == name).ok_or_else(|| {
+            crate::Error::invalid_parameter(
+                "preset parameter",
+                "this preset has no parameter of that name",
+            )
+        })?;
         if value < specs[i].min || value > specs[i].max {
             return Err(out_of_range(specs[i].name));
         }
@@ -370,7 +371,10 @@ impl Preset {
         out.clear();
         if raw_len == 0 {
             if !payload.is_empty() {
-                return Err(corrupt(0, "payload of an empty block is not empty"));
+                return Err(crate::Error::corrupt_stream(
+                    0,
+                    "payload of an empty block is not empty",
+                ));
             }
             return Ok(());
         }
@@ -379,12 +383,13 @@ impl Preset {
             // the two are never live at once.
             *out = Vec::new();
         }
-        out.try_reserve_exact(raw_len)
-            .map_err(|_| ErrorKind::LimitExceeded {
-                what: "decoded block length (allocation failed)",
-                declared: raw_len as u64,
-                limit: 0,
-            })?;
+        out.try_reserve_exact(raw_len).map_err(|_| {
+            crate::Error::limit_exceeded(
+                "decoded block length (allocation failed)",
+                raw_len as u64,
+                0,
+            )
+        })?;
         out.resize(raw_len, 0);
         let r = self.decode_into(payload, out);
         if r.is_err() {
@@ -398,7 +403,10 @@ impl Preset {
     pub(crate) fn decode_into(&self, payload: &[u8], out: &mut [u8]) -> Result<()> {
         if out.is_empty() {
             if !payload.is_empty() {
-                return Err(corrupt(0, "payload of an empty block is not empty"));
+                return Err(crate::Error::corrupt_stream(
+                    0,
+                    "payload of an empty block is not empty",
+                ));
             }
             return Ok(());
         }
@@ -468,14 +476,10 @@ fn out_of_range(name: &'static str) -> crate::Error {
     )
 }
 
-/// A payload-level damage report: `offset` is within the payload.
-pub(crate) fn corrupt(offset: usize, reason: &'static str) -> crate::Error {
-    crate::Error::corrupt_stream(offset as u64, reason)
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::ErrorKind;
     use alloc::string::ToString;
     use alloc::vec;
 

@@ -20,10 +20,9 @@
 use alloc::vec::Vec;
 
 use crate::coder::{decode_table_lanes, encode_counted, log2_q32, IdealCost};
-use crate::error::Result;
+use crate::error::{Error, Result};
 use crate::model::TableModel;
 use crate::preset::codec::Codec;
-use crate::preset::corrupt;
 use crate::preset::lanes::{decoder_memory, lanes_for, put_lanes, read_lanes, LANES};
 use crate::preset::spec::{ParamSpec, Values};
 use crate::vint::{put_vint, Cursor};
@@ -102,16 +101,21 @@ impl Codec for Static {
 
     fn decode(payload: &[u8], p: &Params, out: &mut [u8]) -> Result<()> {
         let mut cur = Cursor::new(payload);
-        let lanes = cur.byte().ok_or_else(|| corrupt(0, "payload is empty"))?;
+        let lanes = cur
+            .byte()
+            .ok_or_else(|| Error::corrupt_stream(0, "payload is empty"))?;
         if lanes == 0 || u32::from(lanes) > p.lanes {
-            return Err(corrupt(0, "lane count outside 1 ..= the preset's lanes"));
+            return Err(Error::corrupt_stream(
+                0,
+                "lane count outside 1 ..= the preset's lanes",
+            ));
         }
         let at = cur.position();
         let table_len = cur
             .vint()
-            .map_err(|_| corrupt(at, "malformed table length"))?;
+            .map_err(|_| Error::corrupt_stream(at as u64, "malformed table length"))?;
         if table_len > MAX_TABLE_BYTES {
-            return Err(crate::Error::limit_exceeded(
+            return Err(Error::limit_exceeded(
                 "model table size",
                 table_len,
                 MAX_TABLE_BYTES,
@@ -120,13 +124,19 @@ impl Codec for Static {
         let at = cur.position();
         let table = cur
             .take(table_len)
-            .ok_or_else(|| corrupt(at, "table runs past the payload"))?;
+            .ok_or_else(|| Error::corrupt_stream(at as u64, "table runs past the payload"))?;
         let (model, used) = TableModel::from_table_bytes(table, 256)?;
         if used != table.len() || model.frequencies().len() != 256 || model.to_bytes() != table {
-            return Err(corrupt(at, "model table is not in canonical form"));
+            return Err(Error::corrupt_stream(
+                at as u64,
+                "model table is not in canonical form",
+            ));
         }
         if model.log2_total() > p.log2_total {
-            return Err(corrupt(at, "table total above the preset's log2_total"));
+            return Err(Error::corrupt_stream(
+                at as u64,
+                "table total above the preset's log2_total",
+            ));
         }
         let views = read_lanes(&mut cur, usize::from(lanes))?;
         decode_table_lanes(&model, &views, out)
