@@ -185,13 +185,7 @@ fn decode_with<M: Model>(
     let len = read_varint(&mut rest)
         .map_err(|_| crate::Error::corrupt_stream(ID_LEN as u64, "damaged message length"))?
         as usize;
-    if len > max_len {
-        return Err(crate::Error::limit_exceeded(
-            "message length",
-            len as u64,
-            max_len as u64,
-        ));
-    }
+    crate::Error::check_limit("message length", len as u64, max_len as u64)?;
     let mut model = model();
     let mut decoder = Decoder::new(rest)?;
     let mut out = Vec::with_capacity(len);

@@ -195,13 +195,7 @@ impl Preset {
             *v = spec.absent.unwrap_or(spec.default);
         }
         for ((v, &p), spec) in values.iter_mut().zip(params).zip(specs) {
-            if p > spec.max {
-                return Err(crate::Error::limit_exceeded(
-                    spec.name,
-                    p.into(),
-                    spec.max.into(),
-                ));
-            }
+            crate::Error::check_limit(spec.name, p.into(), spec.max.into())?;
             if p < spec.min {
                 return Err(out_of_range(spec.name));
             }

@@ -114,13 +114,7 @@ impl Codec for Static {
         let table_len = cur
             .vint()
             .map_err(|_| Error::corrupt_stream(at as u64, "malformed table length"))?;
-        if table_len > MAX_TABLE_BYTES {
-            return Err(Error::limit_exceeded(
-                "model table size",
-                table_len,
-                MAX_TABLE_BYTES,
-            ));
-        }
+        Error::check_limit("model table size", table_len, MAX_TABLE_BYTES)?;
         let at = cur.position();
         let table = cur
             .take(table_len)
