@@ -190,8 +190,9 @@ impl BlockIndex {
             Some(Err(e)) => Some(e),
             None => None,
         };
-        // No usable tail: walk. An old container whose last bytes happen to
-        // look like the mark walks to a plain end record and reads fine.
+        // No usable tail: walk. A container without an index whose last
+        // bytes happen to look like the mark walks to a plain end record and
+        // reads fine.
         // When both fail, the index's error names the damage (usually in
         // the end record, which both read).
         let walked = match walk_frames(reader, base, len, &header, limits) {

@@ -30,7 +30,7 @@ use crate::preset::spec::{ParamSpec, Values};
 /// layout are part of the container format: once released they never
 /// change, and a new behaviour gets a new preset. A parameter added to a
 /// released preset goes last and sets [`ParamSpec::absent`] to the value
-/// that reproduces the old behaviour. The payload must depend on nothing but
+/// that codes as headers without it do. The payload must depend on nothing but
 /// the block and the parameters (no floating point, no platform-sized
 /// integers), and `decode` must refuse every payload `encode` cannot make,
 /// with a typed error and without allocating beyond

@@ -16,13 +16,14 @@
 use crate::error::Result;
 use crate::preset::spec::ParamSpec;
 
-/// The binary step of the context-mixing presets, added after them.
+/// The binary step of the `order2` and `mix` presets, the last of their
+/// parameters; a header without it implies the coarse step (0).
 pub(crate) const PRECISE: ParamSpec = ParamSpec {
     name: "precise",
     default: 1,
     min: 0,
     max: 1,
-    help: "binary steps split the range exactly (1), or as earlier builds did (0)",
+    help: "binary steps split the range exactly (1), or drop its low 16 bits (0)",
     absent: Some(0),
 };
 

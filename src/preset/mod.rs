@@ -18,26 +18,28 @@
 //! - `stepwise` (id 2), kept for reading: an
 //!   [`AdaptiveModel`](crate::model::AdaptiveModel) over 256 symbols,
 //!   restarted at every block, updated after every byte, one coder lane.
-//!   Containers that use it (preset id 2) decode, and [`Preset::new`] still writes it, but it is not offered
-//!   among the presets ([`PresetKind::ALL`], the command line): `adaptive`
-//!   compresses about as well at several times its speed in both
-//!   directions.
+//!   Containers that use it decode, and [`Preset::new`] and the textual
+//!   form make it, but it is not offered among the presets
+//!   ([`PresetKind::ALL`], the command line): `adaptive` compresses about
+//!   as well at several times its speed in both directions.
 //! - `order2` (id 3): the fast order-2 context model of
 //!   [`model::cm`](crate::model::cm), coded bit by bit; close to the data's
 //!   order-2 conditional entropy.
-//! - `mix` (id 4): the strongest model: hashed contexts of orders 1 to 6,
-//!   word and column contexts and a match model, logistically mixed and
-//!   refined; strong and slow.
+//! - `mix` (id 4): hashed contexts of orders 1 to 6, word and column
+//!   contexts and a match model, logistically mixed and refined; strong and
+//!   slow.
 //! - `history` (id 6): the strongest model: bit-history (indirect) context
-//!   models of orders 1–4 and 6, words, column, sparse and record contexts, direct order
-//!   0 and 1, a match model, two mixing layers and a chain of refinement
-//!   maps, with x86 code detected per block and its call targets
+//!   models of orders 1–4 and 6, words, column, sparse and record contexts,
+//!   direct order 0 and 1, a match model, two mixing layers and a chain of
+//!   refinement maps, with x86 code detected per block and its call targets
 //!   transformed; 32 MiB blocks by default ([`Preset::default_block_size`]).
 //!
-//! In a container, an `order2` or `mix` block whose first sixteenth (at least
-//! 64 KiB) does not shrink is stored without coding the rest, and a `static`
-//! or `adaptive` block whose byte counts prove it cannot shrink is stored
-//! without coding, so incompressible input stays fast.
+//! In a container, an `order2`, `mix` or `history` block whose first
+//! sixteenth (at least 32 KiB) does not shrink is stored without coding the
+//! rest, and a `static` or `adaptive` block whose byte counts (for
+//! `adaptive`, with the model's ideal cost) prove it cannot shrink is stored
+//! without coding, so incompressible input stays fast; any other block that
+//! does not shrink is stored once coded.
 //!
 //! Invariant: [`Preset::decode_block`] with the parameters read back from a
 //! header inverts [`Preset::encode_block`] exactly, on every platform (no
@@ -178,8 +180,8 @@ impl Preset {
     pub fn from_id(id: u32, params: &[u32]) -> Result<Self> {
         let kind = PresetKind::from_id(id)?;
         let specs = kind.param_specs();
-        // Parameters added after a preset was first written come last and
-        // imply their `absent` value in headers that stop before them.
+        // Parameters a header may leave out come last and imply their
+        // `absent` value in headers that stop before them.
         let required = specs.iter().filter(|s| s.absent.is_none()).count();
         if params.len() < required || params.len() > specs.len() {
             return Err(crate::Error::invalid_parameter(
@@ -336,9 +338,9 @@ impl Preset {
     /// Codes one block for the container: the payload, or `None` when the
     /// block should be stored because coding will not shrink it. `static`
     /// and `adaptive` decide that exactly from the byte counts (and the
-    /// model's ideal cost), without coding; `order2` and `mix` early (after
-    /// a sixteenth of the block) instead of coding all of it; `stepwise`
-    /// codes the block and lets the container compare lengths.
+    /// model's ideal cost), without coding; `order2`, `mix` and `history`
+    /// early (after a sixteenth of the block) instead of coding all of it;
+    /// `stepwise` codes the block and lets the container compare lengths.
     pub(crate) fn encode_or_store(&self, raw: &[u8]) -> Result<Option<Vec<u8>>> {
         if raw.is_empty() {
             return Ok(Some(Vec::new()));
@@ -499,8 +501,7 @@ mod tests {
             Preset::from_id(5, &[32, 12, 256, 4096]).unwrap(),
             Preset::new(PresetKind::Adaptive)
         );
-        // Headers written before `precise` existed code with the coarse
-        // binary step.
+        // Headers without `precise` code with the coarse binary step.
         let old = Preset::from_id(4, &[4, 7, 1, 1, 1, 6]).unwrap();
         assert_eq!(old.param("precise"), Some(0));
         assert_eq!(
