@@ -87,9 +87,8 @@ impl Codec for Adaptive {
         "adaptive order-0 model per block, table rebuilt as it learns, interleaved lanes";
     const PARAMS: &'static [ParamSpec] = &[LANES, LOG2_TOTAL, PERIOD, LIMIT];
 
-    /// Checks that the parameters fit together (the model's own rules).
     fn parse(values: Values<'_>) -> Result<Params> {
-        let p = Params {
+        Ok(Params {
             lanes: values.get(&LANES)?,
             refresh: RefreshParams {
                 log2_total: values.get(&LOG2_TOTAL)?,
@@ -97,9 +96,12 @@ impl Codec for Adaptive {
                 max_period: values.get(&PERIOD)?,
                 limit: values.get(&LIMIT)?,
             },
-        };
-        RefreshModel::with_params(256, p.refresh)?;
-        Ok(p)
+        })
+    }
+
+    /// The model's own rules.
+    fn check(p: &Params) -> Result<()> {
+        RefreshModel::with_params(256, p.refresh).map(drop)
     }
 
     fn encode(raw: &[u8], p: &Params) -> Result<Vec<u8>> {

@@ -55,14 +55,26 @@ pub(crate) trait Codec: 'static {
     const BLOCK_SIZE: u64 = 1 << 20;
 
     /// The typed parameters for recorded values already within their specs'
-    /// ranges: checks the rules between parameters that the ranges cannot
-    /// express.
+    /// ranges.
     ///
     /// # Errors
     ///
     /// [`ErrorKind::InvalidParameter`](crate::ErrorKind::InvalidParameter)
-    /// naming the parameter that does not fit.
+    /// naming a parameter that does not fit.
     fn parse(values: Values<'_>) -> Result<Self::Params>;
+
+    /// Checks the rules between parameters that the ranges cannot express
+    /// and that [`parse`](Codec::parse) leaves to the model (run once, when
+    /// a [`Preset`](super::Preset) is made; the block operations build the
+    /// model, which checks them again). The default has none.
+    ///
+    /// # Errors
+    ///
+    /// [`ErrorKind::InvalidParameter`](crate::ErrorKind::InvalidParameter)
+    /// naming a parameter that does not fit.
+    fn check(_params: &Self::Params) -> Result<()> {
+        Ok(())
+    }
 
     /// Codes a non-empty block into the preset's payload.
     fn encode(raw: &[u8], params: &Self::Params) -> Result<Vec<u8>>;
@@ -89,7 +101,7 @@ pub(crate) trait Codec: 'static {
 /// The block operations of a [`Codec`] over recorded values (the
 /// registry's view of a codec).
 pub(crate) trait Ops: Sync {
-    /// [`Codec::parse`], the typed parameters dropped.
+    /// [`Codec::parse`] then [`Codec::check`].
     fn check(&self, values: &[u32]) -> Result<()>;
     /// [`Codec::encode`].
     fn encode(&self, raw: &[u8], values: &[u32]) -> Result<Vec<u8>>;
@@ -117,7 +129,7 @@ impl<C: Codec> OpsOf<C> {
 
 impl<C: Codec> Ops for OpsOf<C> {
     fn check(&self, values: &[u32]) -> Result<()> {
-        Self::parse(values).map(drop)
+        C::check(&Self::parse(values)?)
     }
 
     fn encode(&self, raw: &[u8], values: &[u32]) -> Result<Vec<u8>> {

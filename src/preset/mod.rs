@@ -208,7 +208,8 @@ impl Preset {
         Ok(preset)
     }
 
-    /// Every preset this release knows, with default parameters.
+    /// Every preset this release offers for writing
+    /// ([`PresetKind::ALL`]), with default parameters.
     ///
     /// # Example
     ///

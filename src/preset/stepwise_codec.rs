@@ -52,17 +52,19 @@ impl Codec for Stepwise {
     const PARAMS: &'static [ParamSpec] = &[INCREMENT, LIMIT];
     const OFFERED: bool = false;
 
-    /// Checks that `increment` and `limit` fit together.
     fn parse(values: Values<'_>) -> Result<AdaptiveParams> {
-        let p = AdaptiveParams {
+        Ok(AdaptiveParams {
             increment: values.get(&INCREMENT)?,
             limit: values.get(&LIMIT)?,
             escape: Some(false),
-        };
-        model(&p).map_err(|_| {
+        })
+    }
+
+    /// `increment` and `limit` fit together.
+    fn check(p: &AdaptiveParams) -> Result<()> {
+        model(p).map(drop).map_err(|_| {
             crate::Error::invalid_parameter("limit", "must be at least 257 + 4 x increment")
-        })?;
-        Ok(p)
+        })
     }
 
     fn encode(raw: &[u8], p: &AdaptiveParams) -> Result<Vec<u8>> {
