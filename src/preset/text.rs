@@ -13,6 +13,8 @@
 use core::fmt;
 use core::str::FromStr;
 
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 use crate::preset::registry::NAME_LIST;
 use crate::preset::{Preset, PresetKind};

@@ -32,6 +32,8 @@
 //! [`compress_reader`]: crate::stream::compress_reader
 //! [`compress`]: crate::stream::compress
 
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 use crate::format::{DecodeLimits, IndexPolicy, TrailingData, MAX_BLOCK_SIZE};
 use crate::preset::Preset;
