@@ -27,19 +27,9 @@ use crate::coder::{decode_refresh_lanes, encode_refresh_lanes, log2_q32, IdealCo
 use crate::error::{Error, ErrorKind, Result};
 use crate::model::{RefreshModel, RefreshParams};
 use crate::preset::codec::Codec;
-use crate::preset::lanes::{decoder_memory, lanes_for, put_lanes, read_lanes, LANES};
+use crate::preset::lanes::{decoder_memory, lanes_for, put_lanes, read_lanes, LANES, LOG2_TOTAL};
 use crate::preset::spec::{ParamSpec, Values};
 use crate::vint::Cursor;
-
-/// The table total.
-const LOG2_TOTAL: ParamSpec = ParamSpec {
-    name: "log2_total",
-    default: 12,
-    min: 8,
-    max: 16,
-    help: "table total, as a power of two",
-    absent: None,
-};
 
 /// The longest segment between two rebuilds.
 const PERIOD: ParamSpec = ParamSpec {

@@ -23,6 +23,17 @@ pub(crate) const LANES: ParamSpec = ParamSpec {
     absent: None,
 };
 
+/// The table total of the lane-coded presets, as a power of two (each
+/// preset words its own help).
+pub(crate) const LOG2_TOTAL: ParamSpec = ParamSpec {
+    name: "log2_total",
+    default: 12,
+    min: 8,
+    max: 16,
+    help: "table total, as a power of two",
+    absent: None,
+};
+
 /// Least bytes per lane before another lane is used (each lane costs up to
 /// four flush bytes and a length field).
 const LANE_MIN_BYTES: usize = 1024;

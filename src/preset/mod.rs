@@ -54,24 +54,6 @@
 //! prints it with every parameter, and [`FromStr`](core::str::FromStr) (and
 //! [`Preset::from_name`]) read it back, a name alone or any subset of
 //! parameters standing for the defaults of the rest.
-//!
-//! # Layout
-//!
-//! - `codec.rs`: the `Codec` trait, what one preset is and does (id, name,
-//!   parameter specs, parsing of the recorded values into typed
-//!   parameters, block encode, encode-or-store, decode, ideal cost, memory
-//!   bound).
-//! - One file per preset, `<name>_codec.rs`: its typed parameters, their
-//!   [`ParamSpec`]s, its payload layout and its `Codec`.
-//! - `registry.rs`: the one table of the codecs, from which [`PresetKind`],
-//!   [`PresetKind::ALL`], the lookups by id and name and the list of names
-//!   in messages follow.
-//! - `spec.rs`: [`ParamSpec`] and the recorded values read by spec;
-//!   `text.rs`: the textual form; `lanes.rs` and `engine.rs`: the parts the
-//!   lane-coded and the context-mixing presets share.
-//!
-//! Adding a preset is one new `<name>_codec.rs` implementing `Codec` (with
-//! an id no other preset has used) and one line in the registry's table.
 
 mod adaptive_codec;
 mod codec;

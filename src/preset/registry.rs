@@ -2,8 +2,15 @@
 //! lists ([`PresetKind::ALL`], [`PresetKind::KEPT_FOR_READING`]), the
 //! lookups by id and by name and the list of names in messages all follow.
 //!
-//! Adding a preset is one file (a [`Codec`]) and one line in the table at
-//! the bottom of this file, whose order is the order of
+//! The preset module's files: `codec.rs`, the [`Codec`] trait (what one
+//! preset is and does); one `<name>_codec.rs` per preset, with its typed
+//! parameters, their [`ParamSpec`]s, its payload layout and its `Codec`;
+//! this registry; `spec.rs`, the specs and the recorded values read by
+//! spec; `text.rs`, the textual form; `lanes.rs` and `engine.rs`, the
+//! parts the lane-coded and the context-mixing presets share.
+//!
+//! Adding a preset is one file (a [`Codec`], with an id no preset has used)
+//! and one line in the table below, whose order is the order of
 //! [`PresetKind::ALL`] (fastest first).
 //!
 //! Invariant: the table's `n`th entry is the codec of the `n`th

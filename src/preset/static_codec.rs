@@ -23,18 +23,14 @@ use crate::coder::{decode_table_lanes, encode_counted, log2_q32, IdealCost};
 use crate::error::{Error, Result};
 use crate::model::TableModel;
 use crate::preset::codec::Codec;
-use crate::preset::lanes::{decoder_memory, lanes_for, put_lanes, read_lanes, LANES};
+use crate::preset::lanes::{self, decoder_memory, lanes_for, put_lanes, read_lanes, LANES};
 use crate::preset::spec::{ParamSpec, Values};
 use crate::vint::{put_vint, Cursor};
 
 /// The largest table total.
 const LOG2_TOTAL: ParamSpec = ParamSpec {
-    name: "log2_total",
-    default: 12,
-    min: 8,
-    max: 16,
     help: "largest table total, as a power of two (small blocks use smaller totals)",
-    absent: None,
+    ..lanes::LOG2_TOTAL
 };
 
 /// The `static` preset.
