@@ -301,6 +301,40 @@ impl Error {
     }
 }
 
+/// Constructors for the damage reports of the container format.
+#[cfg(feature = "std")]
+impl Error {
+    /// [`ErrorKind::CorruptHeader`].
+    pub(crate) fn corrupt_header(offset: u64, reason: &'static str) -> Self {
+        ErrorKind::CorruptHeader { offset, reason }.into()
+    }
+
+    /// [`ErrorKind::CorruptFrame`].
+    pub(crate) fn corrupt_frame(index: u64, offset: u64, reason: &'static str) -> Self {
+        ErrorKind::CorruptFrame {
+            index,
+            offset,
+            reason,
+        }
+        .into()
+    }
+
+    /// [`ErrorKind::CorruptBlock`].
+    pub(crate) fn corrupt_block(index: u64, reason: &'static str) -> Self {
+        ErrorKind::CorruptBlock { index, reason }.into()
+    }
+
+    /// [`ErrorKind::CorruptEnd`].
+    pub(crate) fn corrupt_end(offset: u64, reason: &'static str) -> Self {
+        ErrorKind::CorruptEnd { offset, reason }.into()
+    }
+
+    /// [`ErrorKind::CorruptIndex`].
+    pub(crate) fn corrupt_index(offset: u64, reason: &'static str) -> Self {
+        ErrorKind::CorruptIndex { offset, reason }.into()
+    }
+}
+
 impl From<crate::mq::MqError> for Error {
     fn from(err: crate::mq::MqError) -> Self {
         Error {

@@ -12,7 +12,7 @@
 //! | size    | field                                                    |
 //! |--------:|----------------------------------------------------------|
 //! | 4       | the snapshot's identifier ([`Snapshot::id`], u32 little-endian) |
-//! | 1 ..= 5 | the message length in bytes, a vint                       |
+//! | 1 ..= 5 | the message length in bytes, LEB128                      |
 //! | rest    | the range-coded bytes, each coded with the primed model  |
 //!
 //! The identifier makes a mismatch loud: decoding with a different snapshot
@@ -38,7 +38,7 @@ use crate::coder::{Decoder, Encoder};
 use crate::error::ErrorKind;
 use crate::error::Result;
 use crate::model::snapshot::{read_vint, write_vint, Snapshot, SnapshotState};
-use crate::model::{ContextModel, Model, StepwiseModel, TableModel};
+use crate::model::{StepwiseModel, ContextModel, Model, TableModel};
 
 /// Bytes of the snapshot identifier at the start of every frame.
 pub const ID_LEN: usize = 4;
@@ -185,13 +185,7 @@ fn decode_with<M: Model>(
     let len = read_vint(&mut rest)
         .map_err(|_| crate::Error::corrupt_stream(ID_LEN as u64, "damaged message length"))?
         as usize;
-    if len > max_len {
-        return Err(crate::Error::limit_exceeded(
-            "message length",
-            len as u64,
-            max_len as u64,
-        ));
-    }
+    crate::Error::check_limit("message length", len as u64, max_len as u64)?;
     let mut model = model();
     let mut decoder = Decoder::new(rest)?;
     let mut out = Vec::with_capacity(len);
@@ -308,7 +302,7 @@ fn unknown_kind() -> crate::Error {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::error::ErrorKind;
+    use crate::ErrorKind;
 
     #[test]
     fn empty_message_round_trip() {

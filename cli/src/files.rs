@@ -244,20 +244,7 @@ pub fn write_file(target: &Path, force: bool, bytes: &[u8]) -> CliResult {
 mod tests {
     use super::*;
     use crate::exit::Code;
-    use std::sync::atomic::{AtomicU32, Ordering};
-
-    /// A fresh, empty directory under the system's temporary directory.
-    fn scratch(tag: &str) -> PathBuf {
-        static N: AtomicU32 = AtomicU32::new(0);
-        let dir = std::env::temp_dir().join(format!(
-            "subrange-files-{tag}-{}-{}",
-            std::process::id(),
-            N.fetch_add(1, Ordering::Relaxed)
-        ));
-        let _ = fs::remove_dir_all(&dir);
-        fs::create_dir_all(&dir).unwrap();
-        dir
-    }
+    use crate::scratch::Scratch;
 
     #[test]
     fn names_are_derived_and_underivable_ones_refused() {
@@ -287,7 +274,7 @@ mod tests {
 
     #[test]
     fn write_file_is_all_or_nothing() {
-        let dir = scratch("whole");
+        let dir = Scratch::new("files-whole");
         let target = dir.join("plot.svg");
         write_file(&target, false, b"<svg/>").unwrap();
         assert_eq!(fs::read(&target).unwrap(), b"<svg/>");
@@ -295,6 +282,5 @@ mod tests {
             write_file(&target, false, b"x").unwrap_err().code(),
             Code::Refused
         );
-        fs::remove_dir_all(&dir).unwrap();
     }
 }

@@ -22,6 +22,8 @@ mod plot;
 mod presets;
 mod progress;
 mod report;
+#[cfg(test)]
+mod scratch;
 mod summary;
 mod target;
 mod window;

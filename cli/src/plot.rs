@@ -146,6 +146,19 @@ fn draw(
     Ok(())
 }
 
+/// The (speed, bits per byte) of the points of codec `name` that have
+/// both.
+fn coordinates<'a>(
+    points: &'a [Point],
+    name: &'a str,
+    dir: Direction,
+) -> impl Iterator<Item = (f64, f64)> + Clone + 'a {
+    points
+        .iter()
+        .filter(move |p| p.codec == name)
+        .filter_map(move |p| Some((dir.speed(p)?, p.bits_per_byte()?)))
+}
+
 fn panel(
     area: &DrawingArea<SVGBackend<'_>, Shift>,
     dir: Direction,
@@ -153,13 +166,13 @@ fn panel(
     per_input: &[Point],
     palette: &[(String, Kind, RGBColor)],
 ) -> Result<(), Box<dyn std::error::Error>> {
-    let xs = overall.iter().chain(per_input).filter_map(|p| dir.speed(p));
-    let (lo, hi) = xs.fold((f64::INFINITY, 0.0f64), |(lo, hi), s| {
-        (lo.min(s), hi.max(s))
-    });
-    let top = overall
-        .iter()
-        .chain(per_input)
+    let all = || overall.iter().chain(per_input);
+    let (lo, hi) = all()
+        .filter_map(|p| dir.speed(p))
+        .fold((f64::INFINITY, 0.0f64), |(lo, hi), s| {
+            (lo.min(s), hi.max(s))
+        });
+    let top = all()
         .filter_map(Point::bits_per_byte)
         .fold(1.0f64, f64::max)
         * 1.1;
@@ -176,14 +189,8 @@ fn panel(
         .draw()?;
     for (name, kind, c) in palette {
         let c = *c;
-        let small = per_input
-            .iter()
-            .filter(|p| &p.codec == name)
-            .filter_map(|p| Some((dir.speed(p)?, p.bits_per_byte()?)));
-        let big = overall
-            .iter()
-            .filter(|p| &p.codec == name)
-            .filter_map(|p| Some((dir.speed(p)?, p.bits_per_byte()?)));
+        let small = coordinates(per_input, name, dir);
+        let big = coordinates(overall, name, dir);
         match kind {
             Kind::Preset => {
                 chart.draw_series(small.map(|xy| Circle::new(xy, 3, c.mix(0.45).filled())))?;

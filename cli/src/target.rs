@@ -433,97 +433,73 @@ fn sweep_stale(dest: &Path) {
 mod tests {
     use super::*;
     use crate::exit::Code;
+    use crate::scratch::Scratch;
 
-    /// A fresh, empty directory under the system's temporary directory.
-    fn scratch(tag: &str) -> PathBuf {
-        static N: AtomicU32 = AtomicU32::new(0);
-        let dir = std::env::temp_dir().join(format!(
-            "subrange-target-{tag}-{}-{}",
-            std::process::id(),
-            N.fetch_add(1, Ordering::Relaxed)
-        ));
-        let _ = fs::remove_dir_all(&dir);
-        fs::create_dir_all(&dir).unwrap();
-        dir
-    }
-
-    fn entries(dir: &Path) -> Vec<String> {
-        let mut v: Vec<String> = fs::read_dir(dir)
-            .unwrap()
-            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
-            .collect();
-        v.sort();
-        v
+    /// A scratch directory and the target `out.sr` in it.
+    fn scratch(tag: &str) -> (Scratch, PathBuf) {
+        let dir = Scratch::new(&format!("target-{tag}"));
+        let target = dir.join("out.sr");
+        (dir, target)
     }
 
     #[test]
     fn commit_creates_the_target_and_leaves_no_temp() {
-        let dir = scratch("commit");
-        let target = dir.join("out.sr");
+        let (dir, target) = scratch("commit");
         let mut f = OutputFile::create(&target, false, None).unwrap();
         f.write_all(b"levels").unwrap();
         assert!(!target.exists(), "target must not appear before commit");
         f.commit().unwrap();
         assert_eq!(fs::read(&target).unwrap(), b"levels");
-        assert_eq!(entries(&dir), vec!["out.sr".to_string()]);
-        fs::remove_dir_all(&dir).unwrap();
+        assert_eq!(dir.entries(), ["out.sr"]);
     }
 
     #[test]
     fn dropping_without_commit_leaves_nothing() {
-        let dir = scratch("drop");
-        let target = dir.join("out.sr");
+        let (dir, target) = scratch("drop");
         {
             let mut f = OutputFile::create(&target, false, None).unwrap();
             f.write_all(b"partial").unwrap();
         }
-        assert!(entries(&dir).is_empty(), "{:?}", entries(&dir));
-        fs::remove_dir_all(&dir).unwrap();
+        assert!(dir.entries().is_empty(), "{:?}", dir.entries());
     }
 
     #[test]
     fn existing_target_is_refused_without_force_and_kept() {
-        let dir = scratch("refuse");
-        let target = dir.join("out.sr");
+        let (dir, target) = scratch("refuse");
         fs::write(&target, b"old").unwrap();
         let err = OutputFile::create(&target, false, None).unwrap_err();
         assert_eq!(err.code(), Code::Refused);
         assert!(err.message().contains("--force"));
         assert_eq!(fs::read(&target).unwrap(), b"old");
-        assert_eq!(entries(&dir), vec!["out.sr".to_string()]);
-        fs::remove_dir_all(&dir).unwrap();
+        assert_eq!(dir.entries(), ["out.sr"]);
     }
 
     #[test]
     fn target_appearing_before_commit_is_not_clobbered() {
-        let dir = scratch("race");
-        let target = dir.join("out.sr");
+        let (dir, target) = scratch("race");
         let mut f = OutputFile::create(&target, false, None).unwrap();
         f.write_all(b"new").unwrap();
         fs::write(&target, b"theirs").unwrap();
         let err = f.commit().unwrap_err();
         assert_eq!(err.code(), Code::Refused);
         assert_eq!(fs::read(&target).unwrap(), b"theirs");
-        assert_eq!(entries(&dir), vec!["out.sr".to_string()]);
-        fs::remove_dir_all(&dir).unwrap();
+        assert_eq!(dir.entries(), ["out.sr"]);
     }
 
     #[test]
     fn force_replaces_the_target() {
-        let dir = scratch("force");
-        let target = dir.join("out.sr");
+        let (dir, target) = scratch("force");
         fs::write(&target, b"old").unwrap();
         let mut f = OutputFile::create(&target, true, None).unwrap();
         f.write_all(b"new").unwrap();
         f.commit().unwrap();
         assert_eq!(fs::read(&target).unwrap(), b"new");
-        assert_eq!(entries(&dir), vec!["out.sr".to_string()]);
-        fs::remove_dir_all(&dir).unwrap();
+        assert_eq!(dir.entries(), ["out.sr"]);
     }
 
     #[test]
     fn the_input_is_never_the_output() {
-        let dir = scratch("same");
+        let (dir, _) = scratch("same");
         let input = dir.join("levels.csv");
         fs::write(&input, b"G100,0,112\n").unwrap();
         let err = OutputFile::create(&input, true, Some(&input)).unwrap_err();
@@ -533,21 +509,19 @@ mod tests {
         let err = OutputFile::create(&other, true, Some(&input)).unwrap_err();
         assert_eq!(err.code(), Code::Refused);
         assert_eq!(fs::read(&input).unwrap(), b"G100,0,112\n");
-        fs::remove_dir_all(&dir).unwrap();
     }
 
     #[test]
     fn a_directory_is_not_a_target() {
-        let dir = scratch("dir");
-        let err = OutputFile::create(&dir, true, None).unwrap_err();
+        let (dir, _) = scratch("dir");
+        let err = OutputFile::create(dir.path(), true, None).unwrap_err();
         assert_eq!(err.code(), Code::Failure);
-        fs::remove_dir_all(&dir).unwrap();
     }
 
     #[cfg(unix)]
     #[test]
     fn a_link_is_followed_and_kept() {
-        let dir = scratch("link");
+        let (dir, _) = scratch("link");
         let real = dir.join("real.sr");
         let link = dir.join("link.sr");
         fs::write(&real, b"old").unwrap();
@@ -560,14 +534,13 @@ mod tests {
         f.commit().unwrap();
         assert!(fs::symlink_metadata(&link).unwrap().is_symlink());
         assert_eq!(fs::read(&real).unwrap(), b"new");
-        assert_eq!(entries(&dir), vec!["link.sr", "real.sr"]);
+        assert_eq!(dir.entries(), ["link.sr", "real.sr"]);
         // Pointing at nothing: refused, nothing created.
         fs::remove_file(&real).unwrap();
         let err = OutputFile::create(&link, true, None).unwrap_err();
         assert_eq!(err.code(), Code::Refused);
         assert!(err.message().contains("symbolic link"), "{}", err.message());
-        assert_eq!(entries(&dir), vec!["link.sr"]);
-        fs::remove_dir_all(&dir).unwrap();
+        assert_eq!(dir.entries(), ["link.sr"]);
     }
 
     #[cfg(unix)]
@@ -577,8 +550,7 @@ mod tests {
             println!("skipped: this system cannot tell whether a process runs");
             return;
         }
-        let dir = scratch("stale");
-        let target = dir.join("out.sr");
+        let (dir, target) = scratch("stale");
         // A process id above Linux's largest (2^22) is never running.
         let dead = dir.join(".out.sr.subrange-4194400-0.partial");
         fs::write(&dead, b"left over").unwrap();
@@ -597,7 +569,6 @@ mod tests {
             "out.sr".to_string(),
         ];
         want.sort();
-        assert_eq!(entries(&dir), want);
-        fs::remove_dir_all(&dir).unwrap();
+        assert_eq!(dir.entries(), want);
     }
 }

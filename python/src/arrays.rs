@@ -5,82 +5,105 @@ use pyo3::prelude::*;
 use pyo3::types::PyBytes;
 
 use subrange::batch::{decode_probabilities, decode_symbols, encode_probabilities, encode_symbols};
-use subrange::model::{Probability, StepwiseModel, StepwiseParams, TableModel};
+use subrange::model::{StepwiseModel, StepwiseParams, Model, Probability, TableModel};
 
 use crate::to_py;
 
-fn encode_rows<P: Probability + numpy::Element + Send + Sync>(
-    py: Python<'_>,
+fn encode_rows<'py, P: Probability + numpy::Element + Send + Sync>(
+    py: Python<'py>,
     probabilities: PyReadonlyArray2<'_, P>,
     symbols: PyReadonlyArray1<'_, u32>,
     log2_total: u32,
-) -> PyResult<Vec<u8>> {
+) -> PyResult<Bound<'py, PyBytes>> {
     let alphabet = probabilities.shape()[1];
     let p = probabilities.as_slice()?;
     let s = symbols.as_slice()?;
-    py.allow_threads(|| encode_probabilities(p, alphabet, s, log2_total))
-        .map_err(|e| to_py(py, e))
+    let bytes = py
+        .allow_threads(|| encode_probabilities(p, alphabet, s, log2_total))
+        .map_err(|e| to_py(py, e))?;
+    Ok(PyBytes::new(py, &bytes))
 }
 
-fn decode_rows<P: Probability + numpy::Element + Send + Sync>(
-    py: Python<'_>,
+fn decode_rows<'py, P: Probability + numpy::Element + Send + Sync>(
+    py: Python<'py>,
     probabilities: PyReadonlyArray2<'_, P>,
     data: &[u8],
     log2_total: u32,
-) -> PyResult<Vec<u32>> {
+) -> PyResult<Bound<'py, PyArray1<u32>>> {
     let (count, alphabet) = (probabilities.shape()[0], probabilities.shape()[1]);
     let p = probabilities.as_slice()?;
     let mut out = vec![0u32; count];
     py.allow_threads(|| decode_probabilities(p, alphabet, data, log2_total, &mut out))
         .map_err(|e| to_py(py, e))?;
-    Ok(out)
-}
-
-/// Codes symbols under per-symbol probability rows (float64).
-#[pyfunction]
-fn encode_probabilities_f64<'py>(
-    py: Python<'py>,
-    probabilities: PyReadonlyArray2<'_, f64>,
-    symbols: PyReadonlyArray1<'_, u32>,
-    log2_total: u32,
-) -> PyResult<Bound<'py, PyBytes>> {
-    let bytes = encode_rows(py, probabilities, symbols, log2_total)?;
-    Ok(PyBytes::new(py, &bytes))
-}
-
-/// Codes symbols under per-symbol probability rows (float32).
-#[pyfunction]
-fn encode_probabilities_f32<'py>(
-    py: Python<'py>,
-    probabilities: PyReadonlyArray2<'_, f32>,
-    symbols: PyReadonlyArray1<'_, u32>,
-    log2_total: u32,
-) -> PyResult<Bound<'py, PyBytes>> {
-    let bytes = encode_rows(py, probabilities, symbols, log2_total)?;
-    Ok(PyBytes::new(py, &bytes))
-}
-
-/// Decodes symbols coded under per-symbol probability rows (float64).
-#[pyfunction]
-fn decode_probabilities_f64<'py>(
-    py: Python<'py>,
-    probabilities: PyReadonlyArray2<'_, f64>,
-    data: &[u8],
-    log2_total: u32,
-) -> PyResult<Bound<'py, PyArray1<u32>>> {
-    let out = decode_rows(py, probabilities, data, log2_total)?;
     Ok(PyArray1::from_vec(py, out))
 }
 
-/// Decodes symbols coded under per-symbol probability rows (float32).
-#[pyfunction]
-fn decode_probabilities_f32<'py>(
+/// Declares the two functions coding under probability rows of one float
+/// type (a `#[pyfunction]` cannot be generic).
+macro_rules! probability_functions {
+    ($float:ty, $encode:ident, $encode_doc:literal, $decode:ident, $decode_doc:literal) => {
+        #[doc = $encode_doc]
+        #[pyfunction]
+        fn $encode<'py>(
+            py: Python<'py>,
+            probabilities: PyReadonlyArray2<'_, $float>,
+            symbols: PyReadonlyArray1<'_, u32>,
+            log2_total: u32,
+        ) -> PyResult<Bound<'py, PyBytes>> {
+            encode_rows(py, probabilities, symbols, log2_total)
+        }
+
+        #[doc = $decode_doc]
+        #[pyfunction]
+        fn $decode<'py>(
+            py: Python<'py>,
+            probabilities: PyReadonlyArray2<'_, $float>,
+            data: &[u8],
+            log2_total: u32,
+        ) -> PyResult<Bound<'py, PyArray1<u32>>> {
+            decode_rows(py, probabilities, data, log2_total)
+        }
+    };
+}
+
+probability_functions!(
+    f64,
+    encode_probabilities_f64,
+    "Codes symbols under per-symbol probability rows (float64).",
+    decode_probabilities_f64,
+    "Decodes symbols coded under per-symbol probability rows (float64)."
+);
+probability_functions!(
+    f32,
+    encode_probabilities_f32,
+    "Codes symbols under per-symbol probability rows (float32).",
+    decode_probabilities_f32,
+    "Decodes symbols coded under per-symbol probability rows (float32)."
+);
+
+/// Codes `symbols` with `model`, the GIL released.
+fn encode_with<'py, M: Model + Send>(
     py: Python<'py>,
-    probabilities: PyReadonlyArray2<'_, f32>,
+    model: &mut M,
+    symbols: PyReadonlyArray1<'_, u32>,
+) -> PyResult<Bound<'py, PyBytes>> {
+    let s = symbols.as_slice()?;
+    let bytes = py
+        .allow_threads(|| encode_symbols(model, s))
+        .map_err(|e| to_py(py, e))?;
+    Ok(PyBytes::new(py, &bytes))
+}
+
+/// Decodes `count` symbols from `data` with `model`, the GIL released.
+fn decode_with<'py, M: Model + Send>(
+    py: Python<'py>,
+    model: &mut M,
     data: &[u8],
-    log2_total: u32,
+    count: usize,
 ) -> PyResult<Bound<'py, PyArray1<u32>>> {
-    let out = decode_rows(py, probabilities, data, log2_total)?;
+    let mut out = vec![0u32; count];
+    py.allow_threads(|| decode_symbols(model, data, &mut out))
+        .map_err(|e| to_py(py, e))?;
     Ok(PyArray1::from_vec(py, out))
 }
 
@@ -100,12 +123,7 @@ fn encode_adaptive<'py>(
     increment: u32,
     limit: u32,
 ) -> PyResult<Bound<'py, PyBytes>> {
-    let mut model = adaptive(py, alphabet, increment, limit)?;
-    let s = symbols.as_slice()?;
-    let bytes = py
-        .allow_threads(|| encode_symbols(&mut model, s))
-        .map_err(|e| to_py(py, e))?;
-    Ok(PyBytes::new(py, &bytes))
+    encode_with(py, &mut adaptive(py, alphabet, increment, limit)?, symbols)
 }
 
 /// Decodes `count` symbols coded by `encode_adaptive` with the same parameters.
@@ -118,11 +136,12 @@ fn decode_adaptive<'py>(
     increment: u32,
     limit: u32,
 ) -> PyResult<Bound<'py, PyArray1<u32>>> {
-    let mut model = adaptive(py, alphabet, increment, limit)?;
-    let mut out = vec![0u32; count];
-    py.allow_threads(|| decode_symbols(&mut model, data, &mut out))
-        .map_err(|e| to_py(py, e))?;
-    Ok(PyArray1::from_vec(py, out))
+    decode_with(
+        py,
+        &mut adaptive(py, alphabet, increment, limit)?,
+        data,
+        count,
+    )
 }
 
 /// A static frequency table.
@@ -174,12 +193,7 @@ impl NativeTableModel {
         py: Python<'py>,
         symbols: PyReadonlyArray1<'_, u32>,
     ) -> PyResult<Bound<'py, PyBytes>> {
-        let s = symbols.as_slice()?;
-        let mut model = self.model.clone();
-        let bytes = py
-            .allow_threads(|| encode_symbols(&mut model, s))
-            .map_err(|e| to_py(py, e))?;
-        Ok(PyBytes::new(py, &bytes))
+        encode_with(py, &mut self.model.clone(), symbols)
     }
 
     fn decode<'py>(
@@ -188,11 +202,7 @@ impl NativeTableModel {
         data: &[u8],
         count: usize,
     ) -> PyResult<Bound<'py, PyArray1<u32>>> {
-        let mut model = self.model.clone();
-        let mut out = vec![0u32; count];
-        py.allow_threads(|| decode_symbols(&mut model, data, &mut out))
-            .map_err(|e| to_py(py, e))?;
-        Ok(PyArray1::from_vec(py, out))
+        decode_with(py, &mut self.model.clone(), data, count)
     }
 }
 

@@ -11,6 +11,8 @@
 use alloc::vec::Vec;
 
 use crate::coder::{Decoder, Encoder};
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 use crate::model::{Probability, ProbabilityAdapter};
 

@@ -18,7 +18,7 @@
 use std::io::Read;
 use std::vec::Vec;
 
-use crate::error::{ErrorKind, Result};
+use crate::error::{Error, ErrorKind, Result};
 use crate::format::input::Input;
 use crate::format::Header;
 use crate::preset::Preset;
@@ -127,23 +127,6 @@ pub(crate) fn end_record(block_count: u64, total_raw: u64, indexed: bool) -> Vec
     out
 }
 
-fn bad_block(index: u64, reason: &'static str) -> crate::Error {
-    ErrorKind::CorruptBlock { index, reason }.into()
-}
-
-fn bad_frame(index: u64, offset: u64, reason: &'static str) -> crate::Error {
-    ErrorKind::CorruptFrame {
-        index,
-        offset,
-        reason,
-    }
-    .into()
-}
-
-fn bad_end(offset: u64, reason: &'static str) -> crate::Error {
-    ErrorKind::CorruptEnd { offset, reason }.into()
-}
-
 /// Reads the frame of record `index`, checking it against `header`; damage
 /// is reported as [`ErrorKind::CorruptFrame`] (or [`ErrorKind::CorruptEnd`]
 /// for an end record).
@@ -155,8 +138,8 @@ pub(crate) fn read_frame<R: Read>(
     let offset = input.offset();
     let mut end = false;
     read_frame_fields(input, header, index, offset, &mut end).map_err(|e| match e.kind() {
-        ErrorKind::CorruptStream { reason, .. } if end => bad_end(offset, reason),
-        ErrorKind::CorruptStream { reason, .. } => bad_frame(index, offset, reason),
+        ErrorKind::CorruptStream { reason, .. } if end => Error::corrupt_end(offset, reason),
+        ErrorKind::CorruptStream { reason, .. } => Error::corrupt_frame(index, offset, reason),
         _ => e,
     })
 }
@@ -203,13 +186,13 @@ fn read_frame_fields<R: Read>(
                 payload_crc,
             })
         }
-        _ => return Err(bad_frame(index, offset, "unknown record kind")),
+        _ => return Err(Error::corrupt_frame(index, offset, "unknown record kind")),
     };
     let expected = frame_check(index, input.captured());
     if input.u32_le()? != expected {
         return Err(match frame {
-            Frame::End { .. } => bad_end(offset, "end record check mismatch"),
-            Frame::Block(_) => bad_frame(
+            Frame::End { .. } => Error::corrupt_end(offset, "end record check mismatch"),
+            Frame::Block(_) => Error::corrupt_frame(
                 index,
                 offset,
                 "frame check mismatch (damaged, or a block moved, dropped or repeated)",
@@ -218,13 +201,17 @@ fn read_frame_fields<R: Read>(
     }
     if let Frame::Block(b) = &frame {
         if b.raw_len == 0 {
-            return Err(bad_frame(index, offset, "empty block"));
+            return Err(Error::corrupt_frame(index, offset, "empty block"));
         }
         if b.raw_len > header.block_size {
-            return Err(bad_frame(index, offset, "raw length above the block size"));
+            return Err(Error::corrupt_frame(
+                index,
+                offset,
+                "raw length above the block size",
+            ));
         }
         if b.kind == BlockKind::Coded && b.payload_len >= b.raw_len {
-            return Err(bad_frame(
+            return Err(Error::corrupt_frame(
                 index,
                 offset,
                 "coded payload not shorter than the block",
@@ -245,7 +232,10 @@ pub(crate) fn read_payload<R: Read>(
     if let Some(expected) = frame.payload_crc {
         let actual = crc32fast::hash(buf);
         if actual != expected {
-            return Err(bad_block(frame.index, "payload checksum mismatch"));
+            return Err(Error::corrupt_block(
+                frame.index,
+                "payload checksum mismatch",
+            ));
         }
     }
     Ok(())
@@ -267,7 +257,7 @@ pub(crate) fn decode_payload(
             .map_err(|e| in_block(frame.index, e))?,
     }
     if out.len() as u64 != frame.raw_len {
-        return Err(bad_block(
+        return Err(Error::corrupt_block(
             frame.index,
             "decoded length differs from the frame",
         ));
@@ -280,7 +270,10 @@ pub(crate) fn decode_payload(
 pub(crate) fn check_payload(frame: &BlockFrame, payload: &[u8]) -> Result<()> {
     if let Some(expected) = frame.payload_crc {
         if crc32fast::hash(payload) != expected {
-            return Err(bad_block(frame.index, "payload checksum mismatch"));
+            return Err(Error::corrupt_block(
+                frame.index,
+                "payload checksum mismatch",
+            ));
         }
     }
     Ok(())
@@ -290,7 +283,7 @@ pub(crate) fn check_payload(frame: &BlockFrame, payload: &[u8]) -> Result<()> {
 /// CRC-32.
 pub(crate) fn check_stored(frame: &BlockFrame, out: &[u8]) -> Result<()> {
     if frame.kind != BlockKind::Stored || out.len() as u64 != frame.raw_len {
-        return Err(bad_block(
+        return Err(Error::corrupt_block(
             frame.index,
             "decoded length differs from the frame",
         ));
@@ -307,7 +300,7 @@ pub(crate) fn decode_payload_into(
     out: &mut [u8],
 ) -> Result<()> {
     if out.len() as u64 != frame.raw_len || payload.len() as u64 != frame.payload_len {
-        return Err(bad_block(
+        return Err(Error::corrupt_block(
             frame.index,
             "decoded length differs from the frame",
         ));
@@ -345,7 +338,7 @@ fn in_block(index: u64, e: crate::Error) -> crate::Error {
         ErrorKind::UncodableSymbol { .. } => "coded data names a symbol the model cannot code",
         _ => return e,
     };
-    bad_block(index, reason)
+    Error::corrupt_block(index, reason)
 }
 
 #[cfg(test)]

@@ -19,7 +19,9 @@ use core::ops::Range;
 use std::io::{BufReader, Read, Seek, SeekFrom};
 use std::vec::Vec;
 
-use crate::error::{ErrorKind, Result};
+#[cfg(doc)]
+use crate::error::ErrorKind;
+use crate::error::Result;
 use crate::format::block::{read_frame, Frame};
 use crate::format::header::read_header;
 use crate::format::index::{
@@ -146,7 +148,7 @@ fn walk_frames<R: Read + Seek>(
                         after_end: input.offset(),
                     });
                 };
-                return Err(ErrorKind::CorruptBlock { index, reason }.into());
+                return Err(crate::Error::corrupt_block(index, reason));
             }
         }
     }
@@ -188,8 +190,9 @@ impl BlockIndex {
             Some(Err(e)) => Some(e),
             None => None,
         };
-        // No usable tail: walk. An old container whose last bytes happen to
-        // look like the mark walks to a plain end record and reads fine.
+        // No usable tail: walk. A container without an index whose last
+        // bytes happen to look like the mark walks to a plain end record and
+        // reads fine.
         // When both fail, the index's error names the damage (usually in
         // the end record, which both read).
         let walked = match walk_frames(reader, base, len, &header, limits) {
@@ -209,13 +212,7 @@ impl BlockIndex {
                     walked.located.end_offset,
                 )
                 .err()
-                .unwrap_or_else(|| {
-                    ErrorKind::CorruptIndex {
-                        offset: len,
-                        reason: "index tail damaged",
-                    }
-                    .into()
-                }),
+                .unwrap_or_else(|| crate::Error::corrupt_index(len, "index tail damaged")),
             });
         }
         check_trailing(&walked)?;

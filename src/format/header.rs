@@ -13,7 +13,7 @@
 use std::io::Read;
 use std::vec::Vec;
 
-use crate::error::{ErrorKind, Result};
+use crate::error::{Error, ErrorKind, Result};
 use crate::format::input::Input;
 use crate::format::limits::DecodeLimits;
 use crate::format::{MAGIC, VERSION};
@@ -66,15 +66,11 @@ pub(crate) fn encode_header(preset: &Preset, block_size: u64) -> Vec<u8> {
     out
 }
 
-fn corrupt(offset: u64, reason: &'static str) -> crate::Error {
-    ErrorKind::CorruptHeader { offset, reason }.into()
-}
-
 /// Reads and checks a header; damage is reported as
 /// [`ErrorKind::CorruptHeader`].
 pub(crate) fn read_header<R: Read>(input: &mut Input<R>, limits: &DecodeLimits) -> Result<Header> {
     read_fields(input, limits).map_err(|e| match e.kind() {
-        ErrorKind::CorruptStream { offset, reason } => corrupt(*offset, reason),
+        ErrorKind::CorruptStream { offset, reason } => Error::corrupt_header(*offset, reason),
         _ => e,
     })
 }
@@ -100,33 +96,34 @@ fn read_fields<R: Read>(input: &mut Input<R>, limits: &DecodeLimits) -> Result<H
     let at = input.offset();
     let count = input.byte()?;
     if usize::from(count) > MAX_PARAMS {
-        return Err(corrupt(at, "more preset parameters than any preset has"));
+        return Err(Error::corrupt_header(
+            at,
+            "more preset parameters than any preset has",
+        ));
     }
     let mut params = [0u32; MAX_PARAMS];
     for p in params.iter_mut().take(count.into()) {
         let at = input.offset();
         let v = input.vint("malformed preset parameter")?;
-        *p = u32::try_from(v).map_err(|_| corrupt(at, "preset parameter above 2^32 - 1"))?;
+        *p = u32::try_from(v)
+            .map_err(|_| Error::corrupt_header(at, "preset parameter above 2^32 - 1"))?;
     }
     let expected = crc32fast::hash(input.captured());
     let at = input.offset();
     if input.u32_le()? != expected {
-        return Err(corrupt(at, "header checksum mismatch"));
+        return Err(Error::corrupt_header(at, "header checksum mismatch"));
     }
-    let id = u32::try_from(id).map_err(|_| ErrorKind::LimitExceeded {
-        what: "preset id",
-        declared: id,
-        limit: u32::MAX.into(),
-    })?;
+    let id =
+        u32::try_from(id).map_err(|_| Error::limit_exceeded("preset id", id, u32::MAX.into()))?;
     if block_size == 0 {
-        return Err(corrupt(start, "block size is zero"));
+        return Err(Error::corrupt_header(start, "block size is zero"));
     }
-    crate::Error::check_limit("block size", block_size, limits.block_size_limit())?;
+    Error::check_limit("block size", block_size, limits.block_size_limit())?;
     let preset = Preset::from_id(id, &params[..count.into()]).map_err(|e| match e.kind() {
-        ErrorKind::InvalidParameter { reason, .. } => corrupt(start, reason),
+        ErrorKind::InvalidParameter { reason, .. } => Error::corrupt_header(start, reason),
         _ => e,
     })?;
-    crate::Error::check_limit(
+    Error::check_limit(
         "memory needed per block",
         preset.memory_needed(block_size),
         limits.memory_limit(),

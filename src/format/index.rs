@@ -27,7 +27,7 @@
 use std::io::{BufReader, Read, Seek, SeekFrom};
 use std::vec::Vec;
 
-use crate::error::{ErrorKind, Result};
+use crate::error::{Error, ErrorKind, Result};
 use crate::format::block::{frame_check, KIND_INDEXED_END};
 use crate::format::input::Input;
 use crate::format::limits::DecodeLimits;
@@ -159,16 +159,12 @@ impl IndexExpect {
     }
 }
 
-fn bad(offset: u64, reason: &'static str) -> crate::Error {
-    ErrorKind::CorruptIndex { offset, reason }.into()
-}
-
 /// A read error inside the index: damage to the index, unless the reader
 /// itself failed.
 fn damaged(e: crate::Error, at: u64, reason: &'static str) -> crate::Error {
     match e.kind() {
         ErrorKind::Io(_) => e,
-        _ => bad(at, reason),
+        _ => Error::corrupt_index(at, reason),
     }
 }
 
@@ -209,19 +205,25 @@ pub(crate) fn read_after_end<R: Read>(
     check.update(&recorded);
     let at = input.offset();
     if input.u32_le()? != check.finalize() {
-        return Err(bad(at, "index check mismatch"));
+        return Err(Error::corrupt_index(at, "index check mismatch"));
     }
     let at = input.offset();
     for m in INDEX_MARK {
         if input.byte()? != m {
-            return Err(bad(at, "index mark missing"));
+            return Err(Error::corrupt_index(at, "index mark missing"));
         }
     }
     if u64::from_le_bytes(recorded) != end_offset {
-        return Err(bad(start, "index end offset differs from the end record's"));
+        return Err(Error::corrupt_index(
+            start,
+            "index end offset differs from the end record's",
+        ));
     }
     if entries.finalize() != expect.hasher.clone().finalize() {
-        return Err(bad(start, "index entries differ from the blocks read"));
+        return Err(Error::corrupt_index(
+            start,
+            "index entries differ from the blocks read",
+        ));
     }
     Ok(input.offset() - start)
 }
@@ -257,7 +259,7 @@ pub(crate) struct Located {
 pub(crate) fn check_entry_memory(count: u64, limits: &DecodeLimits) -> Result<()> {
     // An entry, and the pair it is built from while the index is read.
     let each = core::mem::size_of::<IndexEntry>() as u64 + 16;
-    crate::Error::check_limit(
+    Error::check_limit(
         "memory for the block index",
         count.saturating_mul(each),
         limits.memory_limit(),
@@ -306,7 +308,10 @@ pub(crate) fn parse_recorded<R: Read + Seek>(
 ) -> Result<Located> {
     // The smallest end record: kind, two one-byte vints, its check.
     if end_offset < header.len || end_offset.saturating_add(7 + TAIL_LEN) > len {
-        return Err(bad(end_offset, "index end offset outside the container"));
+        return Err(Error::corrupt_index(
+            end_offset,
+            "index end offset outside the container",
+        ));
     }
     let region = len - end_offset;
     reader.seek(SeekFrom::Start(base + end_offset))?;
@@ -315,7 +320,7 @@ pub(crate) fn parse_recorded<R: Read + Seek>(
     let end = |e| damaged(e, end_offset, "malformed end record before the index");
     input.start_capture();
     if input.byte().map_err(end)? != KIND_INDEXED_END {
-        return Err(bad(
+        return Err(Error::corrupt_index(
             end_offset,
             "no indexed end record at the index's end offset",
         ));
@@ -324,7 +329,10 @@ pub(crate) fn parse_recorded<R: Read + Seek>(
     let total_raw = input.vint("total").map_err(end)?;
     let expected = frame_check(count, input.captured());
     if input.u32_le().map_err(end)? != expected {
-        return Err(bad(end_offset, "end record check mismatch"));
+        return Err(Error::corrupt_index(
+            end_offset,
+            "end record check mismatch",
+        ));
     }
     let mut check = crc32fast::Hasher::new();
     check.update(input.captured());
@@ -334,13 +342,13 @@ pub(crate) fn parse_recorded<R: Read + Seek>(
     if count.saturating_mul(MIN_ENTRY_LEN) > entries_len
         || count.saturating_mul(MAX_ENTRY_LEN) < entries_len
     {
-        return Err(bad(
+        return Err(Error::corrupt_index(
             entries_at,
             "index length disagrees with the block count",
         ));
     }
     if count > (end_offset - header.len) / MIN_RECORD_LEN {
-        return Err(bad(
+        return Err(Error::corrupt_index(
             end_offset,
             "more blocks than the container has room for",
         ));
@@ -356,7 +364,7 @@ pub(crate) fn parse_recorded<R: Read + Seek>(
         raw.push((record_len, shortfall));
     }
     if input.offset() != len - TAIL_LEN {
-        return Err(bad(
+        return Err(Error::corrupt_index(
             entries_at,
             "index length disagrees with the block count",
         ));
@@ -369,28 +377,37 @@ pub(crate) fn parse_recorded<R: Read + Seek>(
     }
     check.update(&recorded);
     if input.u32_le().map_err(tail)? != check.finalize() {
-        return Err(bad(len - TAIL_LEN + 8, "index check mismatch"));
+        return Err(Error::corrupt_index(
+            len - TAIL_LEN + 8,
+            "index check mismatch",
+        ));
     }
     for m in INDEX_MARK {
         if input.byte().map_err(tail)? != m {
-            return Err(bad(len - 4, "index mark missing"));
+            return Err(Error::corrupt_index(len - 4, "index mark missing"));
         }
     }
     if u64::from_le_bytes(recorded) != end_offset {
-        return Err(bad(len - TAIL_LEN, "index end offset differs"));
+        return Err(Error::corrupt_index(
+            len - TAIL_LEN,
+            "index end offset differs",
+        ));
     }
     let mut blocks = Vec::with_capacity(raw.len());
     let (mut offset, mut raw_offset) = (header.len, 0u64);
     for (record_len, shortfall) in raw {
         if shortfall >= header.block_size {
-            return Err(bad(
+            return Err(Error::corrupt_index(
                 entries_at,
                 "index entry's raw length outside the block size",
             ));
         }
         let raw_len = header.block_size - shortfall;
         if record_len < MIN_RECORD_LEN || record_len > raw_len + MAX_FRAME_LEN {
-            return Err(bad(entries_at, "index entry's record length impossible"));
+            return Err(Error::corrupt_index(
+                entries_at,
+                "index entry's record length impossible",
+            ));
         }
         blocks.push(IndexEntry {
             offset,
@@ -402,13 +419,13 @@ pub(crate) fn parse_recorded<R: Read + Seek>(
         raw_offset = raw_offset.saturating_add(raw_len);
     }
     if offset != end_offset {
-        return Err(bad(
+        return Err(Error::corrupt_index(
             entries_at,
             "index record lengths do not reach the end record",
         ));
     }
     if raw_offset != total_raw {
-        return Err(bad(
+        return Err(Error::corrupt_index(
             entries_at,
             "index raw lengths differ from the end record's total",
         ));

@@ -198,11 +198,10 @@ impl<R: Read> Inspector<R> {
                     index_len: 0,
                 });
                 if block_count != self.index || total_raw != self.raw_offset {
-                    return Err(ErrorKind::CorruptEnd {
+                    return Err(crate::Error::corrupt_end(
                         offset,
-                        reason: "it differs from the blocks read",
-                    }
-                    .into());
+                        "it differs from the blocks read",
+                    ));
                 }
                 if indexed {
                     let end_bytes = self.input.captured().to_vec();

@@ -15,7 +15,9 @@
 use std::io::Read;
 use std::vec::Vec;
 
-use crate::error::{ErrorKind, Result};
+#[cfg(doc)]
+use crate::error::ErrorKind;
+use crate::error::Result;
 use crate::format::block::{check_payload, read_frame, read_payload, BlockFrame, Frame};
 use crate::format::header::read_header;
 use crate::format::index::{read_after_end, IndexExpect};
@@ -157,18 +159,16 @@ impl<R: Read> ContainerReader<R> {
                     indexed,
                 } => {
                     if block_count != self.index {
-                        return Err(ErrorKind::CorruptEnd {
-                            offset: at,
-                            reason: "its block count differs from the blocks read",
-                        }
-                        .into());
+                        return Err(crate::Error::corrupt_end(
+                            at,
+                            "its block count differs from the blocks read",
+                        ));
                     }
                     if total_raw != self.total {
-                        return Err(ErrorKind::CorruptEnd {
-                            offset: at,
-                            reason: "its total differs from the bytes read",
-                        }
-                        .into());
+                        return Err(crate::Error::corrupt_end(
+                            at,
+                            "its total differs from the bytes read",
+                        ));
                     }
                     if indexed {
                         let end_bytes = self.input.captured().to_vec();

@@ -24,32 +24,146 @@
 use alloc::vec::Vec;
 
 use crate::coder::{decode_adaptive_lanes, encode_adaptive_lanes, log2_q32, IdealCost};
-use crate::error::{ErrorKind, Result};
+use crate::error::{Error, ErrorKind, Result};
 use crate::model::{AdaptiveModel, AdaptiveParams};
-use crate::preset::corrupt;
-use crate::preset::lanes::{put_lanes, read_lanes};
+use crate::preset::codec::Codec;
+use crate::preset::lanes::{decoder_memory, lanes_for, put_lanes, read_lanes, LANES, LOG2_TOTAL};
+use crate::preset::spec::{ParamSpec, Values};
 use crate::vint::Cursor;
 
-/// Symbols coded with a block's first table; later segments double.
-pub(crate) const FIRST_PERIOD: u32 = 32;
+/// The longest segment between two rebuilds.
+const PERIOD: ParamSpec = ParamSpec {
+    name: "period",
+    default: 256,
+    min: 32,
+    max: 1 << 20,
+    help: "most bytes coded between two rebuilds of the table (the first after 32, then doubling)",
+    absent: None,
+};
 
-/// Least bytes per lane before another lane is used.
-const LANE_MIN_BYTES: usize = 1024;
+/// The count limit at a rebuild.
+const LIMIT: ParamSpec = ParamSpec {
+    name: "limit",
+    default: 4096,
+    min: 256,
+    max: 1 << 30,
+    help: "at a rebuild, counts are halved while their sum exceeds this",
+    absent: None,
+};
+
+/// Symbols coded with a block's first table; later segments double.
+const FIRST_PERIOD: u32 = 32;
 
 /// Byte sets of fewer values than this are listed, larger ones mapped.
 const LIST_MAX: usize = 31;
 
-fn refresh_params(params: &[u32]) -> AdaptiveParams {
-    AdaptiveParams {
-        log2_total: params[1],
-        first_period: FIRST_PERIOD,
-        max_period: params[2],
-        limit: params[3],
-    }
+/// The `adaptive` preset.
+pub(crate) struct Adaptive;
+
+/// The `adaptive` preset's parameters.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) struct Params {
+    /// Most lanes a block is coded over.
+    lanes: u32,
+    /// The model's table total, segment lengths and count limit.
+    refresh: AdaptiveParams,
 }
 
-fn lanes_for(len: usize, max_lanes: u32) -> usize {
-    (len / LANE_MIN_BYTES).clamp(1, max_lanes as usize)
+impl Codec for Adaptive {
+    type Params = Params;
+    const ID: u32 = 5;
+    const NAME: &'static str = "adaptive";
+    const SUMMARY: &'static str =
+        "adaptive order-0 model per block, table rebuilt as it learns, interleaved lanes";
+    const PARAMS: &'static [ParamSpec] = &[LANES, LOG2_TOTAL, PERIOD, LIMIT];
+
+    fn parse(values: Values<'_>) -> Result<Params> {
+        Ok(Params {
+            lanes: values.get(&LANES)?,
+            refresh: AdaptiveParams {
+                log2_total: values.get(&LOG2_TOTAL)?,
+                first_period: FIRST_PERIOD,
+                max_period: values.get(&PERIOD)?,
+                limit: values.get(&LIMIT)?,
+            },
+        })
+    }
+
+    /// The model's own rules.
+    fn check(p: &Params) -> Result<()> {
+        AdaptiveModel::with_params(256, p.refresh).map(drop)
+    }
+
+    fn encode(raw: &[u8], p: &Params) -> Result<Vec<u8>> {
+        encode_with_set(raw, p, &byte_set(raw))
+    }
+
+    /// `None` when the payload cannot come out shorter than `raw`, decided
+    /// from the model's exact ideal cost without coding: a lane's bytes are
+    /// at least its ideal cost less one byte (see the `static` preset's twin
+    /// of this test).
+    ///
+    /// Working out that cost runs the model over the block, so it is done
+    /// only for blocks whose byte histogram is nearly flat (order-0 entropy
+    /// of at least 7.875 bits a byte); other blocks are coded straight away,
+    /// and the rare one of them that does not shrink is caught by the
+    /// container's length check.
+    fn encode_or_store(raw: &[u8], p: &Params) -> Result<Option<Vec<u8>>> {
+        let counts = crate::model::byte_counts(raw);
+        let set: [bool; 256] = core::array::from_fn(|b| counts[b] > 0);
+        let n = raw.len() as u64;
+        let log_n = log2_q32(n);
+        let entropy_q32: u128 = counts
+            .iter()
+            .filter(|&&c| c > 0)
+            .map(|&c| u128::from(c) * u128::from(log_n - log2_q32(c)))
+            .sum();
+        if entropy_q32 < u128::from(n * 8 - n / 8) << 32 {
+            return encode_with_set(raw, p, &set).map(Some);
+        }
+        let lanes = lanes_for(raw.len(), p.lanes) as u64;
+        let bits_q32 = cost(raw, p)?.bits_q32();
+        // `log2_q32` reads high by at most about 2.7e-6 bits a symbol (see
+        // `static_codec`); allow 8 bytes and 4 a MiB.
+        let margin = 8 + raw.len() as u64 / (1 << 18);
+        let floor = ((bits_q32 >> 32) as u64 / 8).saturating_sub(lanes + margin);
+        if 2 + floor >= raw.len() as u64 {
+            return Ok(None);
+        }
+        encode_with_set(raw, p, &set).map(Some)
+    }
+
+    fn decode(payload: &[u8], p: &Params, out: &mut [u8]) -> Result<()> {
+        let mut cur = Cursor::new(payload);
+        let lanes = cur
+            .byte()
+            .ok_or_else(|| Error::corrupt_stream(0, "payload is empty"))?;
+        if lanes == 0 || u32::from(lanes) > p.lanes {
+            return Err(Error::corrupt_stream(
+                0,
+                "lane count outside 1 ..= the preset's lanes",
+            ));
+        }
+        let set = read_byte_set(&mut cur)?;
+        let mut model = AdaptiveModel::with_symbols(&set, p.refresh)
+            .map_err(|_| Error::corrupt_stream(1, "byte set does not fit the table total"))?;
+        let views = read_lanes(&mut cur, usize::from(lanes))?;
+        decode_adaptive_lanes(&mut model, &views, out).map_err(|e| match e.kind() {
+            ErrorKind::InvalidParameter { .. } => Error::corrupt_stream(0, "lane count"),
+            _ => e,
+        })
+    }
+
+    fn ideal_cost(raw: &[u8], p: &Params) -> Result<IdealCost> {
+        cost(raw, p)
+    }
+
+    /// The model (counts, frequencies and cumulative frequencies, about 4
+    /// KiB) and the lane decoder's slot and symbol tables (5 bytes per unit
+    /// of the total), rounded up, plus its padded copy of the lanes.
+    fn working_memory(p: &Params, block_size: u64) -> u64 {
+        decoder_memory(8192 + (8u64 << p.refresh.log2_total), block_size)
+    }
 }
 
 fn byte_set(raw: &[u8]) -> [bool; 256] {
@@ -77,7 +191,10 @@ fn put_byte_set(out: &mut Vec<u8>, set: &[bool; 256]) {
 
 fn read_byte_set(cur: &mut Cursor<'_>) -> Result<[bool; 256]> {
     let at = cur.position();
-    let count = usize::from(cur.byte().ok_or_else(|| corrupt(at, "byte set missing"))?) + 1;
+    let count = usize::from(
+        cur.byte()
+            .ok_or_else(|| Error::corrupt_stream(at as u64, "byte set missing"))?,
+    ) + 1;
     let mut set = [count == 256; 256];
     if count == 256 {
         return Ok(set);
@@ -86,9 +203,12 @@ fn read_byte_set(cur: &mut Cursor<'_>) -> Result<[bool; 256]> {
     if count <= LIST_MAX {
         let list = cur
             .take(count as u64)
-            .ok_or_else(|| corrupt(at, "byte set runs past the payload"))?;
+            .ok_or_else(|| Error::corrupt_stream(at as u64, "byte set runs past the payload"))?;
         if list.windows(2).any(|w| w[0] >= w[1]) {
-            return Err(corrupt(at, "byte set is not in increasing order"));
+            return Err(Error::corrupt_stream(
+                at as u64,
+                "byte set is not in increasing order",
+            ));
         }
         for &b in list {
             set[usize::from(b)] = true;
@@ -96,25 +216,23 @@ fn read_byte_set(cur: &mut Cursor<'_>) -> Result<[bool; 256]> {
     } else {
         let map = cur
             .take(32)
-            .ok_or_else(|| corrupt(at, "byte set runs past the payload"))?;
+            .ok_or_else(|| Error::corrupt_stream(at as u64, "byte set runs past the payload"))?;
         for (v, s) in set.iter_mut().enumerate() {
             *s = map[v / 8] >> (v % 8) & 1 == 1;
         }
         if set.iter().filter(|&&s| s).count() != count {
-            return Err(corrupt(at, "byte set map does not match its size"));
+            return Err(Error::corrupt_stream(
+                at as u64,
+                "byte set map does not match its size",
+            ));
         }
     }
     Ok(set)
 }
 
-/// Checks that the parameters fit together (the model's own rules).
-pub(crate) fn check(params: &[u32]) -> Result<()> {
-    AdaptiveModel::with_params(256, refresh_params(params)).map(drop)
-}
-
 /// The model's cost of `raw`, segment by segment, without coding it.
-fn cost(raw: &[u8], params: &[u32]) -> Result<IdealCost> {
-    let mut model = AdaptiveModel::with_symbols(&byte_set(raw), refresh_params(params))?;
+fn cost(raw: &[u8], p: &Params) -> Result<IdealCost> {
+    let mut model = AdaptiveModel::with_symbols(&byte_set(raw), p.refresh)?;
     let shift = model.log2_total();
     let mut cost = IdealCost::new();
     let mut rest = raw;
@@ -130,19 +248,10 @@ fn cost(raw: &[u8], params: &[u32]) -> Result<IdealCost> {
     Ok(cost)
 }
 
-/// The ideal cost of a block under this preset's model.
-pub(crate) fn ideal(raw: &[u8], params: &[u32]) -> Result<IdealCost> {
-    cost(raw, params)
-}
-
-pub(crate) fn encode(raw: &[u8], params: &[u32]) -> Result<Vec<u8>> {
-    encode_with_set(raw, params, &byte_set(raw))
-}
-
-/// [`encode`] with the block's byte set already known.
-fn encode_with_set(raw: &[u8], params: &[u32], set: &[bool; 256]) -> Result<Vec<u8>> {
-    let lanes = lanes_for(raw.len(), params[0]);
-    let mut model = AdaptiveModel::with_symbols(set, refresh_params(params))?;
+/// [`Codec::encode`] with the block's byte set already known.
+fn encode_with_set(raw: &[u8], p: &Params, set: &[bool; 256]) -> Result<Vec<u8>> {
+    let lanes = lanes_for(raw.len(), p.lanes);
+    let mut model = AdaptiveModel::with_symbols(set, p.refresh)?;
     let streams = encode_adaptive_lanes(&mut model, raw, lanes)?;
     let coded: usize = streams.iter().map(Vec::len).sum();
     let mut out = Vec::with_capacity(coded + 34 + 8 * lanes);
@@ -152,75 +261,15 @@ fn encode_with_set(raw: &[u8], params: &[u32], set: &[bool; 256]) -> Result<Vec<
     Ok(out)
 }
 
-/// As [`encode`], or `None` when the payload cannot come out shorter than
-/// `raw` (the container then stores the block), decided from the model's
-/// exact ideal cost without coding: a lane's bytes are at least its ideal
-/// cost less one byte (see the `static` preset's twin of this test).
-///
-/// Working out that cost runs the model over the block, so it is done only
-/// for blocks whose byte histogram is nearly flat (order-0 entropy of at
-/// least 7.875 bits a byte); other blocks are coded straight away, and the
-/// rare one of them that does not shrink is caught by the container's
-/// length check.
-pub(crate) fn encode_or_store(raw: &[u8], params: &[u32]) -> Result<Option<Vec<u8>>> {
-    let counts = crate::model::byte_counts(raw);
-    let set: [bool; 256] = core::array::from_fn(|b| counts[b] > 0);
-    let n = raw.len() as u64;
-    let log_n = log2_q32(n);
-    let entropy_q32: u128 = counts
-        .iter()
-        .filter(|&&c| c > 0)
-        .map(|&c| u128::from(c) * u128::from(log_n - log2_q32(c)))
-        .sum();
-    if entropy_q32 < u128::from(n * 8 - n / 8) << 32 {
-        return encode_with_set(raw, params, &set).map(Some);
-    }
-    let lanes = lanes_for(raw.len(), params[0]) as u64;
-    let bits_q32 = cost(raw, params)?.bits_q32();
-    // `log2_q32` reads high by at most about 2.7e-6 bits a symbol (see
-    // `static_codec`); allow 8 bytes and 4 a MiB.
-    let margin = 8 + raw.len() as u64 / (1 << 18);
-    let floor = ((bits_q32 >> 32) as u64 / 8).saturating_sub(lanes + margin);
-    if 2 + floor >= raw.len() as u64 {
-        return Ok(None);
-    }
-    encode_with_set(raw, params, &set).map(Some)
-}
-
-pub(crate) fn decode(payload: &[u8], params: &[u32], out: &mut [u8]) -> Result<()> {
-    let mut cur = Cursor::new(payload);
-    let lanes = cur.byte().ok_or_else(|| corrupt(0, "payload is empty"))?;
-    if lanes == 0 || u32::from(lanes) > params[0] {
-        return Err(corrupt(0, "lane count outside 1 ..= the preset's lanes"));
-    }
-    let set = read_byte_set(&mut cur)?;
-    let mut model = AdaptiveModel::with_symbols(&set, refresh_params(params))
-        .map_err(|_| corrupt(1, "byte set does not fit the table total"))?;
-    let views = read_lanes(&mut cur, usize::from(lanes))?;
-    decode_adaptive_lanes(&mut model, &views, out).map_err(|e| match e.kind() {
-        ErrorKind::InvalidParameter { .. } => corrupt(0, "lane count"),
-        _ => e,
-    })
-}
-
-/// Working memory to decode a block of up to `block_size` bytes, beyond the
-/// payload and output buffers: the model (counts, frequencies and
-/// cumulative frequencies, about 4 KiB), the lane decoder's slot and symbol
-/// tables (5 bytes per unit of the total), rounded up, plus its padded copy
-/// of the lanes (the payload, shorter than the block, and its padding per
-/// lane).
-pub(crate) fn working_memory(params: &[u32], block_size: u64) -> u64 {
-    let tables = 8192 + (8u64 << params[1]);
-    let pad = crate::coder::LANE_PAD as u64 * crate::coder::MAX_LANES as u64;
-    tables.saturating_add(block_size.saturating_add(pad))
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
     use alloc::vec;
 
-    const PARAMS: [u32; 4] = [32, 12, 256, 4096];
+    /// The defaults.
+    fn params() -> Params {
+        Adaptive::parse(Values::new(Adaptive::PARAMS, &[32, 12, 256, 4096])).unwrap()
+    }
 
     #[test]
     fn byte_sets_round_trip_in_all_three_forms() {
@@ -252,12 +301,12 @@ mod tests {
     #[test]
     fn blocks_round_trip_and_trailing_bytes_are_rejected() {
         let raw = crate::corpus::gauge_csv(5, 40_000);
-        let mut payload = encode(&raw, &PARAMS).unwrap();
+        let mut payload = Adaptive::encode(&raw, &params()).unwrap();
         let mut out = vec![0u8; raw.len()];
-        decode(&payload, &PARAMS, &mut out).unwrap();
+        Adaptive::decode(&payload, &params(), &mut out).unwrap();
         assert_eq!(out, raw);
         payload.extend_from_slice(&[1, 2, 3, 4, 5, 6]);
-        assert!(decode(&payload, &PARAMS, &mut out).is_err());
+        assert!(Adaptive::decode(&payload, &params(), &mut out).is_err());
     }
 
     /// Stores exactly the blocks coding could not shrink.
@@ -274,8 +323,8 @@ mod tests {
         .into_iter()
         .enumerate()
         {
-            let coded = encode(&raw, &PARAMS).unwrap();
-            match encode_or_store(&raw, &PARAMS).unwrap() {
+            let coded = Adaptive::encode(&raw, &params()).unwrap();
+            match Adaptive::encode_or_store(&raw, &params()).unwrap() {
                 Some(c) => assert_eq!(c, coded, "case {i}"),
                 None => assert!(
                     coded.len() >= raw.len(),
@@ -283,16 +332,18 @@ mod tests {
                 ),
             }
         }
-        assert!(encode_or_store(&crate::corpus::random(1, 200_000), &PARAMS)
-            .unwrap()
-            .is_none());
+        assert!(
+            Adaptive::encode_or_store(&crate::corpus::random(1, 200_000), &params())
+                .unwrap()
+                .is_none()
+        );
     }
 
     #[test]
     fn ideal_cost_is_what_the_lanes_reach() {
         let raw = crate::corpus::text_like(8, 300_000);
-        let ideal = ideal(&raw, &PARAMS).unwrap().bits() / 8.0;
-        let payload = encode(&raw, &PARAMS).unwrap().len() as f64;
+        let ideal = Adaptive::ideal_cost(&raw, &params()).unwrap().bits() / 8.0;
+        let payload = Adaptive::encode(&raw, &params()).unwrap().len() as f64;
         // Header, byte set and lane lengths, and up to four flush bytes a lane.
         assert!(
             payload >= ideal && payload < ideal + 40.0 + 32.0 * 7.0,

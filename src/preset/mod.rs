@@ -18,26 +18,28 @@
 //! - `stepwise` (id 2), kept for reading: an
 //!   [`StepwiseModel`](crate::model::StepwiseModel) over 256 symbols,
 //!   restarted at every block, updated after every byte, one coder lane.
-//!   Containers that use it (preset id 2) decode, and [`Preset::new`] still writes it, but it is not offered
-//!   among the presets ([`PresetKind::ALL`], the command line): `adaptive`
-//!   compresses about as well at several times its speed in both
-//!   directions.
+//!   Containers that use it decode, and [`Preset::new`] and the textual
+//!   form make it, but it is not offered among the presets
+//!   ([`PresetKind::ALL`], the command line): `adaptive` compresses about
+//!   as well at several times its speed in both directions.
 //! - `order2` (id 3): the fast order-2 context model of
 //!   [`model::cm`](crate::model::cm), coded bit by bit; close to the data's
 //!   order-2 conditional entropy.
-//! - `mix` (id 4): the strongest model: hashed contexts of orders 1 to 6,
-//!   word and column contexts and a match model, logistically mixed and
-//!   refined; strong and slow.
+//! - `mix` (id 4): hashed contexts of orders 1 to 6, word and column
+//!   contexts and a match model, logistically mixed and refined; strong and
+//!   slow.
 //! - `history` (id 6): the strongest model: bit-history (indirect) context
-//!   models of orders 1–4 and 6, words, column, sparse and record contexts, direct order
-//!   0 and 1, a match model, two mixing layers and a chain of refinement
-//!   maps, with x86 code detected per block and its call targets
+//!   models of orders 1–4 and 6, words, column, sparse and record contexts,
+//!   direct order 0 and 1, a match model, two mixing layers and a chain of
+//!   refinement maps, with x86 code detected per block and its call targets
 //!   transformed; 32 MiB blocks by default ([`Preset::default_block_size`]).
 //!
-//! In a container, an `order2` or `mix` block whose first sixteenth (at least
-//! 64 KiB) does not shrink is stored without coding the rest, and a `static`
-//! or `adaptive` block whose byte counts prove it cannot shrink is stored
-//! without coding, so incompressible input stays fast.
+//! In a container, an `order2`, `mix` or `history` block whose first
+//! sixteenth (at least 32 KiB) does not shrink is stored without coding the
+//! rest, and a `static` or `adaptive` block whose byte counts (for
+//! `adaptive`, with the model's ideal cost) prove it cannot shrink is stored
+//! without coding, so incompressible input stays fast; any other block that
+//! does not shrink is stored once coded.
 //!
 //! Invariant: [`Preset::decode_block`] with the parameters read back from a
 //! header inverts [`Preset::encode_block`] exactly, on every platform (no
@@ -54,9 +56,14 @@
 //! parameters standing for the defaults of the rest.
 
 mod adaptive_codec;
-mod cm_codec;
+mod codec;
+mod engine;
 mod history_codec;
 mod lanes;
+mod mix_codec;
+mod order2_codec;
+mod registry;
+mod spec;
 mod static_codec;
 mod stepwise_codec;
 mod text;
@@ -64,336 +71,14 @@ mod text;
 use alloc::vec::Vec;
 use core::fmt;
 
-use crate::error::{ErrorKind, Result};
+#[cfg(doc)]
+use crate::error::ErrorKind;
+use crate::error::Result;
+pub use registry::PresetKind;
+pub use spec::ParamSpec;
 
 /// Most parameters a preset may have.
 pub const MAX_PARAMS: usize = 8;
-
-/// Valid preset names, for messages (a unit test keeps it in step with
-/// [`PresetKind::ALL`]).
-const NAME_LIST: &str =
-    "unknown preset name: expected one of static, adaptive, order2, mix, history";
-
-/// One integer parameter of a preset: its name, default and valid range.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub struct ParamSpec {
-    /// Name, as used by [`Preset::set_param`] (e.g. `increment`).
-    pub name: &'static str,
-    /// The value a new preset starts with.
-    pub default: u32,
-    /// Smallest valid value.
-    pub min: u32,
-    /// Largest valid value.
-    pub max: u32,
-    /// What the parameter does, one line.
-    pub help: &'static str,
-    /// The value a header written before this parameter existed implies
-    /// (such a header stops before it); `None` for parameters every header
-    /// records.
-    pub absent: Option<u32>,
-}
-
-/// Which preset: the part of a [`Preset`] that is not a parameter.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
-#[non_exhaustive]
-pub enum PresetKind {
-    /// A table model per block, stored in the block, coded over lanes.
-    Static,
-    /// A refreshed adaptive order-0 model restarted at each block, coded
-    /// over lanes.
-    Adaptive,
-    /// An adaptive order-0 model updated after every byte, restarted at
-    /// each block, one lane; containers with preset id 2 decode (not among
-    /// [`PresetKind::ALL`]).
-    Stepwise,
-    /// The fast order-2 context model, restarted at each block.
-    Order2,
-    /// Orders 1–6, word and column contexts and a match model, mixed;
-    /// restarted at each block.
-    Mix,
-    /// Bit-history context models, two mixing layers and a refinement
-    /// chain, x86 code detected per block; the strongest model, restarted
-    /// at each block (of 32 MiB by default).
-    History,
-}
-
-/// The lane count of the lane-coded presets.
-const LANES: ParamSpec = ParamSpec {
-    name: "lanes",
-    default: 32,
-    min: 1,
-    max: crate::coder::MAX_LANES as u32,
-    help: "interleaved coder lanes per block (blocks under 1 KiB per lane use fewer)",
-    absent: None,
-};
-
-/// The binary step of the context-mixing presets, added after them.
-const PRECISE: ParamSpec = ParamSpec {
-    name: "precise",
-    default: 1,
-    min: 0,
-    max: 1,
-    help: "binary steps split the range exactly (1), or as earlier builds did (0)",
-    absent: Some(0),
-};
-
-const STATIC_PARAMS: &[ParamSpec] = &[
-    LANES,
-    ParamSpec {
-        name: "log2_total",
-        default: 12,
-        min: 8,
-        max: 16,
-        help: "largest table total, as a power of two (small blocks use smaller totals)",
-        absent: None,
-    },
-];
-
-const ADAPTIVE_PARAMS: &[ParamSpec] = &[
-    LANES,
-    ParamSpec {
-        name: "log2_total",
-        default: 12,
-        min: 8,
-        max: 16,
-        help: "table total, as a power of two",
-        absent: None,
-    },
-    ParamSpec {
-        name: "period",
-        default: 256,
-        min: 32,
-        max: 1 << 20,
-        help:
-            "most bytes coded between two rebuilds of the table (the first after 32, then doubling)",
-        absent: None,
-    },
-    ParamSpec {
-        name: "limit",
-        default: 4096,
-        min: 256,
-        max: 1 << 30,
-        help: "at a rebuild, counts are halved while their sum exceeds this",
-        absent: None,
-    },
-];
-
-const STEPWISE_PARAMS: &[ParamSpec] = &[
-    ParamSpec {
-        name: "increment",
-        default: 24,
-        min: 1,
-        max: 8192,
-        help: "added to a byte's count each time it is coded",
-        absent: None,
-    },
-    ParamSpec {
-        name: "limit",
-        default: 65_536,
-        min: 261,
-        max: 65_536,
-        help: "counts are halved when the total would pass this (at least 257 + 4 x increment)",
-        absent: None,
-    },
-];
-
-const ORDER2_PARAMS: &[ParamSpec] = &[
-    ParamSpec {
-        name: "order1",
-        default: 1,
-        min: 0,
-        max: 1,
-        help: "new order-2 contexts start from the order-1 prediction (1) or from even odds (0)",
-        absent: None,
-    },
-    ParamSpec {
-        name: "limit",
-        default: 60,
-        min: 1,
-        max: 1023,
-        help: "counter limit: higher suits long stationary data, lower adapts faster",
-        absent: None,
-    },
-    PRECISE,
-];
-
-const MIX_PARAMS: &[ParamSpec] = &[
-    ParamSpec {
-        name: "memory_mib",
-        default: 4,
-        min: 1,
-        max: 1024,
-        help: "context table memory in MiB, a power of two (the decoder needs the same)",
-        absent: None,
-    },
-    ParamSpec {
-        name: "orders",
-        default: 0b00_0111,
-        min: 0,
-        max: 0b11_1111,
-        help: "context orders in use: bit k enables order k + 1 (default orders 1, 2, 3)",
-        absent: None,
-    },
-    ParamSpec {
-        name: "word",
-        default: 1,
-        min: 0,
-        max: 1,
-        help: "word context for text (1 on, 0 off)",
-        absent: None,
-    },
-    ParamSpec {
-        name: "column",
-        default: 1,
-        min: 0,
-        max: 1,
-        help: "column context for line-structured records (1 on, 0 off)",
-        absent: None,
-    },
-    ParamSpec {
-        name: "matcher",
-        default: 1,
-        min: 0,
-        max: 1,
-        help: "match model predicting from the longest earlier match (1 on, 0 off)",
-        absent: None,
-    },
-    ParamSpec {
-        name: "rate",
-        default: 6,
-        min: 1,
-        max: 64,
-        help: "mixer learning rate",
-        absent: None,
-    },
-    PRECISE,
-];
-
-const HISTORY_PARAMS: &[ParamSpec] = &[
-    ParamSpec {
-        name: "memory_mib",
-        default: 128,
-        min: 1,
-        max: 1024,
-        help: "most context slot memory in MiB, a power of two (a block of n bytes uses at most 256 n)",
-        absent: None,
-    },
-    ParamSpec {
-        name: "x86",
-        default: 1,
-        min: 0,
-        max: 1,
-        help: "detect x86 code per block and code its call/jump targets as absolute (1), or never (0)",
-        absent: None,
-    },
-    ParamSpec {
-        name: "rate",
-        default: 32,
-        min: 1,
-        max: 255,
-        help: "settled mixer learning rate (lower: steadier on stationary data)",
-        absent: None,
-    },
-];
-
-impl PresetKind {
-    /// Every preset kind this release offers for writing, fastest first.
-    pub const ALL: &'static [PresetKind] = &[
-        PresetKind::Static,
-        PresetKind::Adaptive,
-        PresetKind::Order2,
-        PresetKind::Mix,
-        PresetKind::History,
-    ];
-
-    /// Preset kinds kept only so that older containers decode.
-    pub const KEPT_FOR_READING: &'static [PresetKind] = &[PresetKind::Stepwise];
-
-    /// The id recorded in a container header.
-    pub fn id(self) -> u32 {
-        match self {
-            PresetKind::Static => 1,
-            PresetKind::Stepwise => 2,
-            PresetKind::Order2 => 3,
-            PresetKind::Mix => 4,
-            PresetKind::Adaptive => 5,
-            PresetKind::History => 6,
-        }
-    }
-
-    /// The preset's name (`static`, `adaptive`).
-    pub fn name(self) -> &'static str {
-        match self {
-            PresetKind::Static => "static",
-            PresetKind::Adaptive => "adaptive",
-            PresetKind::Stepwise => "stepwise",
-            PresetKind::Order2 => "order2",
-            PresetKind::Mix => "mix",
-            PresetKind::History => "history",
-        }
-    }
-
-    /// One line on what the preset does, for help texts.
-    pub fn summary(self) -> &'static str {
-        match self {
-            PresetKind::Static => {
-                "table model per block from its byte histogram, interleaved lanes; fastest"
-            }
-            PresetKind::Adaptive => {
-                "adaptive order-0 model per block, table rebuilt as it learns, interleaved lanes"
-            }
-            PresetKind::Stepwise => {
-                "adaptive order-0 model updated after every byte, one lane (read only)"
-            }
-            PresetKind::Order2 => "order-2 context model, bit by bit; fast, near order-2 entropy",
-            PresetKind::Mix => {
-                "orders 1-6, word, column and match models, logistically mixed; strong, slow"
-            }
-            PresetKind::History => {
-                "bit-history contexts, two-layer mixing, x86 and record models, 32 MiB blocks; smallest, slowest"
-            }
-        }
-    }
-
-    /// The preset's parameters, in the order a header records them.
-    pub fn param_specs(self) -> &'static [ParamSpec] {
-        match self {
-            PresetKind::Static => STATIC_PARAMS,
-            PresetKind::Adaptive => ADAPTIVE_PARAMS,
-            PresetKind::Stepwise => STEPWISE_PARAMS,
-            PresetKind::Order2 => ORDER2_PARAMS,
-            PresetKind::Mix => MIX_PARAMS,
-            PresetKind::History => HISTORY_PARAMS,
-        }
-    }
-
-    /// The kind with this header id.
-    ///
-    /// # Errors
-    ///
-    /// [`ErrorKind::UnknownPreset`] for an id this release does not know.
-    pub fn from_id(id: u32) -> Result<Self> {
-        Self::ALL
-            .iter()
-            .chain(Self::KEPT_FOR_READING)
-            .copied()
-            .find(|k| k.id() == id)
-            .ok_or_else(|| ErrorKind::UnknownPreset { id }.into())
-    }
-
-    /// The kind with this name (exact, lower case).
-    ///
-    /// # Errors
-    ///
-    /// [`ErrorKind::InvalidParameter`] naming the valid presets.
-    pub fn from_name(name: &str) -> Result<Self> {
-        Self::ALL
-            .iter()
-            .copied()
-            .find(|k| k.name() == name)
-            .ok_or_else(|| crate::Error::invalid_parameter("preset", NAME_LIST))
-    }
-}
 
 /// A preset with its parameters: everything needed to code and decode the
 /// blocks of a container.
@@ -477,8 +162,8 @@ impl Preset {
     pub fn from_id(id: u32, params: &[u32]) -> Result<Self> {
         let kind = PresetKind::from_id(id)?;
         let specs = kind.param_specs();
-        // Parameters added after a preset was first written come last and
-        // imply their `absent` value in headers that stop before them.
+        // Parameters a header may leave out come last and imply their
+        // `absent` value in headers that stop before them.
         let required = specs.iter().filter(|s| s.absent.is_none()).count();
         if params.len() < required || params.len() > specs.len() {
             return Err(crate::Error::invalid_parameter(
@@ -494,13 +179,7 @@ impl Preset {
             *v = spec.absent.unwrap_or(spec.default);
         }
         for ((v, &p), spec) in values.iter_mut().zip(params).zip(specs) {
-            if p > spec.max {
-                return Err(crate::Error::limit_exceeded(
-                    spec.name,
-                    p.into(),
-                    spec.max.into(),
-                ));
-            }
+            crate::Error::check_limit(spec.name, p.into(), spec.max.into())?;
             if p < spec.min {
                 return Err(out_of_range(spec.name));
             }
@@ -511,7 +190,8 @@ impl Preset {
         Ok(preset)
     }
 
-    /// Every preset this release knows, with default parameters.
+    /// Every preset this release offers for writing
+    /// ([`PresetKind::ALL`]), with default parameters.
     ///
     /// # Example
     ///
@@ -563,10 +243,7 @@ impl Preset {
     /// assert_eq!(Preset::from_name("mix").unwrap().default_block_size(), 1 << 20);
     /// ```
     pub fn default_block_size(&self) -> u64 {
-        match self.kind {
-            PresetKind::History => 32 << 20,
-            _ => 1 << 20,
-        }
+        self.kind.entry().block_size
     }
 
     /// The parameter descriptions.
@@ -600,13 +277,12 @@ impl Preset {
     /// ```
     pub fn set_param(&mut self, name: &str, value: u32) -> Result<&mut Self> {
         let specs = self.param_specs();
-        let i = specs
-            .iter()
-            .position(|s| s.name == name)
-            .ok_or(ErrorKind::InvalidParameter {
-                name: "preset parameter",
-                reason: "this preset has no parameter of that name",
-            })?;
+        let i = specs.iter().position(|s| s.name == name).ok_or_else(|| {
+            crate::Error::invalid_parameter(
+                "preset parameter",
+                "this preset has no parameter of that name",
+            )
+        })?;
         if value < specs[i].min || value > specs[i].max {
             return Err(out_of_range(specs[i].name));
         }
@@ -619,14 +295,12 @@ impl Preset {
 
     /// Rules between parameters that [`ParamSpec`] ranges cannot express.
     fn check_params(&self) -> Result<()> {
-        match self.kind {
-            PresetKind::Static => Ok(()),
-            PresetKind::Adaptive => adaptive_codec::check(self.params()),
-            PresetKind::Stepwise => stepwise_codec::check(self.params()),
-            PresetKind::Order2 => cm_codec::order2_params(self.params()).map(drop),
-            PresetKind::Mix => cm_codec::mix_params(self.params()).map(drop),
-            PresetKind::History => history_codec::params(self.params()).map(drop),
-        }
+        self.ops().check(self.params())
+    }
+
+    /// The operations of this preset's codec.
+    fn ops(&self) -> &'static dyn codec::Ops {
+        self.kind.entry().ops
     }
 
     /// Codes one block of raw bytes into the preset's payload.
@@ -641,39 +315,20 @@ impl Preset {
         if raw.is_empty() {
             return Ok(Vec::new());
         }
-        match self.kind {
-            PresetKind::Static => static_codec::encode(raw, self.params()),
-            PresetKind::Adaptive => adaptive_codec::encode(raw, self.params()),
-            PresetKind::Stepwise => stepwise_codec::encode(raw, self.params()),
-            PresetKind::Order2 => cm_codec::encode_o2(raw, self.params()),
-            PresetKind::Mix => cm_codec::encode_mx(raw, self.params()),
-            PresetKind::History => history_codec::encode(raw, self.params()),
-        }
+        self.ops().encode(raw, self.params())
     }
 
     /// Codes one block for the container: the payload, or `None` when the
     /// block should be stored because coding will not shrink it. `static`
     /// and `adaptive` decide that exactly from the byte counts (and the
-    /// model's ideal cost), without coding; `order2` and `mix` early (after
-    /// a sixteenth of the block) instead of coding all of it; `stepwise`
-    /// codes the block and lets the container compare lengths.
+    /// model's ideal cost), without coding; `order2`, `mix` and `history`
+    /// early (after a sixteenth of the block) instead of coding all of it;
+    /// `stepwise` codes the block and lets the container compare lengths.
     pub(crate) fn encode_or_store(&self, raw: &[u8]) -> Result<Option<Vec<u8>>> {
-        match self.kind {
-            PresetKind::Static if !raw.is_empty() => {
-                static_codec::encode_or_store(raw, self.params())
-            }
-            PresetKind::Adaptive if !raw.is_empty() => {
-                adaptive_codec::encode_or_store(raw, self.params())
-            }
-            PresetKind::Order2 if !raw.is_empty() => {
-                cm_codec::encode_o2_or_store(raw, self.params())
-            }
-            PresetKind::Mix if !raw.is_empty() => cm_codec::encode_mx_or_store(raw, self.params()),
-            PresetKind::History if !raw.is_empty() => {
-                history_codec::encode_or_store(raw, self.params())
-            }
-            _ => self.encode_block(raw).map(Some),
+        if raw.is_empty() {
+            return Ok(Some(Vec::new()));
         }
+        self.ops().encode_or_store(raw, self.params())
     }
 
     /// Decodes a payload made by [`encode_block`](Preset::encode_block) into
@@ -695,7 +350,10 @@ impl Preset {
         out.clear();
         if raw_len == 0 {
             if !payload.is_empty() {
-                return Err(corrupt(0, "payload of an empty block is not empty"));
+                return Err(crate::Error::corrupt_stream(
+                    0,
+                    "payload of an empty block is not empty",
+                ));
             }
             return Ok(());
         }
@@ -704,12 +362,13 @@ impl Preset {
             // the two are never live at once.
             *out = Vec::new();
         }
-        out.try_reserve_exact(raw_len)
-            .map_err(|_| ErrorKind::LimitExceeded {
-                what: "decoded block length (allocation failed)",
-                declared: raw_len as u64,
-                limit: 0,
-            })?;
+        out.try_reserve_exact(raw_len).map_err(|_| {
+            crate::Error::limit_exceeded(
+                "decoded block length (allocation failed)",
+                raw_len as u64,
+                0,
+            )
+        })?;
         out.resize(raw_len, 0);
         let r = self.decode_into(payload, out);
         if r.is_err() {
@@ -723,18 +382,14 @@ impl Preset {
     pub(crate) fn decode_into(&self, payload: &[u8], out: &mut [u8]) -> Result<()> {
         if out.is_empty() {
             if !payload.is_empty() {
-                return Err(corrupt(0, "payload of an empty block is not empty"));
+                return Err(crate::Error::corrupt_stream(
+                    0,
+                    "payload of an empty block is not empty",
+                ));
             }
             return Ok(());
         }
-        match self.kind {
-            PresetKind::Static => static_codec::decode(payload, self.params(), out),
-            PresetKind::Adaptive => adaptive_codec::decode(payload, self.params(), out),
-            PresetKind::Stepwise => stepwise_codec::decode(payload, self.params(), out),
-            PresetKind::Order2 => cm_codec::decode_o2(payload, self.params(), out),
-            PresetKind::Mix => cm_codec::decode_mx(payload, self.params(), out),
-            PresetKind::History => history_codec::decode(payload, self.params(), out),
-        }
+        self.ops().decode(payload, self.params(), out)
     }
 
     /// The ideal cost of coding one block with this preset's models:
@@ -764,14 +419,7 @@ impl Preset {
         if raw.is_empty() {
             return Ok(crate::coder::IdealCost::new());
         }
-        match self.kind {
-            PresetKind::Static => static_codec::ideal(raw, self.params()),
-            PresetKind::Adaptive => adaptive_codec::ideal(raw, self.params()),
-            PresetKind::Stepwise => stepwise_codec::ideal(raw, self.params()),
-            PresetKind::Order2 => cm_codec::ideal_o2(raw, self.params()),
-            PresetKind::Mix => cm_codec::ideal_mx(raw, self.params()),
-            PresetKind::History => history_codec::ideal(raw, self.params()),
-        }
+        self.ops().ideal_cost(raw, self.params())
     }
 
     /// Bytes of memory needed to decode one block of `block_size` raw bytes:
@@ -789,14 +437,7 @@ impl Preset {
     /// ```
     pub fn memory_needed(&self, block_size: u64) -> u64 {
         let buffers = block_size.saturating_mul(2);
-        let model = match self.kind {
-            PresetKind::Static => static_codec::working_memory(self.params(), block_size),
-            PresetKind::Adaptive => adaptive_codec::working_memory(self.params(), block_size),
-            PresetKind::Stepwise => stepwise_codec::model_memory(),
-            PresetKind::Order2 => cm_codec::order2_memory(self.params(), block_size),
-            PresetKind::Mix => cm_codec::mix_memory(self.params(), block_size),
-            PresetKind::History => history_codec::memory(self.params(), block_size),
-        };
+        let model = self.ops().working_memory(self.params(), block_size);
         buffers.saturating_add(model)
     }
 }
@@ -814,50 +455,12 @@ fn out_of_range(name: &'static str) -> crate::Error {
     )
 }
 
-/// A payload-level damage report: `offset` is within the payload.
-pub(crate) fn corrupt(offset: usize, reason: &'static str) -> crate::Error {
-    crate::Error::corrupt_stream(offset as u64, reason)
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::ErrorKind;
     use alloc::string::ToString;
     use alloc::vec;
-
-    #[test]
-    fn name_list_names_every_preset() {
-        let listed = NAME_LIST.rsplit("one of ").next().unwrap();
-        let names: Vec<&str> = listed.split(", ").collect();
-        assert_eq!(names, Preset::names().collect::<Vec<_>>());
-    }
-
-    #[test]
-    fn ids_and_names_are_unique_and_params_fit() {
-        let known: Vec<PresetKind> = PresetKind::ALL
-            .iter()
-            .chain(PresetKind::KEPT_FOR_READING)
-            .copied()
-            .collect();
-        for (i, a) in known.iter().enumerate() {
-            assert!(a.param_specs().len() <= MAX_PARAMS);
-            for spec in a.param_specs() {
-                assert!(spec.min <= spec.default && spec.default <= spec.max);
-            }
-            assert!(Preset::new(*a).check_params().is_ok());
-            // Parameters a header may leave out come after all the others.
-            let specs = a.param_specs();
-            let required = specs.iter().filter(|s| s.absent.is_none()).count();
-            assert!(
-                specs[..required].iter().all(|s| s.absent.is_none()),
-                "{a:?}"
-            );
-            for b in &known[i + 1..] {
-                assert_ne!(a.id(), b.id());
-                assert_ne!(a.name(), b.name());
-            }
-        }
-    }
 
     #[test]
     fn from_id_checks_everything() {
@@ -881,8 +484,7 @@ mod tests {
             Preset::from_id(5, &[32, 12, 256, 4096]).unwrap(),
             Preset::new(PresetKind::Adaptive)
         );
-        // Headers written before `precise` existed code with the coarse
-        // binary step.
+        // Headers without `precise` code with the coarse binary step.
         let old = Preset::from_id(4, &[4, 7, 1, 1, 1, 6]).unwrap();
         assert_eq!(old.param("precise"), Some(0));
         assert_eq!(

@@ -13,8 +13,11 @@
 use core::fmt;
 use core::str::FromStr;
 
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
-use crate::preset::{Preset, PresetKind, NAME_LIST};
+use crate::preset::registry::NAME_LIST;
+use crate::preset::{Preset, PresetKind};
 
 /// Separates the name from the parameters.
 const NAME_END: char = ':';
@@ -40,10 +43,7 @@ pub(crate) fn parse(text: &str) -> Result<Preset> {
         Some((name, params)) => (name.trim(), Some(params)),
         None => (text.trim(), None),
     };
-    let kind = PresetKind::ALL
-        .iter()
-        .chain(PresetKind::KEPT_FOR_READING)
-        .copied()
+    let kind = PresetKind::known()
         .find(|k| k.name().eq_ignore_ascii_case(name))
         .ok_or_else(|| invalid(NAME_LIST))?;
     let mut preset = Preset::new(kind);
@@ -99,17 +99,9 @@ mod tests {
     use crate::ErrorKind;
     use alloc::string::ToString;
 
-    /// Every preset, including those kept for reading.
-    fn every_kind() -> impl Iterator<Item = PresetKind> {
-        PresetKind::ALL
-            .iter()
-            .chain(PresetKind::KEPT_FOR_READING)
-            .copied()
-    }
-
     #[test]
     fn display_then_parse_is_the_identity_for_every_parameter_value() {
-        for kind in every_kind() {
+        for kind in PresetKind::known() {
             let base = Preset::new(kind);
             assert_eq!(base.to_string().parse::<Preset>().unwrap(), base);
             assert_eq!(kind.name().parse::<Preset>().unwrap(), base);

@@ -149,13 +149,7 @@ impl<R: Read + Seek> IndexedReader<R> {
         self.current = None;
         let entry = self.index.blocks()[b];
         let header = self.index.header();
-        let disagrees = |reason| -> crate::Error {
-            ErrorKind::CorruptIndex {
-                offset: entry.offset,
-                reason,
-            }
-            .into()
-        };
+        let disagrees = |reason| crate::Error::corrupt_index(entry.offset, reason);
         // `record_len` is within the block size plus a frame (checked when
         // the list was made), and the block size within the limits.
         self.inner

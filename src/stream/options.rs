@@ -8,8 +8,8 @@
 //! output the default reader would refuse. The one declared size where they
 //! could disagree is the memory needed to decode one block
 //! ([`Preset::memory_needed`] of the block size), which grows with the
-//! block size and with some preset parameters (`order2` at 64 MiB blocks,
-//! `mix` with a large `memory_mib`). A caller who wants such output raises
+//! block size and with some preset parameters (`order2` and `history` at
+//! 64 MiB blocks, `mix` with a large `memory_mib`). A caller who wants such output raises
 //! [`Options::max_decoder_memory`] on purpose, and then every reader of it
 //! needs [`DecodeLimits::max_memory`] raised to match. Block sizes agree by
 //! construction: both sides allow up to [`MAX_BLOCK_SIZE`].
@@ -32,6 +32,8 @@
 //! [`compress_reader`]: crate::stream::compress_reader
 //! [`compress`]: crate::stream::compress
 
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 use crate::format::{DecodeLimits, IndexPolicy, TrailingData, MAX_BLOCK_SIZE};
 use crate::preset::Preset;
@@ -170,8 +172,8 @@ impl Options {
     /// reader that can seek decode any byte range from the blocks holding
     /// it ([`IndexedReader`](crate::stream::IndexedReader)); it costs about
     /// four bytes a block (at most 20) plus 16, in the container and in the
-    /// writer's memory until the end. Containers without it still read
-    /// everywhere, by a walk over the block frames.
+    /// writer's memory until the end. Containers without it read
+    /// everywhere too, by a walk over the block frames.
     ///
     /// # Example
     ///
