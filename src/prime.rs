@@ -38,7 +38,7 @@ use crate::coder::{Decoder, Encoder};
 use crate::error::ErrorKind;
 use crate::error::Result;
 use crate::model::snapshot::{read_vint, write_vint, Snapshot, SnapshotState};
-use crate::model::{StepwiseModel, ContextModel, Model, TableModel};
+use crate::model::{ContextModel, Model, StepwiseModel, TableModel};
 
 /// Bytes of the snapshot identifier at the start of every frame.
 pub const ID_LEN: usize = 4;

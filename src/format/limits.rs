@@ -123,4 +123,16 @@ mod tests {
         assert!(crate::Error::check_limit("x", 5, 4).is_err());
         assert!(crate::Error::check_limit("x", 4, 4).is_ok());
     }
+
+    #[test]
+    fn default_history_containers_decode_within_the_default_limit() {
+        use crate::preset::{Preset, PresetKind};
+        let p = Preset::new(PresetKind::History);
+        let need = p.memory_needed(p.default_block_size());
+        let limit = DecodeLimits::default().memory_limit();
+        assert!(need <= limit, "{need} > {limit}");
+        assert!(need > 200 << 20, "{need}");
+        // Short blocks take little.
+        assert!(p.memory_needed(4096) < 4 << 20, "{}", p.memory_needed(4096));
+    }
 }

@@ -108,7 +108,6 @@ impl Codec for History {
 mod tests {
     use super::*;
     use crate::preset::codec::OpsOf;
-    use crate::preset::{Preset, PresetKind};
 
     fn parse(values: &[u32]) -> Result<HistoryParams> {
         History::parse(Values::new(History::PARAMS, values))
@@ -123,16 +122,5 @@ mod tests {
         assert!(parse(&[128, 1, 0]).is_err());
         let ops = OpsOf::<History>::OPS;
         assert_eq!(ops.working_memory(&[3, 1, 32], 10), u64::MAX);
-    }
-
-    #[test]
-    fn default_containers_decode_within_the_default_limit() {
-        let p = Preset::new(PresetKind::History);
-        let need = p.memory_needed(p.default_block_size());
-        let limit = crate::format::DecodeLimits::default().memory_limit();
-        assert!(need <= limit, "{need} > {limit}");
-        assert!(need > 200 << 20, "{need}");
-        // Short blocks take little.
-        assert!(p.memory_needed(4096) < 4 << 20, "{}", p.memory_needed(4096));
     }
 }

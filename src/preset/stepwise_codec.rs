@@ -15,7 +15,7 @@ use alloc::vec::Vec;
 
 use crate::coder::{Decoder, Encoder, IdealCost};
 use crate::error::Result;
-use crate::model::{StepwiseModel, StepwiseParams, Model};
+use crate::model::{Model, StepwiseModel, StepwiseParams};
 use crate::preset::codec::Codec;
 use crate::preset::spec::{ParamSpec, Values};
 
