@@ -18,10 +18,8 @@
 //! `typical_allowance`) checks the measured overhead is in line with the
 //! expected rounding loss; the figures are printed (run with `--nocapture`).
 
-mod common;
-
-use common::lgamma::{ln_gamma, log2_factorial};
-use common::{encode_all, entropy_bits, SplitMix64, TableSampler};
+use crate::support::lgamma::{ln_gamma, log2_factorial};
+use crate::support::{encode_all, entropy_bits, Draws, SplitMix64, TableSampler};
 use subrange::coder::{encode_refresh_lanes, Encoder};
 use subrange::model::{
     AdaptiveModel, AdaptiveParams, Model, RefreshModel, RefreshParams, TableModel,

@@ -2,9 +2,7 @@
 //! typed error or wrong symbols — within the number of symbols the caller
 //! asks for — and never a panic or a hang (every call decodes one symbol).
 
-mod common;
-
-use common::strategies::{adaptive_model, alphabet, table_from_counts};
+use crate::support::strategies::{adaptive_model, alphabet, table_from_counts};
 use proptest::prelude::*;
 use subrange::coder::{Decoder, Encoder, SliceSource};
 use subrange::model::{AdaptiveModel, Model, Span, TableModel};
@@ -265,7 +263,7 @@ fn impossible_start_is_corrupt() {
 fn truncated_long_stream_reports_offset() {
     let symbols: Vec<u32> = (0..5000u32).map(|i| (i * 7919) % 256).collect();
     let mut model = AdaptiveModel::new(256).unwrap();
-    let bytes = common::encode_all(&mut model.clone(), &symbols);
+    let bytes = crate::support::encode_all(&mut model.clone(), &symbols);
     let cut = bytes.len() / 2;
     let mut dec = Decoder::new(&bytes[..cut]).unwrap();
     let err = (0..symbols.len())

@@ -2,11 +2,9 @@
 //! totals of exactly 2^16, long carry chains, and the `std::io` sink and
 //! source against the `Vec` / slice path.
 
-mod common;
-
-use common::nat::Nat;
-use common::reference::FastReference;
-use common::{decode_all, encode_all, longest_run, SplitMix64};
+use crate::support::nat::Nat;
+use crate::support::reference::FastReference;
+use crate::support::{decode_all, encode_all, longest_run, Draws, SplitMix64};
 use std::io::{self, Read, Write};
 use subrange::coder::{Decoder, Encoder, IoSink, IoSource};
 use subrange::model::{AdaptiveModel, AdaptiveParams, Model, Span, TableModel};

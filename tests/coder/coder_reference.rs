@@ -2,7 +2,7 @@
 //!
 //! The reference models the fast encoder's documented arithmetic with an
 //! unbounded `low` (no carries, no byte pipeline, no flush; see
-//! `common::reference`). After every step the real encoder is cloned and
+//! `support::reference`). After every step the real encoder is cloned and
 //! finished, and the bytes it writes, read as a base-256 fraction, must lie
 //! in the reference interval; their count must be the reference's number of
 //! shifted bytes plus the fewest extra bytes that pin the interval. A fast
@@ -13,10 +13,10 @@
 //! reference's interval must stay within the derived neighbourhood of the
 //! ideal exact-rational interval.
 
-mod common;
-
-use common::nat::Nat;
-use common::reference::{reference_decode, FastReference, IdealReference, RefStep, Tracked};
+use crate::support::nat::Nat;
+use crate::support::reference::{
+    reference_decode, FastReference, IdealReference, RefStep, Tracked,
+};
 use proptest::prelude::*;
 use subrange::coder::{Decoder, Encoder};
 use subrange::model::{AdaptiveModel, AdaptiveParams, Model, Span, TableModel};

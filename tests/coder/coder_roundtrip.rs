@@ -2,12 +2,10 @@
 //! stream exactly (`Decoder::finish` succeeds), and encoding is
 //! deterministic (the same input gives the same bytes).
 
-mod common;
-
-use common::strategies::{
+use crate::support::strategies::{
     adaptive_model, alphabet, power_of_two_frequencies, refresh_model, table_from_counts,
 };
-use common::{decode_all, encode_all, SplitMix64};
+use crate::support::{decode_all, encode_all, Draws, SplitMix64};
 use proptest::prelude::*;
 use subrange::coder::{
     decode_interleaved, decode_refresh_lanes, encode_interleaved, encode_refresh_lanes, Decoder,

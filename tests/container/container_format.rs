@@ -7,6 +7,10 @@
 use subrange::preset::Preset;
 use subrange::{compress, Options};
 
+// Bitwise CRC-32 of section 1 (reflected polynomial 0xEDB88320, initial
+// value and final XOR 0xFFFFFFFF).
+use crate::support::crc32;
+
 type R<T> = Result<T, String>;
 
 struct Bytes<'a> {
@@ -52,23 +56,6 @@ impl<'a> Bytes<'a> {
         self.pos += n;
         Ok(s)
     }
-}
-
-/// Bitwise CRC-32 (section 1): reflected polynomial 0xEDB88320, initial
-/// value and final XOR 0xFFFFFFFF.
-fn crc32(data: &[u8]) -> u32 {
-    let mut c = 0xFFFF_FFFFu32;
-    for &b in data {
-        c ^= u32::from(b);
-        for _ in 0..8 {
-            c = if c & 1 == 1 {
-                (c >> 1) ^ 0xEDB8_8320
-            } else {
-                c >> 1
-            };
-        }
-    }
-    !c
 }
 
 fn frame_check(index: u64, frame: &[u8]) -> u32 {

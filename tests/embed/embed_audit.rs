@@ -374,7 +374,7 @@ fn the_first_factory_call_encodes_and_the_second_decodes() {
 fn public_preset_docs_name_no_private_items() {
     // The module's own documentation (`//!` lines) is public; steps for
     // contributors, which name private functions, live in DEVELOPERS.md.
-    let source = include_str!("../src/preset/mod.rs");
+    let source = include_str!("../../src/preset/mod.rs");
     let docs: String = source
         .lines()
         .filter_map(|l| l.trim_start().strip_prefix("//!"))

@@ -1,10 +1,7 @@
 //! Probabilities from outside: coding cost against the ideal, errors,
 //! determinism and the frequency-table invariants.
 
-#[path = "embed_support/gauge_frames.rs"]
-mod gauge_frames;
-
-use gauge_frames::SplitMix64;
+use crate::support::{Draws, SplitMix64};
 use proptest::prelude::*;
 use subrange::coder::{Decoder, Encoder};
 use subrange::model::{quantize_probabilities, Model, ProbabilityAdapter};

@@ -1,7 +1,7 @@
 //! The coder, the models and primed messages build without `std`.
 //!
 //! Building the crate again takes a while, so the check is ignored by
-//! default: `cargo test --test embed_no_std -- --ignored`.
+//! default: `cargo test --test embed -- --ignored`.
 
 use std::process::Command;
 

@@ -1,13 +1,8 @@
 //! Primed messages: framing, snapshot mismatches, damage, and the size of
 //! small gauge frames against a cold model and deflate.
 
-#[path = "embed_support/frame_codecs.rs"]
-mod frame_codecs;
-#[path = "embed_support/gauge_frames.rs"]
-mod gauge_frames;
-
-use frame_codecs::{measure, primed_snapshot, training_sample};
-use gauge_frames::{GaugeNetwork, Layout};
+use crate::support::frame_codecs::{measure, primed_snapshot, training_sample};
+use crate::support::gauge_frames::{GaugeNetwork, Layout};
 use subrange::model::{AdaptiveModel, Snapshot};
 use subrange::prime::{decode_message, encode_message, frame_snapshot_id, Primer, ID_LEN};
 use subrange::ErrorKind;

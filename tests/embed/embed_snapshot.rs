@@ -1,34 +1,19 @@
 //! Model snapshots: layout, checksum, exact restoration and validation.
 
 use proptest::prelude::*;
+
+use crate::support::crc32;
 use subrange::coder::Encoder;
 use subrange::model::snapshot::{write_varint, MAGIC, MAX_STATE_LEN, VERSION};
 use subrange::model::{AdaptiveModel, AdaptiveParams, Model, Snapshot, SnapshotState, TableModel};
 use subrange::ErrorKind;
-
-/// Bitwise CRC-32 (reflected polynomial 0xEDB88320, initial and final value
-/// 0xFFFFFFFF), the IEEE 802.3 checksum, as an independent reference.
-fn crc32_reference(data: &[u8]) -> u32 {
-    let mut crc = 0xFFFF_FFFFu32;
-    for &b in data {
-        crc ^= u32::from(b);
-        for _ in 0..8 {
-            crc = if crc & 1 == 1 {
-                (crc >> 1) ^ 0xEDB8_8320
-            } else {
-                crc >> 1
-            };
-        }
-    }
-    !crc
-}
 
 #[test]
 fn reference_crc_matches_the_standard_check_value() {
     // CRC-32 check value for "123456789" is 0xCBF43926 (Williams, "A painless
     // guide to CRC error detection algorithms", 1993, CRC-32 parameter set;
     // from memory).
-    assert_eq!(crc32_reference(b"123456789"), 0xCBF4_3926);
+    assert_eq!(crc32(b"123456789"), 0xCBF4_3926);
 }
 
 fn trained(alphabet: u32, seed: u32) -> AdaptiveModel {
@@ -57,8 +42,8 @@ fn layout_and_checksum() {
     assert_eq!(len, b.len() - 16);
     assert_eq!(snap.state().len(), len);
     let body = &b[..b.len() - 4];
-    assert_eq!(snap.id(), crc32_reference(body));
-    assert_eq!(&b[b.len() - 4..], &crc32_reference(body).to_le_bytes());
+    assert_eq!(snap.id(), crc32(body));
+    assert_eq!(&b[b.len() - 4..], &crc32(body).to_le_bytes());
 }
 
 #[test]
@@ -115,7 +100,7 @@ fn reason(bytes: &[u8]) -> &'static str {
 /// Re-seals a modified snapshot with a correct checksum.
 fn reseal(mut bytes: Vec<u8>) -> Vec<u8> {
     let n = bytes.len() - 4;
-    let crc = crc32_reference(&bytes[..n]);
+    let crc = crc32(&bytes[..n]);
     bytes[n..].copy_from_slice(&crc.to_le_bytes());
     bytes
 }

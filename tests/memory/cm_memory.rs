@@ -3,22 +3,13 @@
 //! allocator records the peak of live heap bytes while each block is decoded,
 //! and it must lie between `memory_needed_for(len)` (every table is live at
 //! once) and that plus the output and a few small buffers.
-#![cfg(feature = "std")]
 
-use std::sync::Mutex;
-
+use subrange::corpus::gauge_csv;
 use subrange::model::cm::{
     decode_mix, decode_order2, encode_mix, encode_order2, MixParams, Order2Params,
 };
 
-#[path = "fuzz_support/alloc.rs"]
-mod alloc;
-
-#[global_allocator]
-static GLOBAL: alloc::Counting = alloc::Counting;
-
-/// Tests of this file run one at a time, so that peaks are their own.
-static SERIAL: Mutex<()> = Mutex::new(());
+use crate::serial;
 
 /// Bytes beside the tables and the output: the coder, the engines' small
 /// context state, and what the test harness itself allocates meanwhile
@@ -26,46 +17,22 @@ static SERIAL: Mutex<()> = Mutex::new(());
 /// test while the next one measures, a few KiB).
 const SLACK: u64 = 64 << 10;
 
+/// Runs `f` and returns its result with the peak of live heap bytes above
+/// the level at the start.
 fn peak_during<T>(f: impl FnOnce() -> T) -> (T, u64) {
-    let (r, peak) = alloc::peak_during(f);
+    let (r, peak) = crate::fuzz_support::alloc::peak_during(f);
     (r, peak as u64)
-}
-
-/// Synthetic river-gauge records (seeded): station, water level, flow and
-/// temperature, one line each.
-fn gauge_lines(len: usize) -> Vec<u8> {
-    let mut state = 0x2024_0611u32;
-    let mut out = Vec::with_capacity(len + 64);
-    let mut level = 1800i32;
-    while out.len() < len {
-        // Numerical Recipes constants (common practice).
-        state = state.wrapping_mul(1_664_525).wrapping_add(1_013_904_223);
-        level += (state >> 28) as i32 - 7;
-        let station = 3 + (state >> 20) % 4;
-        let line = format!(
-            "gauge {station},level {}.{:03} m,flow {}.{} m3/s,temp {}.{} C\n",
-            level / 1000,
-            level.rem_euclid(1000),
-            2 + (state >> 12) % 3,
-            (state >> 8) % 10,
-            11 + (state >> 4) % 3,
-            state % 10
-        );
-        out.extend_from_slice(line.as_bytes());
-    }
-    out.truncate(len);
-    out
 }
 
 #[test]
 fn order2_allocates_what_it_declares() {
-    let _guard = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    let _serial = serial();
     for order1 in [true, false] {
         let mut p = Order2Params::default();
         p.order1 = order1;
         let mut last = 0;
         for len in [0, 1, 16, 300, 5000, 70_000] {
-            let data = gauge_lines(len);
+            let data = gauge_csv(0x2024_0611, len);
             let coded = encode_order2(&data, &p).unwrap();
             let (back, peak) = peak_during(|| decode_order2(&coded, len, &p).unwrap());
             assert_eq!(back, data);
@@ -89,12 +56,12 @@ fn order2_allocates_what_it_declares() {
 
 #[test]
 fn mix_allocates_what_it_declares() {
-    let _guard = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    let _serial = serial();
     let mut p = MixParams::default();
     p.mem_log2 = 2;
     let mut last = 0;
     for len in [0, 1, 16, 300, 3000, 9000] {
-        let data = gauge_lines(len);
+        let data = gauge_csv(0x2024_0611, len);
         let coded = encode_mix(&data, &p).unwrap();
         let (back, peak) = peak_during(|| decode_mix(&coded, len, &p).unwrap());
         assert_eq!(back, data);

@@ -4,52 +4,14 @@
 //!
 //! The containers are built by hand from the layout in `docs/FORMAT.md`
 //! (vints, CRC-32 fields), which also checks the document against the code.
-#![cfg(feature = "std")]
 
-use std::alloc::{GlobalAlloc, Layout, System};
 use std::io::Read;
-use std::sync::atomic::{AtomicUsize, Ordering};
-use std::sync::Mutex;
 
 use subrange::format::DecodeLimits;
 use subrange::{decompress, decompress_with_limits, Decompressor, ErrorKind};
 
-struct Counting;
-
-static LIVE: AtomicUsize = AtomicUsize::new(0);
-static PEAK: AtomicUsize = AtomicUsize::new(0);
-
-unsafe impl GlobalAlloc for Counting {
-    unsafe fn alloc(&self, layout: Layout) -> *mut u8 {
-        // SAFETY: forwarded unchanged to the system allocator.
-        let p = unsafe { System.alloc(layout) };
-        if !p.is_null() {
-            let now = LIVE.fetch_add(layout.size(), Ordering::SeqCst) + layout.size();
-            PEAK.fetch_max(now, Ordering::SeqCst);
-        }
-        p
-    }
-    unsafe fn dealloc(&self, ptr: *mut u8, layout: Layout) {
-        // SAFETY: forwarded unchanged to the system allocator.
-        unsafe { System.dealloc(ptr, layout) };
-        LIVE.fetch_sub(layout.size(), Ordering::SeqCst);
-    }
-}
-
-#[global_allocator]
-static GLOBAL: Counting = Counting;
-
-/// Tests of this file run one at a time, so that peaks are their own.
-static SERIAL: Mutex<()> = Mutex::new(());
-
-/// Runs `f` and returns the peak of live heap bytes above the level at the
-/// start.
-fn peak_during(f: impl FnOnce()) -> usize {
-    let base = LIVE.load(Ordering::SeqCst);
-    PEAK.store(base, Ordering::SeqCst);
-    f();
-    PEAK.load(Ordering::SeqCst) - base
-}
+use crate::fuzz_support::alloc::peak_during;
+use crate::serial;
 
 fn vint(out: &mut Vec<u8>, mut v: u64) {
     while v >= 0x80 {
@@ -90,11 +52,11 @@ fn coded_block(index: u64, raw_len: u64, raw_crc: u32, payload: &[u8], declared:
 
 fn limit_error(bytes: &[u8]) -> ErrorKind {
     let mut err = None;
-    let peak = peak_during(|| {
+    let ((), peak) = peak_during(|| {
         err = Some(decompress(bytes).unwrap_err().into_kind());
     });
     assert!(peak < 64 << 10, "one-shot peak {peak} bytes");
-    let peak = peak_during(|| {
+    let ((), peak) = peak_during(|| {
         let mut d = Decompressor::new(bytes);
         let mut out = Vec::new();
         assert!(d.read_to_end(&mut out).is_err());
@@ -105,7 +67,7 @@ fn limit_error(bytes: &[u8]) -> ErrorKind {
 
 #[test]
 fn hostile_declarations_fail_fast_without_large_allocations() {
-    let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    let _serial = serial();
     // A block size of 2^60 bytes.
     let kind = limit_error(&header(1, 1 << 60, &[4, 12]));
     assert!(
@@ -160,12 +122,13 @@ fn hostile_declarations_fail_fast_without_large_allocations() {
 
 #[test]
 fn memory_limit_is_checked_before_allocating() {
-    let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    let _serial = serial();
     let mut limits = DecodeLimits::new();
     limits.max_memory(1 << 20);
     let bytes = header(2, 16 << 20, &[24, 65_536]);
     let mut err = None;
-    let peak = peak_during(|| err = Some(decompress_with_limits(&bytes, &limits).unwrap_err()));
+    let ((), peak) =
+        peak_during(|| err = Some(decompress_with_limits(&bytes, &limits).unwrap_err()));
     assert!(peak < 64 << 10, "peak {peak}");
     assert!(matches!(
         err.unwrap().kind(),
@@ -178,13 +141,13 @@ fn memory_limit_is_checked_before_allocating() {
 
 #[test]
 fn truncated_large_block_does_not_reserve_its_declared_size() {
-    let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    let _serial = serial();
     // A 64 MiB block whose 60 MiB payload is cut off after 10 bytes.
     let mut c = header(2, 64 << 20, &[24, 65_536]);
     let mut f = coded_block(0, 64 << 20, 0, &[0; 10], 60 << 20);
     // The payload CRC in the frame is of the 10 bytes; the read stops first.
     c.append(&mut f);
-    let peak = peak_during(|| {
+    let ((), peak) = peak_during(|| {
         let mut d = Decompressor::new(&c[..]);
         let e = d.read_to_end(&mut Vec::new()).unwrap_err();
         assert_eq!(e.kind(), std::io::ErrorKind::UnexpectedEof);
@@ -205,11 +168,12 @@ fn compressor_peak(opts: &subrange::Options, blocks: u64) -> usize {
         }
         c.finish().unwrap();
     })
+    .1
 }
 
 #[test]
 fn compressor_output_starts_once_the_blocks_in_flight_are_full() {
-    let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    let _serial = serial();
     let block = 64 << 10;
     let data = subrange::corpus::gauge_csv(3, 40 * block);
     for (threads, in_flight) in [(1, 0), (2, 0), (0, 0), (2, 3), (1, 4)] {
@@ -235,7 +199,7 @@ fn compressor_output_starts_once_the_blocks_in_flight_are_full() {
 
 #[test]
 fn compressor_memory_follows_the_blocks_in_flight_within_its_bound() {
-    let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    let _serial = serial();
     let block: u64 = 128 << 10;
     for (name, threads) in [("static", 1), ("adaptive", 2), ("order2", 2), ("mix", 1)] {
         let mut peaks = Vec::new();
@@ -267,7 +231,7 @@ fn compressor_memory_follows_the_blocks_in_flight_within_its_bound() {
 
 #[test]
 fn compress_reader_memory_stays_within_the_bound_while_it_overlaps_io() {
-    let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    let _serial = serial();
     let block: u64 = 128 << 10;
     let data = subrange::corpus::gauge_csv(9, 10 * block as usize);
     for (name, threads, in_flight) in [
@@ -283,9 +247,10 @@ fn compress_reader_memory_stays_within_the_bound_while_it_overlaps_io() {
             .blocks_in_flight(in_flight);
         opts.block_size(block).unwrap();
         let mut out = Vec::with_capacity(data.len() + 4096);
-        let peak = peak_during(|| {
+        let ((), peak) = peak_during(|| {
             subrange::compress_reader(&data[..], &mut out, &opts).unwrap();
-        }) as u64;
+        });
+        let peak = peak as u64;
         let bound = opts.memory_bound();
         assert!(
             peak <= bound,

@@ -4,27 +4,16 @@
 //!
 //! Adding a case is dropping a file: minimise the fuzzer's artifact, copy it
 //! to `tests/data/fuzz/<target>/<name>`, and add a line for it to
-//! `tests/data/fuzz/NOTES` saying what was wrong (see `DEVELOPERS.md`,
-//! "Fuzzing"). A second test runs the same checks on containers made here,
+//! `tests/data/fuzz/NOTES` saying what was wrong (see `fuzz/README.md`,
+//! "Regressions"). A second test runs the same checks on containers made here,
 //! whole and damaged, so the checks are exercised even while no input is
 //! kept.
-#![cfg(feature = "std")]
-
-mod fuzz_support;
 
 use std::fs;
 use std::path::{Path, PathBuf};
-use std::sync::Mutex;
 
-use fuzz_support::alloc::Counting;
-use fuzz_support::TARGETS;
-
-#[global_allocator]
-static ALLOC: Counting = Counting;
-
-/// The memory checks measure the whole process's heap: the tests of this
-/// binary run one at a time.
-static SERIAL: Mutex<()> = Mutex::new(());
+use crate::fuzz_support::{self, TARGETS};
+use crate::serial;
 
 fn data_dir() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/fuzz")
@@ -45,7 +34,7 @@ fn files(dir: &Path) -> Vec<PathBuf> {
 
 #[test]
 fn every_kept_input_passes_its_target_checks() {
-    let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    let _serial = serial();
     let root = data_dir();
     let mut dirs: Vec<String> = fs::read_dir(&root)
         .expect("tests/data/fuzz exists (it holds a README)")
@@ -83,7 +72,7 @@ fn every_kept_input_passes_its_target_checks() {
 fn checks_hold_on_real_and_damaged_containers() {
     use subrange::preset::Preset;
     use subrange::{compress, Options};
-    let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    let _serial = serial();
     let data = subrange::corpus::gauge_csv(5, 3000);
     for preset in Preset::all() {
         for block_size in [16u64, 700, 4096] {
@@ -117,7 +106,7 @@ fn index_checks_hold_on_real_and_damaged_containers() {
     use subrange::format::IndexPolicy;
     use subrange::preset::Preset;
     use subrange::{compress, Options};
-    let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    let _serial = serial();
     let data = subrange::corpus::gauge_csv(6, 5000);
     for (preset, policy) in [
         ("static", IndexPolicy::Auto),
@@ -153,7 +142,7 @@ fn index_checks_hold_on_real_and_damaged_containers() {
 fn frame_checks_hold_on_real_and_damaged_snapshots() {
     use subrange::model::{ContextModel, ContextParams, Snapshot};
     use subrange::prime::encode_message;
-    let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    let _serial = serial();
     let text = subrange::corpus::gauge_csv(9, 2000);
     let mut model = ContextModel::new(ContextParams::default()).unwrap();
     model.train(&text[..1500]);
@@ -205,7 +194,7 @@ fn growing_payloads(preset: subrange::preset::Preset) -> Vec<u8> {
 /// decoding of 1 MiB blocks peaked at 3.5 MB against an estimate of 2.1 MB.
 #[test]
 fn memory_stays_within_the_estimate_as_payloads_grow() {
-    let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    let _serial = serial();
     for preset in subrange::preset::Preset::all() {
         let packed = growing_payloads(preset);
         let need = preset.memory_needed(256 << 10);
@@ -225,7 +214,7 @@ fn memory_stays_within_the_estimate_as_payloads_grow() {
 #[test]
 fn history_checks_hold_on_real_and_damaged_payloads() {
     use subrange::model::cm::{encode_history, HistoryParams};
-    let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
+    let _serial = serial();
     let text = subrange::corpus::gauge_csv(12, 900);
     let mut p = HistoryParams::default();
     p.mem_log2 = 0;

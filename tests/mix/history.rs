@@ -2,9 +2,7 @@
 //! output, the entropy bound on a memoryless source, the x86 transform and
 //! damaged input.
 
-mod common;
-
-use common::{entropy_bits, gen, SplitMix64, TableSampler};
+use crate::support::{entropy_bits, gen, SplitMix64, TableSampler};
 use proptest::prelude::*;
 use subrange::model::cm::{
     decode_history, encode_history, ideal_cost_history, HistoryParams, MixParams,
@@ -80,9 +78,9 @@ proptest! {
 
 #[test]
 fn cuts_of_text_records_and_code_round_trip() {
-    let mut mixed = gen::telemetry(20_000, 5);
+    let mut mixed = gen::telemetry(5, 20_000);
     mixed.extend(code(20_000, 6));
-    mixed.extend(gen::text(20_000, 7));
+    mixed.extend(gen::text(7, 20_000));
     let p = HistoryParams::default();
     for len in [1, 2, 7, 100, 4096, 30_000, mixed.len()] {
         round_trip(&mixed[..len], &p);
@@ -105,7 +103,7 @@ fn cuts_of_text_records_and_code_round_trip() {
 
 #[test]
 fn containers_are_the_same_for_any_thread_count() {
-    let mut data = gen::text(150_000, 11);
+    let mut data = gen::text(11, 150_000);
     data.extend(code(100_000, 12));
     let mut first = None;
     for threads in [1, 2] {
@@ -167,7 +165,7 @@ fn memoryless_source_costs_its_entropy() {
 
 #[test]
 fn coder_overhead_is_tiny() {
-    let data = gen::telemetry(200_000, 31);
+    let data = gen::telemetry(31, 200_000);
     let p = HistoryParams::default();
     let ideal = ideal_cost_history(&data, &p).unwrap().bits() / 8.0;
     let coded = encode_history(&data, &p).unwrap().len() as f64;
@@ -180,7 +178,7 @@ fn coder_overhead_is_tiny() {
 
 #[test]
 fn damaged_payloads_are_typed_errors() {
-    let data = gen::text(20_000, 41);
+    let data = gen::text(41, 20_000);
     let p = small();
     let coded = encode_history(&data, &p).unwrap();
     let mut out = vec![0; data.len()];
@@ -209,10 +207,10 @@ fn damaged_payloads_are_typed_errors() {
 /// Inputs of the pinned streams.
 fn pinned_inputs() -> Vec<Vec<u8>> {
     vec![
-        gen::text(24_000, 1),
-        gen::telemetry(24_000, 2),
+        gen::text(1, 24_000),
+        gen::telemetry(2, 24_000),
         code(24_000, 3),
-        gen::telemetry(300, 4),
+        gen::telemetry(4, 300),
     ]
 }
 

@@ -1,33 +1,12 @@
 //! Bit predictors against information-theoretic references.
 
-mod common;
-
-use common::gen::Rng;
+use crate::support::binary_entropy as h;
+use crate::support::lgamma::ln_gamma;
+use crate::support::SplitMix64;
 use subrange::coder::{Decoder, Encoder};
 use subrange::model::{
     decode_with, encode_with, BitPredictor, CountingPredictor, KtPredictor, ShiftPredictor,
 };
-
-/// Binary entropy in bits (Cover & Thomas, "Elements of Information Theory",
-/// eq. 2.5; common practice).
-fn h(p: f64) -> f64 {
-    -(p * p.log2() + (1.0 - p) * (1.0 - p).log2())
-}
-
-/// `ln Γ(x)` for `x > 0`: shift up to `x >= 10` with `Γ(x+1) = x·Γ(x)`, then
-/// Stirling's series to the `x^-7` term (common practice; error far below
-/// 1e-10 there).
-fn ln_gamma(mut x: f64) -> f64 {
-    let mut shift = 0.0;
-    while x < 10.0 {
-        shift -= x.ln();
-        x += 1.0;
-    }
-    let inv = 1.0 / x;
-    let inv2 = inv * inv;
-    let series = inv * (1.0 / 12.0 - inv2 * (1.0 / 360.0 - inv2 * (1.0 / 1260.0 - inv2 / 1680.0)));
-    shift + (x - 0.5) * x.ln() - x + 0.5 * (2.0 * std::f64::consts::PI).ln() + series
-}
 
 /// Krichevsky–Trofimov sequential code length of a binary sequence with `n0`
 /// zeros and `n1` ones: `-log2[Γ(n0+½)·Γ(n1+½) / (π·Γ(n+1))]` (Krichevsky &
@@ -53,7 +32,7 @@ fn ln_gamma_matches_known_values() {
 }
 
 fn memoryless(n: usize, p1: f64, seed: u64) -> Vec<bool> {
-    let mut rng = Rng::new(seed);
+    let mut rng = SplitMix64::new(seed);
     let threshold = (p1 * (1u64 << 32) as f64) as u64;
     (0..n).map(|_| rng.next_u64() >> 32 < threshold).collect()
 }

@@ -1,10 +1,8 @@
 //! Compression of the engines against flate2 level 9 and against entropy.
 
-mod common;
-
 use std::io::Write;
 
-use common::gen;
+use crate::support::gen;
 use subrange::model::cm::{
     decode_mix, decode_order2, encode_mix, encode_order2, MixParams, Order2Params,
 };
@@ -23,7 +21,7 @@ fn mix_ratio(data: &[u8]) -> f64 {
 }
 
 /// The committed open-data sample (see tests/data/README.md).
-const WORDS: &[u8] = include_bytes!("data/words-sample.txt");
+const WORDS: &[u8] = include_bytes!("../data/words-sample.txt");
 
 #[test]
 fn mix_beats_deflate_on_the_word_list_sample() {
@@ -33,15 +31,15 @@ fn mix_beats_deflate_on_the_word_list_sample() {
 
 #[test]
 fn mix_beats_deflate_on_text_and_telemetry() {
-    let r = mix_ratio(&gen::text(200_000, 31));
+    let r = mix_ratio(&gen::text(31, 200_000));
     assert!(r <= 0.80, "mix / deflate-9 = {r:.3} on text");
-    let r = mix_ratio(&gen::telemetry(200_000, 32));
+    let r = mix_ratio(&gen::telemetry(32, 200_000));
     assert!(r <= 0.80, "mix / deflate-9 = {r:.3} on telemetry");
 }
 
 #[test]
 fn mix_stays_near_eight_bits_a_byte_on_random_data() {
-    let data = gen::random(200_000, 33);
+    let data = gen::random(33, 200_000);
     let p = MixParams::default();
     let coded = encode_mix(&data, &p).unwrap();
     assert!(
@@ -58,7 +56,7 @@ fn order2_is_close_to_the_order2_conditional_entropy() {
     // Text-like input of 1 MiB: within 5 % of its empirical order-2
     // conditional entropy (which an adaptive model can only approach, as it
     // pays to learn each context).
-    let data = gen::text(1 << 20, 34);
+    let data = gen::text(34, 1 << 20);
     let p = Order2Params::default();
     let coded = encode_order2(&data, &p).unwrap();
     assert_eq!(decode_order2(&coded, data.len(), &p).unwrap(), data);

@@ -1,8 +1,6 @@
 //! Damaged and arbitrary input into the engines' decoders.
 
-mod common;
-
-use common::gen;
+use crate::support::gen;
 use proptest::prelude::*;
 use subrange::model::cm::{
     decode_mix, decode_order2, encode_mix, encode_order2, MixParams, Order2Params,
@@ -31,7 +29,7 @@ proptest! {
 
 #[test]
 fn truncated_and_extended_streams_are_errors() {
-    let data = gen::text(5000, 21);
+    let data = gen::text(21, 5000);
     let p2 = Order2Params::default();
     let pm = small_mix();
     let a = encode_order2(&data, &p2).unwrap();
@@ -58,7 +56,7 @@ fn truncated_and_extended_streams_are_errors() {
 
 #[test]
 fn flipped_bits_never_panic() {
-    let data = gen::telemetry(4000, 22);
+    let data = gen::telemetry(22, 4000);
     let p2 = Order2Params::default();
     let pm = small_mix();
     let a = encode_order2(&data, &p2).unwrap();

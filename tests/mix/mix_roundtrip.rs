@@ -1,8 +1,6 @@
 //! Round trips, determinism and parameter handling of the two engines.
 
-mod common;
-
-use common::gen;
+use crate::support::gen;
 use proptest::prelude::*;
 use subrange::model::cm::{
     check_memory, decode_mix, decode_order2, encode_mix, encode_order2, MixParams, Order2Params,
@@ -51,9 +49,9 @@ proptest! {
 #[test]
 fn synthetic_round_trips_and_determinism() {
     let inputs = [
-        gen::text(60_000, 11),
-        gen::telemetry(60_000, 12),
-        gen::random(20_000, 13),
+        gen::text(11, 60_000),
+        gen::telemetry(12, 60_000),
+        gen::random(13, 20_000),
         vec![0u8; 30_000],
         (0..40_000u32).map(|i| (i % 251) as u8).collect(),
     ];
@@ -75,7 +73,7 @@ fn synthetic_round_trips_and_determinism() {
 
 #[test]
 fn default_mix_round_trips() {
-    let data = gen::text(100_000, 14);
+    let data = gen::text(14, 100_000);
     let p = MixParams::default();
     let coded = encode_mix(&data, &p).unwrap();
     assert_eq!(decode_mix(&coded, data.len(), &p).unwrap(), data);
@@ -83,7 +81,7 @@ fn default_mix_round_trips() {
 
 #[test]
 fn wrong_parameters_do_not_decode_silently_or_panic() {
-    let data = gen::telemetry(20_000, 15);
+    let data = gen::telemetry(15, 20_000);
     let p = small_mix();
     let coded = encode_mix(&data, &p).unwrap();
     let mut q = p;

@@ -6,22 +6,20 @@
 //! The lane pins hold on every path the CPU offers (vector kernels or
 //! scalar steps: the tests of the kernels compare them with each other).
 
-mod common;
-
-use common::gen;
+use crate::support::gen;
 use subrange::model::cm::{
     decode_mix, decode_order2, encode_mix, encode_order2, MixParams, Order2Params,
 };
 
 /// The inputs: seeded text and telemetry, a short record and a binary mix.
 fn inputs() -> Vec<(&'static str, Vec<u8>)> {
-    let mut binary = gen::telemetry(6000, 5);
-    binary.extend(gen::random(3000, 6));
-    binary.extend(gen::text(6000, 7));
+    let mut binary = gen::telemetry(5, 6000);
+    binary.extend(gen::random(6, 3000));
+    binary.extend(gen::text(7, 6000));
     vec![
-        ("text", gen::text(24_000, 1)),
-        ("telemetry", gen::telemetry(24_000, 2)),
-        ("short", gen::telemetry(300, 3)),
+        ("text", gen::text(1, 24_000)),
+        ("telemetry", gen::telemetry(2, 24_000)),
+        ("short", gen::telemetry(3, 300)),
         ("binary", binary),
     ]
 }

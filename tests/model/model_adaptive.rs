@@ -3,9 +3,7 @@
 //! non-zero frequencies where the mode promises them) and its parameter
 //! checks.
 
-mod common;
-
-use common::strategies::{adaptive_model, alphabet};
+use crate::support::strategies::{adaptive_model, alphabet};
 use proptest::prelude::*;
 use subrange::model::{AdaptiveModel, AdaptiveParams, Model, Span, ESCAPE};
 use subrange::ErrorKind;

@@ -2,9 +2,7 @@
 //! the quality of the result, in ideal code length, against a naive
 //! proportional rounding and — for tiny alphabets — the exhaustive optimum.
 
-mod common;
-
-use common::SplitMix64;
+use crate::support::SplitMix64;
 use proptest::prelude::*;
 use subrange::model::quantize_counts;
 use subrange::ErrorKind;

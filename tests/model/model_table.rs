@@ -2,9 +2,7 @@
 //! serialised form (round trip, and rejection of truncated or damaged
 //! tables with an error, never a panic).
 
-mod common;
-
-use common::strategies::{power_of_two_frequencies, table_from_counts};
+use crate::support::strategies::{power_of_two_frequencies, table_from_counts};
 use proptest::prelude::*;
 use subrange::model::{Model, Span, TableModel};
 use subrange::ErrorKind;

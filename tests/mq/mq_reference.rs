@@ -5,8 +5,6 @@
 //! bottom of the interval. The fast coder in `subrange::mq` must agree with
 //! it bit for bit.
 
-#![allow(dead_code)]
-
 use subrange::mq::PROBABILITY_STATES;
 
 /// Per-context `I(CX)` and `MPS(CX)`.

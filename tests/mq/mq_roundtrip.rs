@@ -1,29 +1,10 @@
 //! Round trips through the MQ coder, agreement with a flowchart-literal
 //! reference coder, and coding efficiency on biased sources.
 
-mod mq_reference;
-
-use mq_reference::{respect_stuffing, RefContexts, RefDecoder, RefEncoder};
+use crate::mq_reference::{respect_stuffing, RefContexts, RefDecoder, RefEncoder};
+use crate::support::{binary_entropy as h, Draws, SplitMix64};
 use proptest::prelude::*;
 use subrange::mq::{MqContexts, MqDecoder, MqEncoder, Termination, STATE_COUNT};
-
-/// A seeded SplitMix64 generator (common practice), enough for test data.
-struct SplitMix(u64);
-
-impl SplitMix {
-    fn next(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-
-    /// A 1 with probability `ones / 2^16`.
-    fn bit(&mut self, ones: u32) -> bool {
-        ((self.next() >> 48) as u32) < ones
-    }
-}
 
 /// A coding job: initial context states and a sequence of (context, bit).
 #[derive(Clone, Debug)]
@@ -46,13 +27,13 @@ fn job() -> impl Strategy<Value = Job> {
             (starts, Just((count, seed, len, wavelet, fresh)))
         })
         .prop_map(|(starts, (count, seed, len, wavelet, fresh))| {
-            let mut rng = SplitMix(seed);
+            let mut rng = SplitMix64::new(seed);
             // Each context gets its own probability of a 1, from certain-0 to
             // certain-1, so that every part of the state machine is exercised.
-            let ones: Vec<u32> = (0..count).map(|_| (rng.next() >> 47) as u32).collect();
+            let ones: Vec<u32> = (0..count).map(|_| (rng.next_u64() >> 47) as u32).collect();
             let decisions = (0..len)
                 .map(|_| {
-                    let cx = (rng.next() % count as u64) as usize;
+                    let cx = (rng.next_u64() % count as u64) as usize;
                     (cx, rng.bit(ones[cx]))
                 })
                 .collect();
@@ -186,26 +167,16 @@ proptest! {
         len in 0usize..2000,
     ) {
         respect_stuffing(&mut data);
-        let mut rng = SplitMix(seed);
+        let mut rng = SplitMix64::new(seed);
         let mut contexts = MqContexts::new(count);
         let mut ref_contexts = RefContexts::new(count);
         let mut decoder = MqDecoder::new(&data);
         let mut reference = RefDecoder::new(&data);
         for i in 0..len {
-            let cx = (rng.next() % count as u64) as usize;
+            let cx = (rng.next_u64() % count as u64) as usize;
             let got = decoder.decode(&mut contexts, cx).unwrap();
             prop_assert_eq!(u8::from(got), reference.decode(&mut ref_contexts, cx), "decision {}", i);
         }
-    }
-}
-
-/// Binary entropy in bits (Cover & Thomas, eq. 2.5). Test-side only: the
-/// coder itself uses no floating point.
-fn h(p: f64) -> f64 {
-    if p <= 0.0 || p >= 1.0 {
-        0.0
-    } else {
-        -p * p.log2() - (1.0 - p) * (1.0 - p).log2()
     }
 }
 
@@ -213,13 +184,13 @@ fn h(p: f64) -> f64 {
 /// context each, interleaved at random) and returns (coded bits, ideal bits
 /// by the empirical entropy of each context).
 fn code_biased(ones: &[u32], n: usize, seed: u64) -> (f64, f64) {
-    let mut rng = SplitMix(seed);
+    let mut rng = SplitMix64::new(seed);
     let mut contexts = MqContexts::new(ones.len());
     let mut encoder = MqEncoder::new(Vec::new());
     let mut counts = vec![(0u64, 0u64); ones.len()];
     let mut decisions = Vec::with_capacity(n);
     for _ in 0..n {
-        let cx = (rng.next() % ones.len() as u64) as usize;
+        let cx = (rng.next_u64() % ones.len() as u64) as usize;
         let bit = rng.bit(ones[cx]);
         encoder.encode(&mut contexts, cx, bit).unwrap();
         counts[cx].0 += 1;

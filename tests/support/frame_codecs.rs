@@ -6,8 +6,6 @@
 //! includes its 4-byte snapshot id and length field, the cold frame its
 //! length field; deflate streams are self-terminating and need neither.
 
-#![allow(dead_code)]
-
 use flate2::{Compress, Compression, Decompress, FlushCompress, FlushDecompress};
 use subrange::coder::Encoder;
 use subrange::model::snapshot::write_varint;

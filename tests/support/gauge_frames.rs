@@ -11,37 +11,7 @@
 //! - text: `station time` on a first line, then `level flow temperature`
 //!   lines of six readings — about 100 bytes.
 
-#![allow(dead_code)]
-
-/// SplitMix64 (Steele, Lea and Flood, "Fast splittable pseudorandom number
-/// generators", OOPSLA 2014): a tiny seeded generator, enough for demo data.
-#[derive(Debug, Clone)]
-pub struct SplitMix64(u64);
-
-impl SplitMix64 {
-    pub fn new(seed: u64) -> Self {
-        SplitMix64(seed)
-    }
-
-    pub fn next_u64(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-
-    /// Uniform in `[0, 1)`.
-    pub fn unit(&mut self) -> f64 {
-        (self.next_u64() >> 11) as f64 / (1u64 << 53) as f64
-    }
-
-    /// Roughly normal (sum of four uniforms, centred, unit variance).
-    pub fn normal(&mut self) -> f64 {
-        let s: f64 = (0..4).map(|_| self.unit()).sum();
-        (s - 2.0) * 3f64.sqrt()
-    }
-}
+use super::{Draws, SplitMix64};
 
 /// One reading in integer units: level cm, flow 0.1 m³/s, temperature 0.1 °C.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]

@@ -1,13 +1,19 @@
-//! Helpers shared by the integration tests: seeded data generators ([`gen`],
-//! also used by the benches), a small seeded PRNG, samplers,
-//! whole-sequence encode/decode helpers, an unbounded natural-number type
-//! ([`nat`]), exact reference coders ([`reference`]) and a log-gamma
-//! ([`lgamma`]).
+//! Helpers shared by every test binary (each `tests/<layer>/main.rs`
+//! includes this module once): the crate's own seeded generator
+//! ([`SplitMix64`], from `subrange::corpus`) with the few draws the tests add
+//! ([`Draws`]), seeded data sets ([`gen`] for the pinned mix-engine inputs,
+//! [`gauge_frames`] for radio frames; everything else uses
+//! `subrange::corpus`), samplers and entropies, whole-sequence encode/decode
+//! helpers, an unbounded natural-number type ([`nat`]), exact reference
+//! coders ([`reference`]), a log-gamma ([`lgamma`]), proptest strategies
+//! ([`strategies`]) and the codecs the primed frames are compared with
+//! ([`frame_codecs`]).
 //!
-//! Every test binary compiles this module on its own and uses only part of
-//! it, hence the `dead_code` allowance.
-#![allow(dead_code)]
+//! Each binary uses only part of it; the `dead_code` allowance sits on the
+//! one `mod support;` line of each `main.rs`.
 
+pub mod frame_codecs;
+pub mod gauge_frames;
 pub mod gen;
 pub mod lgamma;
 pub mod nat;
@@ -17,38 +23,53 @@ pub mod strategies;
 use subrange::coder::{Decoder, Encoder};
 use subrange::model::Model;
 
-/// splitmix64: a 64-bit state advanced by the golden-ratio increment and
-/// finalised by two xor-shift-multiply rounds (Steele, Lea & Flood, "Fast
-/// splittable pseudorandom number generators", OOPSLA 2014; constants from
-/// memory). Small, seeded and identical on every platform.
-#[derive(Debug, Clone)]
-pub struct SplitMix64(u64);
+pub use subrange::corpus::SplitMix64;
 
-impl SplitMix64 {
-    pub fn new(seed: u64) -> Self {
-        SplitMix64(seed)
-    }
+/// Draws the tests take from a [`SplitMix64`] stream beside its own
+/// `next_u64` and `below`.
+pub trait Draws {
+    /// A value in `0 .. n` (`n >= 1`).
+    fn below_u32(&mut self, n: u32) -> u32;
+    /// A fair coin: the top bit of the next draw.
+    fn coin(&mut self) -> bool;
+    /// A 1 with probability `ones / 2^16` (the top 16 bits of the next draw).
+    fn bit(&mut self, ones: u32) -> bool;
+    /// A skewed index in `0 .. n`: small indices are common (three nested
+    /// uniform draws, a heavy-headed, roughly Zipf-like shape).
+    fn zipf(&mut self, n: u64) -> u64;
+    /// Uniform in `[0, 1)` (the top 53 bits of the next draw).
+    fn unit(&mut self) -> f64;
+    /// Roughly normal (sum of four uniforms, centred, unit variance).
+    fn normal(&mut self) -> f64;
+}
 
-    pub fn next_u64(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-
-    /// A value in `0 .. n` (`n >= 1`) by the multiply-high method.
-    pub fn below(&mut self, n: u64) -> u64 {
+impl Draws for SplitMix64 {
+    fn below_u32(&mut self, n: u32) -> u32 {
         assert!(n >= 1);
-        ((u128::from(self.next_u64()) * u128::from(n)) >> 64) as u64
-    }
-
-    pub fn below_u32(&mut self, n: u32) -> u32 {
         self.below(u64::from(n)) as u32
     }
 
-    pub fn coin(&mut self) -> bool {
+    fn coin(&mut self) -> bool {
         self.next_u64() >> 63 == 1
+    }
+
+    fn bit(&mut self, ones: u32) -> bool {
+        ((self.next_u64() >> 48) as u32) < ones
+    }
+
+    fn zipf(&mut self, n: u64) -> u64 {
+        let a = self.below(n) + 1;
+        let b = self.below(a) + 1;
+        self.below(b)
+    }
+
+    fn unit(&mut self) -> f64 {
+        (self.next_u64() >> 11) as f64 / (1u64 << 53) as f64
+    }
+
+    fn normal(&mut self) -> f64 {
+        let s: f64 = (0..4).map(|_| self.unit()).sum();
+        (s - 2.0) * 3f64.sqrt()
     }
 }
 
@@ -93,6 +114,35 @@ pub fn entropy_bits(freq: &[u32]) -> f64 {
             -p * p.log2()
         })
         .sum()
+}
+
+/// Binary entropy in bits of a source that gives a 1 with probability `p`
+/// (Cover & Thomas, "Elements of Information Theory", eq. 2.5; common
+/// practice); 0 at `p <= 0` and `p >= 1`.
+pub fn binary_entropy(p: f64) -> f64 {
+    if p <= 0.0 || p >= 1.0 {
+        0.0
+    } else {
+        -p * p.log2() - (1.0 - p) * (1.0 - p).log2()
+    }
+}
+
+/// Bitwise CRC-32 (reflected polynomial 0xEDB88320, initial value and final
+/// XOR 0xFFFFFFFF: the IEEE 802.3 checksum, common practice), written out
+/// bit by bit as a reference independent of the crate's `crc32fast`.
+pub fn crc32(data: &[u8]) -> u32 {
+    let mut crc = 0xFFFF_FFFFu32;
+    for &b in data {
+        crc ^= u32::from(b);
+        for _ in 0..8 {
+            crc = if crc & 1 == 1 {
+                (crc >> 1) ^ 0xEDB8_8320
+            } else {
+                crc >> 1
+            };
+        }
+    }
+    !crc
 }
 
 /// Encodes `symbols` with one model and finishes the stream.
