@@ -12,3 +12,13 @@ mod mix_compression;
 mod mix_hostile;
 mod mix_roundtrip;
 mod mix_stable;
+
+use subrange::model::cm::MixParams;
+
+/// The mix engine with the smallest tables (`mem_log2` 0): fast enough for
+/// many proptest cases.
+fn small_mix() -> MixParams {
+    let mut p = MixParams::default();
+    p.mem_log2 = 0;
+    p
+}

@@ -2,15 +2,9 @@
 
 use crate::support::gen;
 use proptest::prelude::*;
-use subrange::model::cm::{
-    decode_mix, decode_order2, encode_mix, encode_order2, MixParams, Order2Params,
-};
+use subrange::model::cm::{decode_mix, decode_order2, encode_mix, encode_order2, Order2Params};
 
-fn small_mix() -> MixParams {
-    let mut p = MixParams::default();
-    p.mem_log2 = 0;
-    p
-}
+use crate::small_mix;
 
 proptest! {
     #![proptest_config(ProptestConfig::with_cases(32))]

@@ -7,11 +7,7 @@ use subrange::model::cm::{
 };
 use subrange::ErrorKind;
 
-fn small_mix() -> MixParams {
-    let mut p = MixParams::default();
-    p.mem_log2 = 0;
-    p
-}
+use crate::small_mix;
 
 proptest! {
     #![proptest_config(ProptestConfig::with_cases(24))]
