@@ -14,8 +14,8 @@
 
 use flate2::{write::DeflateEncoder, Compression};
 use std::io::Write;
-use subrange::corpus::SplitMix64;
 use subrange::coder::{Decoder, Encoder};
+use subrange::corpus::SplitMix64;
 use subrange::model::{Model, Span, TableModel};
 
 /// Changes in `-LIMIT .. LIMIT` are coded directly as `change + LIMIT`;
