@@ -27,7 +27,7 @@ fn round_trip(data: &[u8], p: &HistoryParams) -> Vec<u8> {
 }
 
 /// x86-like code: calls to a few targets among filler instructions.
-fn code(len: usize, seed: u64) -> Vec<u8> {
+fn code(seed: u64, len: usize) -> Vec<u8> {
     let mut rng = SplitMix64::new(seed);
     let mut out = Vec::with_capacity(len + 8);
     while out.len() < len {
@@ -79,13 +79,13 @@ proptest! {
 #[test]
 fn cuts_of_text_records_and_code_round_trip() {
     let mut mixed = gen::telemetry(5, 20_000);
-    mixed.extend(code(20_000, 6));
+    mixed.extend(code(6, 20_000));
     mixed.extend(gen::text(7, 20_000));
     let p = HistoryParams::default();
     for len in [1, 2, 7, 100, 4096, 30_000, mixed.len()] {
         round_trip(&mixed[..len], &p);
     }
-    let c = code(60_000, 8);
+    let c = code(8, 60_000);
     assert!(x86::looks_like_x86(&c));
     let coded = round_trip(&c, &p);
     assert_eq!(coded[0], 1, "flags: transformed as x86 code");
@@ -104,7 +104,7 @@ fn cuts_of_text_records_and_code_round_trip() {
 #[test]
 fn containers_are_the_same_for_any_thread_count() {
     let mut data = gen::text(11, 150_000);
-    data.extend(code(100_000, 12));
+    data.extend(code(12, 100_000));
     let mut first = None;
     for threads in [1, 2] {
         for block in [64 << 10, 100_000, 1 << 20] {
@@ -209,7 +209,7 @@ fn pinned_inputs() -> Vec<Vec<u8>> {
     vec![
         gen::text(1, 24_000),
         gen::telemetry(2, 24_000),
-        code(24_000, 3),
+        code(3, 24_000),
         gen::telemetry(4, 300),
     ]
 }
