@@ -2,13 +2,15 @@
 //! with every preset on one and two threads, with flate2 (level 6) beside
 //! them as the baseline. Compressed sizes are printed once per preset.
 
+mod support;
+
 use std::hint::black_box;
-use std::io::{Read, Write};
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
 use subrange::preset::Preset;
 use subrange::stream::{decompress_with_options, DecodeOptions};
 use subrange::{compress, Options};
+use support::{deflate, inflate};
 
 /// ~8 MB: the five demo data sets of 1.6 MB each, back to back.
 fn corpus() -> Vec<u8> {
@@ -18,27 +20,13 @@ fn corpus() -> Vec<u8> {
         .collect()
 }
 
-fn flate2_compress(data: &[u8]) -> Vec<u8> {
-    let mut e = flate2::write::DeflateEncoder::new(Vec::new(), flate2::Compression::new(6));
-    e.write_all(data).unwrap();
-    e.finish().unwrap()
-}
-
-fn flate2_decompress(packed: &[u8], len: usize) -> Vec<u8> {
-    let mut out = Vec::with_capacity(len);
-    flate2::read::DeflateDecoder::new(packed)
-        .read_to_end(&mut out)
-        .unwrap();
-    out
-}
-
 fn bench(c: &mut Criterion) {
     let data = corpus();
     let mut group = c.benchmark_group("container");
     group.sample_size(10);
     group.throughput(Throughput::Bytes(data.len() as u64));
 
-    let deflated = flate2_compress(&data);
+    let deflated = deflate(&data, 6);
     eprintln!(
         "flate2-6: {} -> {} bytes (ratio {:.3})",
         data.len(),
@@ -46,10 +34,10 @@ fn bench(c: &mut Criterion) {
         deflated.len() as f64 / data.len() as f64
     );
     group.bench_function("flate2-6/compress", |b| {
-        b.iter(|| flate2_compress(black_box(&data)))
+        b.iter(|| deflate(black_box(&data), 6))
     });
     group.bench_function("flate2-6/decompress", |b| {
-        b.iter(|| flate2_decompress(black_box(&deflated), data.len()))
+        b.iter(|| inflate(black_box(&deflated), data.len()))
     });
 
     for preset in Preset::all() {

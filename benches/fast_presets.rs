@@ -7,29 +7,17 @@
 //! input. Whole-process figures against `gzip` on real files come from
 //! `scripts/fast-presets.sh`.
 
+mod support;
+
 use std::hint::black_box;
-use std::io::{Read, Write};
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
 use subrange::preset::Preset;
 use subrange::stream::{decompress_with_options, DecodeOptions};
 use subrange::{compress, corpus, Options};
+use support::{deflate, inflate};
 
 const SIZE: usize = 8 << 20;
-
-fn flate2_compress(data: &[u8], level: u32) -> Vec<u8> {
-    let mut e = flate2::write::DeflateEncoder::new(Vec::new(), flate2::Compression::new(level));
-    e.write_all(data).unwrap();
-    e.finish().unwrap()
-}
-
-fn flate2_decompress(packed: &[u8], len: usize) -> Vec<u8> {
-    let mut out = Vec::with_capacity(len);
-    flate2::read::DeflateDecoder::new(packed)
-        .read_to_end(&mut out)
-        .unwrap();
-    out
-}
 
 fn bench(c: &mut Criterion) {
     let sets = [
@@ -43,12 +31,12 @@ fn bench(c: &mut Criterion) {
         group.sample_size(10);
         group.throughput(Throughput::Bytes(data.len() as u64));
         for level in [1u32, 6] {
-            let packed = flate2_compress(data, level);
+            let packed = deflate(data, level);
             group.bench_function(BenchmarkId::new("flate2/compress", level), |b| {
-                b.iter(|| flate2_compress(black_box(data), level))
+                b.iter(|| deflate(black_box(data), level))
             });
             group.bench_function(BenchmarkId::new("flate2/decompress", level), |b| {
-                b.iter(|| flate2_decompress(black_box(&packed), data.len()))
+                b.iter(|| inflate(black_box(&packed), data.len()))
             });
         }
         for preset in ["static", "adaptive"] {

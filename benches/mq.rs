@@ -12,6 +12,7 @@
 
 use criterion::{black_box, criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
 use subrange::coder::{Decoder, Encoder};
+use subrange::corpus::SplitMix64;
 use subrange::model::{decode_with, encode_with, ShiftPredictor};
 use subrange::mq::{MqContexts, MqDecoder, MqEncoder, Termination};
 
@@ -20,30 +21,17 @@ const DECISIONS: usize = 1 << 20;
 /// Probability of a 1 for each context, in 1/65536.
 const ONES: [u32; 8] = [32768, 19661, 9830, 5243, 2621, 1311, 655, 63570];
 
-/// SplitMix64 (common practice).
-struct SplitMix(u64);
-
-impl SplitMix {
-    fn next(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-}
-
 struct Input {
     contexts: Vec<usize>,
     bits: Vec<bool>,
 }
 
 fn input() -> Input {
-    let mut rng = SplitMix(0x00C0_FFEE);
+    let mut rng = SplitMix64::new(0x00C0_FFEE);
     let mut contexts = Vec::with_capacity(DECISIONS);
     let mut bits = Vec::with_capacity(DECISIONS);
     for _ in 0..DECISIONS {
-        let r = rng.next();
+        let r = rng.next_u64();
         let cx = (r & 7) as usize;
         contexts.push(cx);
         bits.push(((r >> 48) as u32) < ONES[cx]);

@@ -8,18 +8,17 @@
 //! `set_dictionary`), which makes its compression time meaningless, so only
 //! its size is reported.
 
-#[path = "../tests/embed_support/frame_codecs.rs"]
-mod frame_codecs;
-#[path = "../tests/embed_support/gauge_frames.rs"]
-mod gauge_frames;
+#[allow(dead_code)]
+#[path = "../tests/support/mod.rs"]
+mod test_support;
 
 use criterion::{black_box, criterion_group, criterion_main, Criterion, Throughput};
-use frame_codecs::{
-    cold_frame, deflate_frame, measure, primed_context_snapshot, primed_snapshot, training_sample,
-};
-use gauge_frames::{GaugeNetwork, Layout};
 use subrange::model::ContextModel;
 use subrange::prime::Primer;
+use test_support::frame_codecs::{
+    cold_frame, deflate_frame, measure, primed_context_snapshot, primed_snapshot, training_sample,
+};
+use test_support::gauge_frames::{GaugeNetwork, Layout};
 
 const START: u32 = 1_714_521_600;
 

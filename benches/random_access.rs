@@ -12,6 +12,8 @@
 //! some seconds and about 400 MB of disk. The setup prints the index's
 //! share of the container and the most blocks any read decoded.
 
+mod support;
+
 use std::fs::File;
 use std::hint::black_box;
 use std::io::{BufReader, BufWriter, Read, Seek, SeekFrom, Write};
@@ -20,6 +22,7 @@ use std::path::PathBuf;
 use criterion::{criterion_group, criterion_main, Criterion, Throughput};
 use subrange::format::{inspect, BlockIndex, DecodeLimits, IndexSource};
 use subrange::{compress, decompress, Compressor, IndexedReader, Options};
+use support::{deflate, inflate};
 
 /// Raw bytes per generated chunk.
 const CHUNK: usize = 8 << 20;
@@ -115,17 +118,9 @@ fn bench(c: &mut Criterion) {
     group.bench_function("static/decode_1m_block", |b| {
         b.iter(|| decompress(black_box(&packed)).unwrap())
     });
-    let mut e = flate2::write::DeflateEncoder::new(Vec::new(), flate2::Compression::new(6));
-    e.write_all(&block).unwrap();
-    let deflated = e.finish().unwrap();
+    let deflated = deflate(&block, 6);
     group.bench_function("flate2-6/inflate_1m", |b| {
-        b.iter(|| {
-            let mut out = Vec::with_capacity(block.len());
-            flate2::read::DeflateDecoder::new(black_box(&deflated[..]))
-                .read_to_end(&mut out)
-                .unwrap();
-            out
-        })
+        b.iter(|| inflate(black_box(&deflated), block.len()))
     });
     group.finish();
 }

@@ -1,44 +1,33 @@
 //! Throughput of the order-2 and mix engines beside flate2 level 9.
 //!
 //! Data: ~1 MB of seeded synthetic English-like text and river-gauge
-//! telemetry records (see tests/common/gen.rs). Before timing, each group
+//! telemetry records (see tests/support/gen.rs). Before timing, each group
 //! prints the coded sizes as ratios against flate2 level 9 and, for the
 //! order-2 engine, against the data's empirical order-2 conditional entropy.
 
-#[path = "../tests/common/gen.rs"]
-mod gen;
-
-use std::io::{Read, Write};
+mod support;
+#[allow(dead_code)]
+#[path = "../tests/support/mod.rs"]
+mod test_support;
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
 use subrange::model::cm::{
     decode_mix, decode_order2, encode_mix, encode_order2, MixParams, Order2Params,
 };
 
+use support::{deflate, inflate};
+use test_support::gen;
+
 const LEN: usize = 1 << 20;
-
-fn deflate9(data: &[u8]) -> Vec<u8> {
-    let mut e = flate2::write::DeflateEncoder::new(Vec::new(), flate2::Compression::new(9));
-    e.write_all(data).unwrap();
-    e.finish().unwrap()
-}
-
-fn inflate(coded: &[u8], len: usize) -> Vec<u8> {
-    let mut out = Vec::with_capacity(len);
-    flate2::read::DeflateDecoder::new(coded)
-        .read_to_end(&mut out)
-        .unwrap();
-    out
-}
 
 fn bench(c: &mut Criterion) {
     let p2 = Order2Params::default();
     let pm = MixParams::default();
     for (name, data) in [
-        ("text", gen::text(LEN, 1)),
-        ("telemetry", gen::telemetry(LEN, 2)),
+        ("text", gen::text(1, LEN)),
+        ("telemetry", gen::telemetry(2, LEN)),
     ] {
-        let fl = deflate9(&data);
+        let fl = deflate(&data, 9);
         let order2 = encode_order2(&data, &p2).unwrap();
         let mix = encode_mix(&data, &pm).unwrap();
         let h2 = gen::order2_entropy_bits(&data) / 8.0;
@@ -57,7 +46,7 @@ fn bench(c: &mut Criterion) {
         g.throughput(Throughput::Bytes(data.len() as u64));
         g.sample_size(10);
         g.bench_function(BenchmarkId::new("flate2-9", "compress"), |b| {
-            b.iter(|| deflate9(&data))
+            b.iter(|| deflate(&data, 9))
         });
         g.bench_function(BenchmarkId::new("flate2-9", "decompress"), |b| {
             b.iter(|| inflate(&fl, data.len()))

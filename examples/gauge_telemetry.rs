@@ -15,6 +15,7 @@
 use flate2::{write::DeflateEncoder, Compression};
 use std::io::Write;
 use subrange::coder::{Decoder, Encoder};
+use subrange::corpus::SplitMix64;
 use subrange::model::{Model, Span, TableModel};
 
 /// Changes in `-LIMIT .. LIMIT` are coded directly as `change + LIMIT`;
@@ -24,41 +25,36 @@ const ESCAPE: u32 = 2 * LIMIT as u32;
 const STATIONS: usize = 12;
 const READINGS_PER_DAY: usize = 144;
 
-/// A tiny seeded generator (SplitMix64, Steele, Lea and Flood, 2014).
-struct Rng(u64);
+/// Uniform in `[0, 1)`: the top 53 bits of one draw of the crate's seeded
+/// generator.
+fn unit(rng: &mut SplitMix64) -> f64 {
+    (rng.next_u64() >> 11) as f64 / (1u64 << 53) as f64
+}
 
-impl Rng {
-    fn unit(&mut self) -> f64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
-    }
-    fn normal(&mut self) -> f64 {
-        ((0..4).map(|_| self.unit()).sum::<f64>() - 2.0) * 3f64.sqrt()
-    }
+/// Roughly normal: four uniforms, centred, unit variance.
+fn normal(rng: &mut SplitMix64) -> f64 {
+    ((0..4).map(|_| unit(rng)).sum::<f64>() - 2.0) * 3f64.sqrt()
 }
 
 /// One day of readings `[level, flow, temperature]` for every station.
-fn simulate_day(rng: &mut Rng, day: u32) -> Vec<Vec<[i32; 3]>> {
+fn simulate_day(rng: &mut SplitMix64, day: u32) -> Vec<Vec<[i32; 3]>> {
     (0..STATIONS)
         .map(|st| {
             let base = 60.0 + 25.0 * st as f64;
             let mut level = base;
             (0..READINGS_PER_DAY)
                 .map(|i| {
-                    let rain = if rng.unit() < 0.005 {
-                        30.0 * rng.unit()
+                    let rain = if unit(rng) < 0.005 {
+                        30.0 * unit(rng)
                     } else {
                         0.0
                     };
-                    level += 0.04 * (base - level) + 0.7 * rng.normal() + rain;
+                    level += 0.04 * (base - level) + 0.7 * normal(rng) + rain;
                     let head = (level - 0.4 * base).max(0.0);
                     let flow = 0.004 * head.powf(1.6); // stage-discharge power law
                     let hour = (i as f64 + f64::from(day) * 144.0) / 6.0;
                     let temp = 10.0 + 2.0 * (hour * std::f64::consts::PI / 12.0).sin();
-                    let temp = temp + 0.08 * rng.normal();
+                    let temp = temp + 0.08 * normal(rng);
                     [
                         level.round() as i32,
                         (flow * 10.0).round() as i32,
@@ -173,7 +169,7 @@ fn entropy(symbols: impl Iterator<Item = u32>) -> f64 {
 }
 
 fn main() -> Result<(), Box<dyn std::error::Error>> {
-    let mut rng = Rng(20_240_501);
+    let mut rng = SplitMix64::new(20_240_501);
     let yesterday = simulate_day(&mut rng, 0);
     let today = simulate_day(&mut rng, 1);
     let mut tables = train(&yesterday)?;

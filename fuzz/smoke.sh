@@ -17,7 +17,7 @@ else
   fuzz=(cargo fuzz)
 fi
 
-# The flags of each target (DEVELOPERS.md, "Fuzzing"): the round-trip
+# The flags of each target (README.md beside this script): the round-trip
 # targets parse no checksums or magic numbers, so they run without
 # comparison tracing, from a build of their own (`run` builds it); -max_len
 # is the longest input a target reads (its harness ignores the rest).

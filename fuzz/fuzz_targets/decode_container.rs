@@ -3,7 +3,7 @@
 //! the `Inspector`; decoder memory is counted by a global allocator.
 //!
 //! The checks live in `tests/fuzz_support/decode_container.rs`, shared with the
-//! regression replay in `tests/fuzz_regressions.rs`.
+//! regression replay in `tests/memory/fuzz_regressions.rs`.
 #![no_main]
 
 #[path = "../../tests/fuzz_support/mod.rs"]

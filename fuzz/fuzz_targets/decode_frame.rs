@@ -3,7 +3,7 @@
 //! through snapshots trained on the input.
 //!
 //! The checks live in `tests/fuzz_support/decode_frame.rs`, shared with the
-//! regression replay in `tests/fuzz_regressions.rs`.
+//! regression replay in `tests/memory/fuzz_regressions.rs`.
 #![no_main]
 
 #[path = "../../tests/fuzz_support/mod.rs"]

@@ -2,7 +2,7 @@
 //! trips: errors are fine, panics, hangs and mismatches are not.
 //!
 //! The checks live in `tests/fuzz_support/decode_history.rs`, shared with
-//! the regression replay in `tests/fuzz_regressions.rs`.
+//! the regression replay in `tests/memory/fuzz_regressions.rs`.
 #![no_main]
 
 #[path = "../../tests/fuzz_support/mod.rs"]

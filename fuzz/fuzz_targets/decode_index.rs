@@ -4,7 +4,7 @@
 //! counted by a global allocator.
 //!
 //! The checks live in `tests/fuzz_support/decode_index.rs`, shared with the
-//! regression replay in `tests/fuzz_regressions.rs`.
+//! regression replay in `tests/memory/fuzz_regressions.rs`.
 #![no_main]
 
 #[path = "../../tests/fuzz_support/mod.rs"]

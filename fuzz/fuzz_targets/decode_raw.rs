@@ -2,7 +2,7 @@
 //! bounded number of symbols: errors are fine, panics and hangs are not.
 //!
 //! The checks live in `tests/fuzz_support/decode_raw.rs`, shared with the
-//! regression replay in `tests/fuzz_regressions.rs`.
+//! regression replay in `tests/memory/fuzz_regressions.rs`.
 #![no_main]
 
 #[path = "../../tests/fuzz_support/mod.rs"]

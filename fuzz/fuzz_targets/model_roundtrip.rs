@@ -3,7 +3,7 @@
 //! decode(encode(x)) == x.
 //!
 //! The checks live in `tests/fuzz_support/model_roundtrip.rs`, shared with the
-//! regression replay in `tests/fuzz_regressions.rs`.
+//! regression replay in `tests/memory/fuzz_regressions.rs`.
 #![no_main]
 
 #[path = "../../tests/fuzz_support/mod.rs"]

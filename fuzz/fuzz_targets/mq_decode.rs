@@ -3,7 +3,7 @@
 //! past the input, and out-of-range contexts always a typed error.
 //!
 //! The checks live in `tests/fuzz_support/mq_decode.rs`, shared with the
-//! regression replay in `tests/fuzz_regressions.rs`.
+//! regression replay in `tests/memory/fuzz_regressions.rs`.
 #![no_main]
 
 #[path = "../../tests/fuzz_support/mod.rs"]

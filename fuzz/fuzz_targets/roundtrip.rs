@@ -2,7 +2,7 @@
 //! one-shot functions and by the `std::io` adapters.
 //!
 //! The checks live in `tests/fuzz_support/roundtrip.rs`, shared with the
-//! regression replay in `tests/fuzz_regressions.rs`.
+//! regression replay in `tests/memory/fuzz_regressions.rs`.
 #![no_main]
 
 #[path = "../../tests/fuzz_support/mod.rs"]

@@ -35,7 +35,7 @@
 //! leading zeros of `A` and shifts `A` and `C` by up to `CT` bits at once,
 //! calling BYTEOUT exactly where the bit-serial procedure would; the result is
 //! bit-identical (a unit test checks it against the bit-serial loop, and
-//! `tests/mq_roundtrip.rs` the whole encoder against a flowchart-literal one).
+//! `tests/mq/mq_roundtrip.rs` the whole encoder against a flowchart-literal one).
 //!
 //! CODEMPS and CODELPS are likewise written as one selection of the kept
 //! sub-interval instead of nested branches (see `encode_in`): the outcome of

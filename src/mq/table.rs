@@ -14,7 +14,7 @@
 //!
 //! The values are those of ITU-T T.88 Table E.1, which are the same as those
 //! of ISO/IEC 15444-1 Table C.2 (from memory; cross-checked by the standard's
-//! test sequence in `tests/mq_standard.rs`).
+//! test sequence in `tests/mq/mq_standard.rs`).
 //!
 //! The coders do not walk this table directly: they use a derived transition
 //! table indexed by a packed context byte `index << 1 | mps`, which gives `Qe`

@@ -1,6 +1,6 @@
 //! The checks behind every fuzz target, shared by the fuzz crate (each
 //! target in `fuzz/fuzz_targets/` is one call into a module here) and by
-//! `tests/fuzz_regressions.rs`, which replays the inputs kept under
+//! `tests/memory/fuzz_regressions.rs`, which replays the inputs kept under
 //! `tests/data/fuzz/<target>/` through the same checks in the ordinary
 //! test suite.
 //!

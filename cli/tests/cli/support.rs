@@ -98,19 +98,9 @@ pub fn assert_one_line_failure(out: &Output, want: i32) {
     assert!(!err.contains("panicked"), "{err:?}");
 }
 
-/// Telemetry-like test data: station lines with slowly drifting readings.
+/// Gauge readings as CSV lines, about `lines` of them: the crate's own
+/// demo generator (`subrange::corpus::gauge_csv`, 18 bytes a line on
+/// average), seeded.
 pub fn gauge_text(lines: usize) -> Vec<u8> {
-    let mut s = String::new();
-    let mut level = 120i64;
-    for i in 0..lines {
-        level += [(0), 1, -1, 0, 2, -2, 0, 0][i * 7 % 8];
-        s.push_str(&format!(
-            "G{:03},{},{},{}\n",
-            100 + i % 5,
-            i * 10,
-            level,
-            level * 3 / 2
-        ));
-    }
-    s.into_bytes()
+    subrange::corpus::gauge_csv(11, lines * 18)
 }
