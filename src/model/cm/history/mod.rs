@@ -53,6 +53,7 @@ mod contexts;
 mod engine;
 mod mixer;
 mod params;
+mod prefetch;
 mod referee;
 mod refine;
 mod slots;
