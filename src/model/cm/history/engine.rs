@@ -244,18 +244,18 @@ impl Engine {
         let x = &mut self.mixer.x;
         for k in 0..CONTEXTS {
             let s = bytes[self.offs[k] + node];
-            let p = self.maps.p(k, s) as i32;
-            x[2 * k] = stretch(p as u32);
-            x[2 * k + 1] = if RUN[usize::from(s)] { x[2 * k] } else { 0 };
+            let st = stretch(self.maps.p(k, s)) as i16;
+            x[2 * k] = st;
+            x[2 * k + 1] = if RUN[usize::from(s)] { st } else { 0 };
         }
         let i = 2 * CONTEXTS;
         self.p_counts = counts_p16(self.order0[c0]);
-        x[i] = stretch(self.p_counts);
-        x[i + 1] = stretch(counts_p16(self.order1[c1 << 8 | c0]));
-        x[i + 2] = self.matcher.input();
+        x[i] = stretch(self.p_counts) as i16;
+        x[i + 1] = stretch(counts_p16(self.order1[c1 << 8 | c0])) as i16;
+        x[i + 2] = self.matcher.input() as i16;
         x[i + 3] = match self.matcher.expected() {
             Some(b) => {
-                let v = (self.matcher.length().min(32) * 32) as i32;
+                let v = (self.matcher.length().min(32) * 32) as i16;
                 if b {
                     v
                 } else {

@@ -51,9 +51,9 @@
 
 mod contexts;
 mod engine;
+mod kernel;
 mod mixer;
 mod params;
-mod prefetch;
 mod referee;
 mod refine;
 mod slots;

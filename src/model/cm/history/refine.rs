@@ -17,7 +17,7 @@
 
 use alloc::vec::Vec;
 
-use super::prefetch::prefetch;
+use super::kernel::prefetch;
 use crate::model::logistic::squash;
 
 const POINTS: usize = 16;

@@ -25,7 +25,7 @@ use alloc::vec;
 use alloc::vec::Vec;
 
 use super::contexts::DIRECT_VALUES;
-use super::prefetch::prefetch;
+use super::kernel::prefetch;
 use super::state::TOTAL;
 
 /// Bytes of one slot.
