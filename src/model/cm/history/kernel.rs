@@ -1,5 +1,5 @@
-//! The history engine's two machine-level kernels: a cache hint, and the
-//! dot product of the mixer's `i16` rows.
+//! The history engine's machine-level kernels: a cache hint, and the dot
+//! product and training step of the mixer's `i16` rows.
 //!
 //! The engine knows some addresses a bit or two before it reads them (the
 //! next bit's refinement curves, the low nibble's slot buckets).
@@ -11,12 +11,17 @@
 //! multiply-add of `i16` pairs (`pmaddwd`, part of every x86-64
 //! processor), four instructions a row where the compiler's own code takes
 //! one multiply a pair; elsewhere a plain loop computes the same sum.
+//! [`train`] adds the rounded `(x_i · err + 2^15) >> 16` to each weight,
+//! saturated, eight lanes at a time: the high half of the `i16` product
+//! plus bit 15 of its low half is exactly that rounded step, and the
+//! saturating add is exactly the clamp.
 //!
 //! Invariants: the hint only names an element of a slice (so the address is
 //! in bounds) and changes no value: output is the same with or without it,
 //! and on targets without the instruction it does nothing. Both forms of
 //! `dot` give the exact integer sum (it fits an `i32` for `i16` inputs of
-//! at most ±2047, see the mixer), so output never depends on the target.
+//! at most ±2047, see the mixer), and both forms of `train` the same
+//! weights, so output never depends on the target.
 #![allow(unsafe_code)]
 
 /// Length of a mixer row.
@@ -77,6 +82,53 @@ fn dot_sse2(x: &[i16; ROW], w: &[i16; ROW]) -> i32 {
     _mm_cvtsi128_si32(acc)
 }
 
+/// `w_i += round(x_i · err / 2^16)` over a whole row, saturated to `i16`
+/// (`err` within ±32767).
+#[inline(always)]
+pub(crate) fn train(x: &[i16; ROW], w: &mut [i16; ROW], err: i32) {
+    #[cfg(all(target_arch = "x86_64", target_feature = "sse2"))]
+    {
+        // SAFETY: SSE2 is enabled for this build (the cfg above), and the
+        // kernel touches only its two arrays.
+        unsafe { train_sse2(x, w, err as i16) }
+    }
+    #[cfg(not(all(target_arch = "x86_64", target_feature = "sse2")))]
+    {
+        train_plain(x, w, err)
+    }
+}
+
+/// The product's high half plus bit 15 of its low half is the rounded
+/// `(x · err + 2^15) >> 16`; the saturating add is the clamp.
+#[cfg(all(target_arch = "x86_64", target_feature = "sse2"))]
+#[target_feature(enable = "sse2")]
+#[inline]
+fn train_sse2(x: &[i16; ROW], w: &mut [i16; ROW], err: i16) {
+    use core::arch::x86_64::*;
+    let e = _mm_set1_epi16(err);
+    for j in 0..ROW / 8 {
+        // SAFETY: `8 * j + 8 <= ROW`: sixteen bytes inside each array.
+        unsafe {
+            let xv = _mm_loadu_si128(x.as_ptr().add(8 * j) as *const __m128i);
+            let at = w.as_mut_ptr().add(8 * j) as *mut __m128i;
+            let step = _mm_add_epi16(
+                _mm_mulhi_epi16(xv, e),
+                _mm_srli_epi16::<15>(_mm_mullo_epi16(xv, e)),
+            );
+            _mm_storeu_si128(at, _mm_adds_epi16(_mm_loadu_si128(at), step));
+        }
+    }
+}
+
+/// The plain loop of [`train`].
+#[cfg_attr(all(target_arch = "x86_64", target_feature = "sse2"), allow(dead_code))]
+fn train_plain(x: &[i16; ROW], w: &mut [i16; ROW], err: i32) {
+    for (wi, &xi) in w.iter_mut().zip(x) {
+        let step = (i32::from(xi) * err + (1 << 15)) >> 16;
+        *wi = (i32::from(*wi) + step).clamp(-32768, 32767) as i16;
+    }
+}
+
 /// The plain loop of [`dot`].
 #[cfg_attr(all(target_arch = "x86_64", target_feature = "sse2"), allow(dead_code))]
 fn dot_plain(x: &[i16; ROW], w: &[i16; ROW]) -> i32 {
@@ -101,5 +153,23 @@ mod tests {
         let want: i32 = (0..ROW).map(|i| i32::from(x[i]) * i32::from(w[i])).sum();
         assert_eq!(dot(&x, &w), want);
         assert_eq!(dot_plain(&x, &w), want);
+    }
+
+    #[test]
+    fn train_is_the_plain_step() {
+        let mut x = [0i16; ROW];
+        for (i, v) in x.iter_mut().enumerate() {
+            *v = (i as i16 * 523 % 4095) - 2047;
+        }
+        for err in [-32767, -30_001, -1, 0, 1, 77, 4096, 32767] {
+            let mut a = [0i16; ROW];
+            for (i, v) in a.iter_mut().enumerate() {
+                *v = [32767, -32768, 0, 1, -1, 1234, -20_000, 31_000][i % 8];
+            }
+            let mut b = a;
+            train(&x, &mut a, err);
+            train_plain(&x, &mut b, err);
+            assert_eq!(a, b, "err {err}");
+        }
     }
 }

@@ -35,7 +35,7 @@
 use alloc::vec;
 use alloc::vec::Vec;
 
-use super::kernel::dot;
+use super::kernel::{dot, train};
 use crate::model::logistic::{squash, stretch};
 
 /// Largest input count, the length of a weight set.
@@ -175,15 +175,6 @@ impl Mixer2 {
             self.rate = decayed.max(self.floor);
             self.final_rate = (decayed / 4).max(self.floor / 4).max(2);
         }
-    }
-}
-
-/// `w_i += round(x_i · err / 2^16)`, saturated to `i16`.
-#[inline(always)]
-fn train(x: &[i16; MAX_INPUTS], w: &mut [i16; MAX_INPUTS], err: i32) {
-    for i in 0..MAX_INPUTS {
-        let step = (i32::from(x[i]) * err + (1 << 15)) >> 16;
-        w[i] = (i32::from(w[i]) + step).clamp(-32768, 32767) as i16;
     }
 }
 
