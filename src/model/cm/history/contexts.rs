@@ -5,8 +5,7 @@
 //!   values have slots of their own, no hash);
 //! - words (text): the current word, case folded, with the byte before it
 //!   when between words; and the current word with the previous word;
-//! - sparse contexts (binary data): bytes 2 and 3 back, skipping the last;
-//!   and byte 2 back alone with the position's parity (direct, as order 1);
+//! - a sparse context (binary data): bytes 2 and 3 back, skipping the last;
 //! - records (tables, fixed-size structures): the record length is
 //!   detected from repeated distances between equal bytes; the byte one
 //!   record back ("above") with the last byte, and with the byte two records
@@ -33,11 +32,10 @@ use crate::model::word::WordContext;
 pub(crate) const HASHED: usize = 10;
 
 /// Direct contexts: few values, each with slots of its own.
-pub(crate) const DIRECT: usize = 2;
+pub(crate) const DIRECT: usize = 1;
 
-/// Values of the direct contexts: the last byte (256), then byte 2 back
-/// with the position's parity (512).
-pub(crate) const DIRECT_VALUES: usize = 256 + 512;
+/// Values of the direct contexts: the last byte.
+pub(crate) const DIRECT_VALUES: usize = 256;
 
 /// All contexts: the hashed ones, then the direct ones.
 pub(crate) const CONTEXTS: usize = HASHED + DIRECT;
@@ -174,10 +172,7 @@ impl Contexts {
         let a2 = self.above(history, 2);
         let col = (history.len() - self.line_start).min(255) as u64;
         let column = hash2(self.line_above(history) | (col << 8), 13);
-        self.direct = [
-            c1 as usize,
-            256 + (((c >> 8) & 0xFF) | ((history.len() as u64 & 1) << 8)) as usize,
-        ];
+        self.direct = [c1 as usize];
         let h = &mut self.hashes;
         h[0] = hash2(c & 0xFFFF, 2);
         h[1] = hash2(c & 0xFF_FFFF, 3);

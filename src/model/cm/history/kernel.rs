@@ -7,9 +7,9 @@
 //! line arrives; a prefetch instruction retires at once and the line comes
 //! in while the current bit is mixed and coded ([`prefetch`]).
 //!
-//! [`dot`] sums `x_i · w_i` over a row of 32 `i16` pairs with SSE2's
+//! [`dot`] sums `x_i · w_i` over a row of 16 `i16` pairs with SSE2's
 //! multiply-add of `i16` pairs (`pmaddwd`, part of every x86-64
-//! processor), four instructions a row where the compiler's own code takes
+//! processor), two multiply-adds a row where the compiler's own code takes
 //! one multiply a pair; elsewhere a plain loop computes the same sum.
 //! [`train`] adds the rounded `(x_i · err + 2^15) >> 16` to each weight,
 //! saturated, eight lanes at a time: the high half of the `i16` product
@@ -25,7 +25,7 @@
 #![allow(unsafe_code)]
 
 /// Length of a mixer row.
-pub(crate) const ROW: usize = 32;
+pub(crate) const ROW: usize = 16;
 
 /// Hints that `s[i]` will be read soon (nothing when `i` is out of bounds).
 #[inline(always)]
@@ -147,7 +147,7 @@ mod tests {
         let mut x = [0i16; ROW];
         let mut w = [0i16; ROW];
         for i in 0..ROW {
-            x[i] = if i % 3 == 0 { 2047 } else { -(i as i16) * 61 };
+            x[i] = if i % 3 == 0 { 2047 } else { -(i as i16) * 127 };
             w[i] = if i % 2 == 0 { 32767 } else { -32768 + i as i16 };
         }
         let want: i32 = (0..ROW).map(|i| i32::from(x[i]) * i32::from(w[i])).sum();

@@ -19,9 +19,9 @@
 //!
 //! Fixed point: inputs carry 8 fractional bits and stay within ±2047 (an
 //! `i16`); first-layer weights are `i16` with 12 fractional bits (4096 is
-//! 1.0, at most ±8), one set a 64-byte line of [`MAX_INPUTS`] weights, the
+//! 1.0, at most ±8), one set a 32-byte row of [`MAX_INPUTS`] weights, the
 //! unused ones multiplying zero inputs. A dot product of `i16` pairs sums in
-//! an `i32` without overflow (32 · 2047 · 32767 < 2^31), and the loops run
+//! an `i32` without overflow (16 · 2047 · 32768 < 2^31), and the loops run
 //! over whole fixed-length rows, so the compiler turns them into vector
 //! multiply-adds of `i16` lanes. The update adds the rounded
 //! `(x · err + 2^15) >> 16` to each weight, saturated to the `i16` range.
@@ -47,9 +47,9 @@ pub(crate) const SELECTORS: usize = 3;
 /// Largest second-layer weight magnitude (8.0). Weights start at `1 / n`.
 const WEIGHT_LIMIT: i32 = (8 << 16) - 1;
 
-/// One first-layer weight set: a cache line of `i16` weights.
+/// One first-layer weight set: half a cache line of `i16` weights.
 #[derive(Debug, Clone, Copy)]
-#[repr(C, align(64))]
+#[repr(C, align(32))]
 struct Row([i16; MAX_INPUTS]);
 
 /// The two-layer mixer.
