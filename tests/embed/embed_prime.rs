@@ -3,7 +3,7 @@
 
 use crate::support::frame_codecs::{measure, primed_snapshot, training_sample};
 use crate::support::gauge_frames::{GaugeNetwork, Layout};
-use subrange::model::{StepwiseModel, Snapshot};
+use subrange::model::{Snapshot, StepwiseModel};
 use subrange::prime::{decode_message, encode_message, frame_snapshot_id, Primer, ID_LEN};
 use subrange::ErrorKind;
 

@@ -1,11 +1,11 @@
 //! The byte-level contexts of the history engine, recomputed after every
 //! byte.
 //!
-//! - orders 1, 2, 3, 4 and 6: the last `k` bytes;
+//! - orders 1, 2, 3, 4 and 6: the last `k` bytes (order 1 direct: its 256
+//!   values have slots of their own, no hash);
 //! - words (text): the current word, case folded, with the byte before it
 //!   when between words; and the current word with the previous word;
-//! - sparse contexts (binary data): bytes 2 and 3 back, skipping the last;
-//!   and byte 2 back alone with the position's parity;
+//! - a sparse context (binary data): bytes 2 and 3 back, skipping the last;
 //! - records (tables, fixed-size structures): the record length is
 //!   detected from repeated distances between equal bytes; the byte one
 //!   record back ("above") with the last byte, and with the byte two records
@@ -21,14 +21,24 @@
 //! it has gathered [`RECORD_VOTES`] more votes than it lost. A length stays
 //! until another candidate wins.
 //!
-//! Invariant: every hash depends only on bytes already coded, so encoder and
-//! decoder compute the same ones.
+//! Invariants: every hash and direct value depends only on bytes already
+//! coded, so encoder and decoder compute the same ones; direct values stay
+//! below [`DIRECT_VALUES`].
 
 use crate::model::cm::hashed::hash2;
 use crate::model::cm::word::WordContext;
 
 /// Hashed contexts.
-pub(crate) const CONTEXTS: usize = 12;
+pub(crate) const HASHED: usize = 10;
+
+/// Direct contexts: few values, each with slots of its own.
+pub(crate) const DIRECT: usize = 1;
+
+/// Values of the direct contexts: the last byte.
+pub(crate) const DIRECT_VALUES: usize = 256;
+
+/// All contexts: the hashed ones, then the direct ones.
+pub(crate) const CONTEXTS: usize = HASHED + DIRECT;
 
 /// Votes a record length needs.
 const RECORD_VOTES: u32 = 12;
@@ -50,7 +60,10 @@ pub(crate) struct Contexts {
     line_start: usize,
     prev_line_start: usize,
     /// The context hashes for the next byte.
-    pub(crate) hashes: [u64; CONTEXTS],
+    pub(crate) hashes: [u64; HASHED],
+    /// The direct contexts' values for the next byte, below
+    /// [`DIRECT_VALUES`].
+    pub(crate) direct: [usize; DIRECT],
 }
 
 impl Default for Contexts {
@@ -64,7 +77,8 @@ impl Default for Contexts {
             record: 0,
             line_start: 0,
             prev_line_start: 0,
-            hashes: [0; CONTEXTS],
+            hashes: [0; HASHED],
+            direct: [0; DIRECT],
         };
         c.rehash(&[]);
         c
@@ -158,21 +172,20 @@ impl Contexts {
         let a2 = self.above(history, 2);
         let col = (history.len() - self.line_start).min(255) as u64;
         let column = hash2(self.line_above(history) | (col << 8), 13);
+        self.direct = [c1 as usize];
         let h = &mut self.hashes;
-        h[0] = hash2(c1, 1);
-        h[1] = hash2(c & 0xFFFF, 2);
-        h[2] = hash2(c & 0xFF_FFFF, 3);
-        h[3] = hash2(c & 0xFFFF_FFFF, 4);
-        h[4] = hash2(c & 0xFFFF_FFFF_FFFF, 6);
+        h[0] = hash2(c & 0xFFFF, 2);
+        h[1] = hash2(c & 0xFF_FFFF, 3);
+        h[2] = hash2(c & 0xFFFF_FFFF, 4);
+        h[3] = hash2(c & 0xFFFF_FFFF_FFFF, 6);
         let w = self.word.word();
-        h[5] = hash2(if w == 0 { c1 | 0x100 } else { w }, 7);
-        h[6] = hash2(hash2(w, self.word.previous()), 8);
-        h[7] = hash2((c >> 8) & 0xFFFF, 9);
-        h[8] = hash2(((c >> 8) & 0xFF) | ((history.len() as u64 & 1) << 8), 10);
+        h[4] = hash2(if w == 0 { c1 | 0x100 } else { w }, 7);
+        h[5] = hash2(hash2(w, self.word.previous()), 8);
+        h[6] = hash2((c >> 8) & 0xFFFF, 9);
         let rec = self.record.min(0xFFFF) as u64;
-        h[9] = hash2(a1 | (c1 << 8) | (rec << 16), 11);
-        h[10] = hash2(a1 | (a2 << 8) | (rec << 16), 12);
-        h[11] = column;
+        h[7] = hash2(a1 | (c1 << 8) | (rec << 16), 11);
+        h[8] = hash2(a1 | (a2 << 8) | (rec << 16), 12);
+        h[9] = column;
     }
 }
 

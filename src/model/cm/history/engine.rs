@@ -2,13 +2,13 @@
 //! refinement chain, bit by bit.
 //!
 //! Inputs per bit (see the parent module for the methods):
-//! - for each of the [`CONTEXTS`] hashed contexts, the bit history of the
-//!   current tree node in the context's nibble slot, mapped to a
-//!   probability by that context's [`StateMap`]; two inputs: the stretched
-//!   probability, and the same again when the history is a run (a
-//!   deterministic context: only one bit value seen), else 0, so the mixer
-//!   weighs deterministic contexts on their own (a linear confidence term
-//!   `p - ½` in this place measured 3 % worse on text);
+//! - for each of the [`CONTEXTS`] contexts (hashed, or direct for the last
+//!   byte), the bit history of the current tree node in the context's
+//!   nibble slot, mapped to a probability by that context's [`StateMap`]
+//!   and stretched (the map learns how far a deterministic history, one
+//!   bit value only, can be trusted; a second input per context for such
+//!   histories measured 0.5 % smaller output, for a mixer row of twice the
+//!   width);
 //! - order 0 and order 1 from direct tables of counters with `1/n`
 //!   adaptation: a memoryless source is learned as fast as counting allows;
 //! - the match model: its learned confidence for the current length, and
@@ -19,7 +19,13 @@
 //! previous byte's class and the previous byte; its output goes through two
 //! adaptive probability maps in a chain, one keyed by order 1 and one by a
 //! hash of order 2 (each with the partial byte), and the full prediction
-//! averages the three. The [`Referee`] then codes either the full
+//! averages the three.
+//!
+//! Memory: the slots of a nibble's contexts are found once per nibble,
+//! all buckets read before any is searched, and the low nibble's buckets
+//! are hinted (for both values of its last bit) while the high nibble's
+//! last bit is coded; the refinement curves of the next bit are hinted
+//! while the current one is coded. The [`Referee`] then codes either the full
 //! prediction or the order-0 counts, whichever has cost less over the last
 //! bits: on memoryless data the counts (the entropy to within 0.02 %), on
 //! everything else the full prediction.
@@ -31,22 +37,22 @@
 use alloc::vec;
 use alloc::vec::Vec;
 
-use super::contexts::{class, Contexts, CONTEXTS};
+use super::contexts::{class, Contexts, CONTEXTS, DIRECT, HASHED};
 use super::mixer::Mixer2;
 use super::params::HistoryParams;
 use super::referee::Referee;
 use super::refine::Refiner;
 use super::slots::Slots;
-use super::state::{next_state, StateMap, RUN};
+use super::state::{next_state, StateMap};
 use crate::error::Result;
 use crate::model::bit::logistic::stretch;
 use crate::model::cm::hashed::hash2;
 use crate::model::cm::io::BitIo;
 use crate::model::cm::matcher::MatchModel;
 
-/// Mixer inputs: two per context, order 0, order 1, two for the match
+/// Mixer inputs: one per context, order 0, order 1, two for the match
 /// model, the bias.
-pub(crate) const INPUTS: usize = 2 * CONTEXTS + 5;
+pub(crate) const INPUTS: usize = CONTEXTS + 5;
 
 /// First-layer weight sets of each selector.
 pub(crate) const SETS: [usize; 3] = [4 * 256, 8 * 256, 256 * 8];
@@ -63,6 +69,11 @@ fn apm_contexts(len: usize) -> usize {
         .unwrap_or(usize::MAX)
         .clamp(1 << 10, 1 << 16)
 }
+
+/// Curves of the order-2 refinement map: a hash of the last two bytes
+/// with the partial byte, 128 KiB of curves that stay in cache (more
+/// measured no smaller).
+const ORDER2_CURVES: usize = 1 << 12;
 
 /// The direct counts are halved when a node's total reaches this: up to
 /// there, the estimate is the exact running frequency.
@@ -112,8 +123,6 @@ pub(crate) struct Engine {
     /// The full prediction and the order-0 counts' of the current bit.
     p_full: u32,
     p_counts: u32,
-    /// Sink of the cache-warming reads (see [`Refiner::touch`]).
-    warm: u32,
 }
 
 impl Engine {
@@ -130,11 +139,10 @@ impl Engine {
             matcher: MatchModel::new(HistoryParams::match_bits_for(len)),
             mixer: Mixer2::new(INPUTS, SETS, FINAL_SETS, i32::from(params.rate)),
             apm1: Refiner::new(apm_contexts(len), 7),
-            apm2: Refiner::new(apm_contexts(len), 7),
+            apm2: Refiner::new(apm_contexts(len).min(ORDER2_CURVES), 7),
             referee: Referee::default(),
             p_full: 32768,
             p_counts: 32768,
-            warm: 0,
         })
     }
 
@@ -146,7 +154,8 @@ impl Engine {
             + 4 * (1 << 16)
             + MatchModel::memory_needed(HistoryParams::match_bits_for(len))
             + Mixer2::memory_needed(INPUTS, SETS, FINAL_SETS)
-            + 2 * Refiner::memory_needed(apm_contexts(len))
+            + Refiner::memory_needed(apm_contexts(len))
+            + Refiner::memory_needed(apm_contexts(len).min(ORDER2_CURVES))
             + Referee::MEMORY
     }
 
@@ -154,14 +163,38 @@ impl Engine {
     /// (1 for the high nibble, `16 + high` for the low one).
     #[inline(always)]
     fn find_slots(&mut self, c0: usize) {
+        let mut hashed = [0usize; HASHED];
+        hashed.copy_from_slice(&self.offs[..HASHED]);
         if c0 == 1 {
-            self.slots.find_all(&self.ctx.hashes, &mut self.offs);
+            self.slots.find_all(&self.ctx.hashes, &mut hashed);
         } else {
-            let mut near = [0u64; CONTEXTS];
-            for (n, &h) in near.iter_mut().zip(&self.ctx.hashes) {
-                *n = hash2(h, c0 as u64);
-            }
-            self.slots.find_all_near(&near, &mut self.offs);
+            let near = self.near(c0);
+            self.slots.find_all_near(&near, &mut hashed);
+        }
+        self.offs[..HASHED].copy_from_slice(&hashed);
+        for k in 0..DIRECT {
+            self.offs[HASHED + k] = self.slots.direct(self.ctx.direct[k], c0);
+        }
+    }
+
+    /// The low-nibble hashes of the hashed contexts for partial byte `c0`.
+    #[inline(always)]
+    fn near(&self, c0: usize) -> [u64; HASHED] {
+        let mut near = [0u64; HASHED];
+        for (n, &h) in near.iter_mut().zip(&self.ctx.hashes) {
+            *n = hash2(h, c0 as u64);
+        }
+        near
+    }
+
+    /// Hints the low-nibble buckets of both values the high nibble can
+    /// take once its last bit (partial byte `c0`, three bits) is coded.
+    #[inline(always)]
+    fn prefetch_low(&self, c0: usize) {
+        let mut high = [0usize; HASHED];
+        high.copy_from_slice(&self.offs[..HASHED]);
+        for c in [2 * c0, 2 * c0 + 1] {
+            self.slots.prefetch_near(&self.near(c), &high);
         }
     }
 
@@ -177,6 +210,8 @@ impl Engine {
         for bitpos in 0..8 {
             if bitpos == 0 || bitpos == 4 {
                 self.find_slots(c0);
+            } else if bitpos == 3 {
+                self.prefetch_low(c0);
             }
             // The tree node within the nibble: 1, then 2–3, 4–7, 8–15.
             let node = if bitpos < 4 {
@@ -208,18 +243,16 @@ impl Engine {
         let x = &mut self.mixer.x;
         for k in 0..CONTEXTS {
             let s = bytes[self.offs[k] + node];
-            let p = self.maps.p(k, s) as i32;
-            x[2 * k] = stretch(p as u32);
-            x[2 * k + 1] = if RUN[usize::from(s)] { x[2 * k] } else { 0 };
+            x[k] = stretch(self.maps.p(k, s)) as i16;
         }
-        let i = 2 * CONTEXTS;
+        let i = CONTEXTS;
         self.p_counts = counts_p16(self.order0[c0]);
-        x[i] = stretch(self.p_counts);
-        x[i + 1] = stretch(counts_p16(self.order1[c1 << 8 | c0]));
-        x[i + 2] = self.matcher.input();
+        x[i] = stretch(self.p_counts) as i16;
+        x[i + 1] = stretch(counts_p16(self.order1[c1 << 8 | c0])) as i16;
+        x[i + 2] = self.matcher.input() as i16;
         x[i + 3] = match self.matcher.expected() {
             Some(b) => {
-                let v = (self.matcher.length().min(32) * 32) as i32;
+                let v = (self.matcher.length().min(32) * 32) as i16;
                 if b {
                     v
                 } else {
@@ -234,12 +267,10 @@ impl Engine {
         if bitpos < 7 {
             // The next bit's curves, whichever this bit is.
             let (a, b) = (2 * c0, 2 * c0 + 1);
-            self.warm = self.warm.wrapping_add(
-                self.apm1.touch(a | c1 << 8)
-                    ^ self.apm1.touch(b | c1 << 8)
-                    ^ self.apm2.touch(h2 ^ a)
-                    ^ self.apm2.touch(h2 ^ b),
-            );
+            self.apm1.prefetch(a | c1 << 8);
+            self.apm1.prefetch(b | c1 << 8);
+            self.apm2.prefetch(h2 ^ a);
+            self.apm2.prefetch(h2 ^ b);
         }
         let pm = self.mixer.mix(sel, c0);
         let st = self.mixer.stretched();

@@ -17,40 +17,51 @@
 //! weights settle fast and then stop jittering: on stationary
 //! data the mixing noise, which costs bits, shrinks as the block goes on.
 //!
-//! Fixed point: inputs and sums carry 8 fractional bits and stay within
-//! ±2047; weights 16 (65536 is 1.0), kept within ±[`WEIGHT_LIMIT`], so a
-//! product `x·w` fits an `i32` with room for the sum of its `>> 16`
-//! shifted terms. The update computes `x · err` in `i32` and scales it with
-//! a shift: identical results everywhere.
+//! Fixed point: inputs carry 8 fractional bits and stay within ±2047 (an
+//! `i16`); first-layer weights are `i16` with 12 fractional bits (4096 is
+//! 1.0, at most ±8), one set a 32-byte row of [`MAX_INPUTS`] weights, the
+//! unused ones multiplying zero inputs. A dot product of `i16` pairs sums in
+//! an `i32` without overflow (16 · 2047 · 32768 < 2^31), and the loops run
+//! over whole fixed-length rows, so the compiler turns them into vector
+//! multiply-adds of `i16` lanes. The update adds the rounded
+//! `(x · err + 2^15) >> 16` to each weight, saturated to the `i16` range.
+//! The second layer keeps `i32` weights with 16 fractional bits. All of it is
+//! integer: identical results everywhere, vector units or not.
 //!
 //! Invariants: selected sets are masked to their table (a power of two), so any context
-//! value is safe; the input vector has a fixed length [`MAX_INPUTS`].
+//! value is safe; the input vector has a fixed length [`MAX_INPUTS`], its
+//! entries past the mixer's `n` inputs stay 0.
 
 use alloc::vec;
 use alloc::vec::Vec;
 
+use super::kernel::{dot, train};
 use crate::model::bit::logistic::{squash, stretch};
 
-/// Largest input count.
-pub(crate) const MAX_INPUTS: usize = 48;
+/// Largest input count, the length of a weight set.
+pub(crate) const MAX_INPUTS: usize = super::kernel::ROW;
 
 /// Weight sets in use at once in the first layer.
 pub(crate) const SELECTORS: usize = 3;
 
-/// Largest weight magnitude (8.0). Weights start at `1 / n`.
+/// Largest second-layer weight magnitude (8.0). Weights start at `1 / n`.
 const WEIGHT_LIMIT: i32 = (8 << 16) - 1;
+
+/// One first-layer weight set: half a cache line of `i16` weights.
+#[derive(Debug, Clone, Copy)]
+#[repr(C, align(32))]
+struct Row([i16; MAX_INPUTS]);
 
 /// The two-layer mixer.
 #[derive(Debug, Clone)]
 pub(crate) struct Mixer2 {
-    /// First-layer weights: selector `k`'s sets from `base[k]`, `n` each.
-    weights: Vec<i32>,
+    /// First-layer weights: selector `k`'s sets from row `base[k]`.
+    weights: Vec<Row>,
     base: [usize; SELECTORS],
     sets: [usize; SELECTORS],
     chosen: [usize; SELECTORS],
-    /// Inputs of the current bit.
-    pub(crate) x: [i32; MAX_INPUTS],
-    n: usize,
+    /// Inputs of the current bit (entries from `n` on stay 0).
+    pub(crate) x: [i16; MAX_INPUTS],
     /// Outputs of the first layer (stretched) and their probabilities.
     out: [i32; SELECTORS + 1],
     out_p: [u32; SELECTORS],
@@ -76,9 +87,10 @@ impl Mixer2 {
         let mut total = 0;
         for k in 0..SELECTORS {
             base[k] = total;
-            total += sets[k] * n;
+            total += sets[k];
         }
-        let w0 = (65536 / n.max(1) as i32).min(WEIGHT_LIMIT);
+        let mut row = Row([0; MAX_INPUTS]);
+        row.0[..n].fill((4096 / n.max(1)) as i16);
         let mut final_w = vec![0; final_sets * (SELECTORS + 1)];
         for (i, w) in final_w.iter_mut().enumerate() {
             if i % (SELECTORS + 1) < SELECTORS {
@@ -86,12 +98,11 @@ impl Mixer2 {
             }
         }
         Mixer2 {
-            weights: vec![w0; total],
+            weights: vec![row; total],
             base,
             sets,
             chosen: [0; SELECTORS],
             x: [0; MAX_INPUTS],
-            n,
             out: [0; SELECTORS + 1],
             out_p: [32768; SELECTORS],
             final_w,
@@ -106,8 +117,9 @@ impl Mixer2 {
 
     /// Bytes of a mixer of the same shape.
     pub(crate) fn memory_needed(n: usize, sets: [usize; SELECTORS], final_sets: usize) -> u64 {
-        let first: usize = sets.iter().map(|s| s * n.min(MAX_INPUTS)).sum();
-        4 * (first + final_sets * (SELECTORS + 1)) as u64
+        let _ = n;
+        let first: usize = sets.iter().sum();
+        (first * core::mem::size_of::<Row>() + 4 * final_sets * (SELECTORS + 1)) as u64
     }
 
     /// Mixes the inputs in `x` with the sets chosen by `ctx` and the second
@@ -115,17 +127,10 @@ impl Mixer2 {
     #[inline(always)]
     #[allow(clippy::needless_range_loop)]
     pub(crate) fn mix(&mut self, ctx: [usize; SELECTORS], final_ctx: usize) -> u32 {
-        let n = self.n;
-        let x = &self.x[..n];
         for k in 0..SELECTORS {
-            let at = self.base[k] + (ctx[k] & (self.sets[k] - 1)) * n;
+            let at = self.base[k] + (ctx[k] & (self.sets[k] - 1));
             self.chosen[k] = at;
-            let w = &self.weights[at..at + n];
-            let mut sum = 0i32;
-            for (xi, wi) in x.iter().zip(w) {
-                sum += (xi * wi) >> 16;
-            }
-            let s = sum.clamp(-2047, 2047);
+            let s = (dot(&self.x, &self.weights[at].0) >> 12).clamp(-2047, 2047);
             self.out[k] = s;
             self.out_p[k] = squash(s);
         }
@@ -152,14 +157,11 @@ impl Mixer2 {
     #[allow(clippy::needless_range_loop)]
     pub(crate) fn update(&mut self, bit: bool) {
         let y = if bit { 65536 } else { 0 };
-        let n = self.n;
         for k in 0..SELECTORS {
-            let err = (((y - self.out_p[k] as i32) >> 4) * self.rate) >> 6;
+            // The step of 16-bit weights, `x · err >> 10`, at 12 bits.
+            let err = ((((y - self.out_p[k] as i32) >> 4) * self.rate) >> 4).clamp(-32767, 32767);
             let at = self.chosen[k];
-            let w = &mut self.weights[at..at + n];
-            for (wi, xi) in w.iter_mut().zip(&self.x[..n]) {
-                *wi = (*wi + ((xi * err) >> 10)).clamp(-WEIGHT_LIMIT, WEIGHT_LIMIT);
-            }
+            train(&self.x, &mut self.weights[at].0, err);
         }
         let err = (((y - self.p as i32) >> 4) * self.final_rate) >> 6;
         let fw = &mut self.final_w[self.final_set..self.final_set + SELECTORS + 1];
@@ -186,7 +188,7 @@ mod tests {
         let mut cost = 0.0f64;
         for i in 0..20_000u32 {
             let bit = (i.wrapping_mul(2_654_435_761) >> 7) % 4 != 0; // p(1) = 3/4
-            m.x[0] = stretch(if bit { 60_000 } else { 6_000 });
+            m.x[0] = stretch(if bit { 60_000 } else { 6_000 }) as i16;
             m.x[1] = 0;
             let p = m.mix([0, i as usize, 1], 2) as f64 / 65536.0;
             if i > 10_000 {

@@ -51,6 +51,7 @@
 
 mod contexts;
 mod engine;
+mod kernel;
 mod mixer;
 mod params;
 mod referee;

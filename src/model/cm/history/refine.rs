@@ -1,28 +1,33 @@
 //! Adaptive probability maps for the history engine's refinement chain.
 //!
 //! Secondary estimation as in [`Apm`](crate::model::Apm): per context a
-//! curve of probabilities over the stretched input at steps of ½ in
+//! curve of probabilities over the stretched input at steps of 1 in
 //! log-odds, read by linear interpolation and trained at the two points
-//! read. A curve is 32 points, one 64-byte line, from log-odds −8 to 7.5;
-//! inputs above 7.5 are read as 7.5 (a probability of 0.9994, where the
-//! curve is nearly flat anyway), so a refinement touches one cache line. This copy adds [`touch`](Refiner::touch): the engine knows the
-//! two contexts the next bit can have (the partial byte with a 0 or a 1
-//! appended) before the current bit is coded, and reading their curves then
-//! brings them into cache while the current bit is mixed and coded, instead
-//! of waiting for them afterwards.
+//! read. A curve is 16 points (32 bytes, half a cache line) from log-odds
+//! −8 to 7; inputs above 7 are read as 7 (a probability of 0.9991, where
+//! the curve is nearly flat anyway), so a refinement touches one line, and
+//! 65536 curves take 2 MiB, a core's second-level cache. The engine knows
+//! the two contexts the next bit can have (the partial byte with a 0 or a 1
+//! appended) before the current bit is coded and hints both curves then
+//! ([`prefetch`](Refiner::prefetch)), so they arrive while the current bit
+//! is mixed and coded.
 //!
 //! Invariants: points stay in `0 ..= 65535`; contexts are masked to the
 //! table, a power of two.
 
 use alloc::vec::Vec;
 
+use super::kernel::prefetch;
 use crate::model::bit::logistic::squash;
 
-const POINTS: usize = 32;
+const POINTS: usize = 16;
 
-/// One curve, aligned to a cache line.
+/// Stretched units between two points.
+const STEP: u32 = 8;
+
+/// One curve, aligned to half a cache line.
 #[derive(Debug, Clone, Copy)]
-#[repr(C, align(64))]
+#[repr(C, align(32))]
 struct Curve([u16; POINTS]);
 
 /// A set of refinement curves.
@@ -41,7 +46,7 @@ impl Refiner {
         assert!(contexts.is_power_of_two());
         let mut identity = Curve([0; POINTS]);
         for (j, p) in identity.0.iter_mut().enumerate() {
-            *p = squash(((j as i32 - 16) * 128).clamp(-2047, 2047)) as u16;
+            *p = squash(((j as i32 - 8) << STEP).clamp(-2047, 2047)) as u16;
         }
         Refiner {
             table: alloc::vec![identity; contexts],
@@ -57,19 +62,20 @@ impl Refiner {
         (contexts * core::mem::size_of::<Curve>()) as u64
     }
 
-    /// Reads context `ctx`'s curve so that it is in cache when refined.
+    /// Hints context `ctx`'s curve, so that it is in cache when refined.
     #[inline(always)]
-    pub(crate) fn touch(&self, ctx: usize) -> u32 {
-        u32::from(self.table[ctx & self.mask].0[0])
+    pub(crate) fn prefetch(&self, ctx: usize) {
+        prefetch(&self.table, ctx & self.mask);
     }
 
     /// The refined probability of stretched input `st` in context `ctx`.
     #[inline(always)]
     pub(crate) fn refine(&mut self, st: i32, ctx: usize) -> u32 {
-        // 1 ..= 3967: `lo <= 30`, so `lo + 1` is a point of the curve.
-        let s = (st.clamp(-2047, 1919) + 2048) as u32;
-        let lo = (s >> 7) as usize;
-        let w = s & 127;
+        // 1 ..= 3839: `lo <= 14`, so `lo + 1` is a point of the curve.
+        let s = (st.clamp(-2047, 1791) + 2048) as u32;
+        let lo = (s >> STEP) as usize;
+        // The position between the two points, in 1/128.
+        let w = (s & 255) >> 1;
         let at = (ctx & self.mask) * POINTS + lo;
         self.index = at;
         self.weight = w;

@@ -9,13 +9,23 @@
 //! rarely seen contexts thus give way to new ones, and a collision of the
 //! check byte (one in 255 for a foreign context) only shares a history.
 //!
+//! Contexts of few values (the last byte) need no hash: behind the hashed
+//! table, each of [`DIRECT_VALUES`] values owns 17 slots, one for the high
+//! nibble and one for each low nibble, found without a search or a check.
+//!
+//! The low nibble's buckets are known, two at a time, before the high
+//! nibble's last bit is coded: [`prefetch_near`](Slots::prefetch_near)
+//! asks for both while that bit is mixed and coded.
+//!
 //! Invariants: every offset returned is a multiple of 16 inside the table;
-//! check bytes are never 0, so a zeroed slot is free; the table's size is a
-//! power of two of at least 64 KiB fixed at creation.
+//! check bytes are never 0, so a zeroed slot is free; the hashed part's
+//! size is a power of two of at least 64 KiB fixed at creation.
 
 use alloc::vec;
 use alloc::vec::Vec;
 
+use super::contexts::DIRECT_VALUES;
+use super::kernel::prefetch;
 use super::state::TOTAL;
 
 /// Bytes of one slot.
@@ -27,27 +37,69 @@ const WAYS: usize = 4;
 /// Offsets within a 4 KiB page.
 const PAGE_MASK: usize = 4095;
 
+/// Slots of one direct value: the high nibble's and sixteen low nibbles'.
+const PER_VALUE: usize = 17;
+
+/// Bytes of the direct slots.
+const DIRECT_BYTES: usize = DIRECT_VALUES * PER_VALUE * SLOT;
+
 /// The slot table.
 #[derive(Debug, Clone)]
 pub(crate) struct Slots {
     bytes: Vec<u8>,
     mask: usize,
+    /// Start of the direct slots (the hashed part's size).
+    direct: usize,
 }
 
 impl Slots {
-    /// Table bytes for a request of `bytes`: the largest power of two not
-    /// above it, at least one bucket.
-    pub(crate) fn size_for(bytes: u64) -> u64 {
+    /// Hashed table bytes for a request of `bytes`: the largest power of
+    /// two not above it, at least 64 KiB.
+    fn hashed_for(bytes: u64) -> u64 {
         let b = bytes.max(1 << 16);
         1u64 << (63 - b.leading_zeros())
     }
 
+    /// Table bytes for a request of `bytes`: the hashed part and the
+    /// direct slots.
+    pub(crate) fn size_for(bytes: u64) -> u64 {
+        Self::hashed_for(bytes) + DIRECT_BYTES as u64
+    }
+
     /// A zeroed table of [`size_for`](Slots::size_for)`(bytes)` bytes.
     pub(crate) fn new(bytes: u64) -> Self {
-        let n = usize::try_from(Self::size_for(bytes)).unwrap_or(1 << 30);
+        let n = usize::try_from(Self::hashed_for(bytes)).unwrap_or(1 << 30);
         Slots {
-            bytes: vec![0; n],
+            bytes: vec![0; n + DIRECT_BYTES],
             mask: (n - 1) & !(SLOT * WAYS - 1),
+            direct: n,
+        }
+    }
+
+    /// The slot of direct value `value` (below [`DIRECT_VALUES`]) for the
+    /// partial byte `c0` (1 for the high nibble, `16 + high` for the low).
+    #[inline(always)]
+    pub(crate) fn direct(&self, value: usize, c0: usize) -> usize {
+        let nibble = if c0 < 16 { 0 } else { c0 - 15 };
+        self.direct + ((value % DIRECT_VALUES) * PER_VALUE + nibble % PER_VALUE) * SLOT
+    }
+
+    /// The low-nibble bucket of the context whose near hash is `near` and
+    /// whose high-nibble slot is at `high`.
+    #[inline(always)]
+    fn near_bucket(&self, near: u64, high: usize) -> (usize, u8) {
+        let (line, check) = self.locate(near);
+        (
+            ((high & !PAGE_MASK) | (line & PAGE_MASK)) & self.mask,
+            check,
+        )
+    }
+
+    /// Hints the buckets of near hashes `near` (high-nibble slots `high`).
+    #[inline(always)]
+    pub(crate) fn prefetch_near<const N: usize>(&self, near: &[u64; N], high: &[usize; N]) {
+        for (&h, &o) in near.iter().zip(high) {
+            prefetch(&self.bytes, self.near_bucket(h, o).0);
         }
     }
 
@@ -80,11 +132,7 @@ impl Slots {
     ) {
         let mut at = [(0usize, 0u8); N];
         for ((a, &h), &high) in at.iter_mut().zip(hashes).zip(out.iter()) {
-            let (line, check) = self.locate(h);
-            *a = (
-                ((high & !PAGE_MASK) | (line & PAGE_MASK)) & self.mask,
-                check,
-            );
+            *a = self.near_bucket(h, high);
         }
         self.resolve_all(&at, out);
     }
@@ -157,7 +205,9 @@ mod tests {
     #[test]
     fn finds_again_and_replaces_the_weakest() {
         let mut t = Slots::new(1 << 10);
-        assert_eq!(t.bytes().len(), 1 << 16);
+        assert_eq!(t.bytes().len(), (1 << 16) + DIRECT_BYTES);
+        let d = t.direct(255, 31);
+        assert!(d >= 1 << 16 && d + SLOT <= t.bytes().len() && d.is_multiple_of(SLOT));
         let a = t.find(0x1100_0000_0000_0040);
         t.bytes_mut()[a + 1] = 30; // some history at node 1
         assert_eq!(t.find(0x1100_0000_0000_0040), a);

@@ -134,19 +134,6 @@ pub(crate) static TOTAL: [u8; 256] = {
     t
 };
 
-/// `RUN[state]`: whether the history holds bits of one value only (a
-/// deterministic context, Cleary & Witten 1984), and at least one.
-pub(crate) static RUN: [bool; 256] = {
-    let mut t = [false; 256];
-    let mut s = 0;
-    while s < STATES {
-        let (n0, n1) = PAIRS[s];
-        t[s] = (n0 == 0) != (n1 == 0);
-        s += 1;
-    }
-    t
-};
-
 /// The state after `bit`.
 #[inline(always)]
 pub(crate) fn next_state(state: u8, bit: bool) -> u8 {
