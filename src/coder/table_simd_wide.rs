@@ -25,6 +25,7 @@
 use core::arch::x86_64::*;
 
 use crate::coder::lane_dec::{DecodeTables, LaneState};
+use crate::coder::table_simd::{BY_SYMBOL, PACKED};
 
 /// Whether the running CPU has this kernel's instructions.
 pub(crate) fn supported() -> bool {
@@ -76,9 +77,10 @@ unsafe fn slot(code: __m512i, r: __m512i, last_slot: __m512i) -> __m512i {
 /// column `first` of rows `width` bytes wide, `chunk` holds whole rows, and
 /// every lane position stays below `buffer.len() - 3` for the rows of
 /// `chunk`; slot entries lie below `tables.slots.len()` for every slot
-/// below `tables.total`, and the symbol table has three bytes past it.
+/// below `tables.total` (by symbol: for every symbol), and the symbol
+/// table has three bytes past it.
 #[target_feature(enable = "avx512f,avx512bw")]
-pub(crate) unsafe fn rows<const G: usize, const PACKED: bool>(
+pub(crate) unsafe fn rows<const G: usize, const LAYOUT: u8>(
     group: &mut [LaneState],
     first: usize,
     width: usize,
@@ -137,8 +139,8 @@ pub(crate) unsafe fn rows<const G: usize, const PACKED: bool>(
             // SAFETY: `t < total <= slots.len()`; the symbol table has at
             // least three bytes of padding past `total` for the four-byte
             // read.
-            let entry = unsafe { _mm512_i32gather_epi32::<4>(t, slots.cast()) };
-            let (cum, freq, sym) = if PACKED {
+            let (cum, freq, sym) = if LAYOUT == PACKED {
+                let entry = unsafe { _mm512_i32gather_epi32::<4>(t, slots.cast()) };
                 let cum = _mm512_and_si512(entry, low12);
                 let freq = _mm512_and_si512(_mm512_srli_epi32::<12>(entry), low12);
                 (
@@ -150,9 +152,16 @@ pub(crate) unsafe fn rows<const G: usize, const PACKED: bool>(
                 // SAFETY: as for the entry; the symbol table has at least
                 // three bytes of padding past `total`.
                 let sym = unsafe { _mm512_i32gather_epi32::<1>(t, symbols.cast()) };
+                let sym = _mm512_and_si512(sym, low8);
+                // SAFETY: by symbol, `sym < 256 <= slots.len()`.
+                let entry = if LAYOUT == BY_SYMBOL {
+                    unsafe { _mm512_i32gather_epi32::<4>(sym, slots.cast()) }
+                } else {
+                    unsafe { _mm512_i32gather_epi32::<4>(t, slots.cast()) }
+                };
                 let cum = _mm512_and_si512(entry, low16);
                 let freq = _mm512_add_epi32(_mm512_srli_epi32::<16>(entry), one);
-                (cum, freq, _mm512_and_si512(sym, low8))
+                (cum, freq, sym)
             };
             let offset = _mm512_mullo_epi32(r, cum);
             let c = _mm512_sub_epi32(code[g], offset);
