@@ -344,6 +344,18 @@ impl LaneDecoder {
 
     /// A lane that has read past its stream and the four implicit zeros.
     fn truncated(&self) -> Result<()> {
+        // One pass without branches first: damage is rare.
+        let over = self
+            .lanes
+            .iter()
+            .zip(&self.starts)
+            .zip(&self.lens)
+            .fold(false, |over, ((lane, &at), &len)| {
+                over | (lane.pos - at > len + 4)
+            });
+        if !over {
+            return Ok(());
+        }
         for ((lane, &at), &len) in self.lanes.iter().zip(&self.starts).zip(&self.lens) {
             if lane.pos - at > len + 4 {
                 return Err(crate::Error::truncated(len as u64));
@@ -367,7 +379,9 @@ impl LaneDecoder {
             (n - self.next).min(out.len())
         };
         let (head, rest) = out.split_at_mut(head);
-        self.truncated()?;
+        if !head.is_empty() {
+            self.truncated()?;
+        }
         for b in head {
             *b = decode_step(&mut self.lanes[self.next], &self.buffer, tables);
             self.next = (self.next + 1) % n;
@@ -380,7 +394,9 @@ impl LaneDecoder {
             self.truncated()?;
             self.chunk(tables, chunk);
         }
-        self.truncated()?;
+        if !tail.is_empty() {
+            self.truncated()?;
+        }
         for (lane, b) in self.lanes.iter_mut().zip(tail.iter_mut()) {
             *b = decode_step(lane, &self.buffer, tables);
         }
