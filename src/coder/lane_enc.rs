@@ -223,55 +223,11 @@ pub(crate) fn best_encode_kernel(lanes: usize) -> EncodeVector {
     }
 }
 
-/// Largest region buffer kept for the next block of a thread (above, a
-/// block's buffer is freed with it).
-#[cfg(feature = "std")]
-const SPARE_MAX: usize = 16 << 20;
-
-#[cfg(feature = "std")]
-std::thread_local! {
-    /// The region buffer of the thread's last finished block, for its next
-    /// one: its pages are mapped already, and only the bytes a lane may
-    /// read before writing them are cleared again.
-    static SPARE: core::cell::Cell<Vec<u8>> = const { core::cell::Cell::new(Vec::new()) };
-}
-
-/// A buffer of `size` bytes for the lanes' regions: the thread's spare one
-/// when there is one (its contents are whatever the last block left), else
-/// a new one of zeros.
-fn region_buffer(size: usize) -> Vec<u8> {
-    #[cfg(feature = "std")]
-    {
-        let mut buf = SPARE.with(|spare| spare.take());
-        if buf.len() >= size {
-            buf.truncate(size);
-        } else {
-            buf.resize(size, 0);
-        }
-        buf
-    }
-    #[cfg(not(feature = "std"))]
-    vec![0u8; size]
-}
-
-/// The finished lane streams of a block, in the encoder's buffer (handed
-/// to the thread's next block when these are dropped).
+/// The finished lane streams of a block, in the encoder's buffer.
 pub(crate) struct LaneStreams {
     buf: Vec<u8>,
     stride: usize,
     lens: Vec<usize>,
-}
-
-impl Drop for LaneStreams {
-    fn drop(&mut self) {
-        #[cfg(feature = "std")]
-        if self.buf.capacity() <= SPARE_MAX {
-            let buf = core::mem::take(&mut self.buf);
-            // A thread being torn down has no spare any more: the buffer
-            // is then freed.
-            let _ = SPARE.try_with(|spare| spare.set(buf));
-        }
-    }
 }
 
 impl LaneStreams {
@@ -335,14 +291,8 @@ impl LaneEncoder {
         let size = stride * lanes;
         #[cfg(target_arch = "x86_64")]
         let kernel = kernel.filter(|k| k.fits(lanes) && size <= i32::MAX as usize);
-        let mut buf = region_buffer(size);
-        // Only the front bytes are ever read before they are written (a
-        // vector step reads the byte before a lane's position).
-        for front in buf.chunks_exact_mut(stride) {
-            front[..FRONT].fill(0);
-        }
         LaneEncoder {
-            buf,
+            buf: vec![0u8; size],
             stride,
             low: vec![0; lanes],
             range: vec![u32::MAX; lanes],
@@ -489,55 +439,5 @@ impl LaneEncoder {
         self.low[cols.clone()].copy_from_slice(&l);
         self.range[cols.clone()].copy_from_slice(&r);
         self.pos[cols].copy_from_slice(&p);
-    }
-}
-
-#[cfg(all(test, feature = "std"))]
-mod tests {
-    use super::*;
-    use crate::coder::encode_interleaved;
-    use crate::model::TableModel;
-
-    fn table_of(model: &TableModel) -> EncodeTable {
-        EncodeTable::new(model.frequencies(), model.cumulative(), model.log2_total())
-    }
-
-    /// A thread's spare buffer, whatever it holds (all 0xFF bytes, where a
-    /// carry would run furthest, or a previous block's streams), gives the
-    /// streams of the generic coder, on the scalar steps and on the best
-    /// vector kernel, for blocks of growing and shrinking sizes.
-    #[test]
-    fn a_dirty_spare_buffer_changes_no_byte() {
-        SPARE.with(|spare| spare.set(vec![0xFF; 3 << 20]));
-        let mut x = 0x2545_F491u32;
-        for (i, len) in [200_000usize, 1_000_003, 31, 0, 400_000, 1_500_000]
-            .into_iter()
-            .enumerate()
-        {
-            let data: Vec<u8> = (0..len)
-                .map(|_| {
-                    x ^= x << 13;
-                    x ^= x >> 17;
-                    x ^= x << 5;
-                    // Mostly one byte: long runs of 0xFF-bound carries.
-                    if x % 16 < 14 {
-                        b'a'
-                    } else {
-                        (x >> 8) as u8
-                    }
-                })
-                .collect();
-            let model = TableModel::from_bytes_histogram(&data, 12)
-                .unwrap_or_else(|_| TableModel::from_counts(&[1; 256], 12).unwrap());
-            let table = table_of(&model);
-            for lanes in [1usize, 16, 32] {
-                let want = encode_interleaved(&mut model.clone(), &data, lanes).unwrap();
-                for kernel in [None, best_encode_kernel(lanes)] {
-                    let mut enc = LaneEncoder::with_kernel(data.len(), lanes, kernel);
-                    enc.code(&data, &table);
-                    assert_eq!(enc.finish().into_vecs(), want, "block {i} lanes {lanes}");
-                }
-            }
-        }
     }
 }
