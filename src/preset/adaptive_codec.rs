@@ -205,10 +205,10 @@ pub(crate) fn decode(payload: &[u8], params: &[u32], out: &mut [u8]) -> Result<(
 
 /// Working memory to decode a block of up to `block_size` bytes, beyond the
 /// payload and output buffers: the model (counts, frequencies and
-/// cumulative frequencies, about 4 KiB), the lane decoder's slot and symbol
-/// tables (5 bytes per unit of the total), rounded up, plus its padded copy
-/// of the lanes (the payload, shorter than the block, and its padding per
-/// lane).
+/// cumulative frequencies, about 4 KiB), the lane decoder's tables (a
+/// symbol byte per unit of the total and 1 KiB of spans), rounded up to 8
+/// bytes per unit, plus its padded copy of the lanes (the payload, shorter
+/// than the block, and its padding per lane).
 pub(crate) fn working_memory(params: &[u32], block_size: u64) -> u64 {
     let tables = 8192 + (8u64 << params[1]);
     let pad = crate::coder::LANE_PAD as u64 * crate::coder::MAX_LANES as u64;
