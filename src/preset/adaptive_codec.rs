@@ -159,8 +159,9 @@ impl Codec for Adaptive {
     }
 
     /// The model (counts, frequencies and cumulative frequencies, about 4
-    /// KiB) and the lane decoder's slot and symbol tables (5 bytes per unit
-    /// of the total), rounded up, plus its padded copy of the lanes.
+    /// KiB) and the lane decoder's tables (a symbol byte per unit of the
+    /// total and 1 KiB of spans), rounded up to 8 bytes per unit, plus its
+    /// padded copy of the lanes.
     fn working_memory(p: &Params, block_size: u64) -> u64 {
         decoder_memory(8192 + (8u64 << p.refresh.log2_total), block_size)
     }

@@ -60,18 +60,38 @@ impl LaneState {
 /// the padding after the last slot.
 const FILL: usize = 16;
 
-/// The decoding tables of one byte table, one entry per slot of the total.
+/// Symbols a fill of the by-symbol layout writes at once (see
+/// [`fill_by_symbol`]); also the padding after the last slot of its
+/// symbol table.
+const SYMBOL_FILL: usize = 64;
+
+/// The decoding tables of one byte table.
+///
+/// Two layouts. Per slot (the default, one lookup a step): one entry per
+/// slot of the total, `cum | (freq - 1) << 12 | symbol << 24` when `packed`
+/// (totals up to 2^12), else `cum | (freq - 1) << 16` and the symbol in a
+/// table of its own. By symbol ([`DecodeTables::by_symbol`], two dependent
+/// lookups a step): one symbol byte per slot, then one entry
+/// `cum | (freq - 1) << 16` per symbol; a quarter of the bytes to write per
+/// table, for tables that change every few hundred symbols.
 pub(crate) struct DecodeTables {
-    /// Per slot: `cum | (freq - 1) << 12 | symbol << 24` when `packed`
-    /// (totals up to 2^12), else `cum | (freq - 1) << 16`; [`FILL`] more
-    /// entries of padding follow.
+    /// Per slot its entry (per-slot layout; [`FILL`] more entries of
+    /// padding follow), or per symbol its entry (by-symbol layout; 256
+    /// entries).
     pub(crate) slots: Vec<u32>,
-    /// Per slot when not `packed`: its symbol; [`FILL`] bytes of padding
-    /// follow (covering four-byte reads at the last slot).
+    /// Per slot, when not `packed`: its symbol; [`SYMBOL_FILL`] bytes of
+    /// padding follow (covering four-byte reads at the last slot).
     pub(crate) symbols: Vec<u8>,
     pub(crate) shift: u32,
     pub(crate) total: u32,
+    /// The per-slot entries carry the symbol (totals up to 2^12, per-slot
+    /// layout).
     pub(crate) packed: bool,
+    /// The by-symbol layout.
+    pub(crate) by_symbol: bool,
+    /// By symbol: the symbols with a frequency when the tables were made,
+    /// the only ones a table update may give one.
+    pub(crate) codable: Vec<u8>,
 }
 
 impl DecodeTables {
@@ -84,23 +104,62 @@ impl DecodeTables {
             shift,
             total: 1 << shift,
             packed: shift <= 12,
+            by_symbol: false,
+            codable: Vec::new(),
         };
         t.set(freq, cum, shift);
         t
     }
 
-    /// Replaces the tables' contents, reusing their storage.
+    /// The tables of `freq` / `cum` as [`new`](Self::new) makes them, in
+    /// the by-symbol layout (see [`DecodeTables`]). Later updates
+    /// ([`set`](Self::set)) must give frequencies to the same symbols (as
+    /// the tables of an adaptive model do);
+    /// other tables decode wrongly, without leaving the tables' bounds.
+    pub(crate) fn by_symbol(freq: &[u32], cum: &[u32], shift: u32) -> Self {
+        let mut t = DecodeTables {
+            slots: Vec::new(),
+            symbols: Vec::new(),
+            shift,
+            total: 1 << shift,
+            packed: false,
+            by_symbol: true,
+            codable: (0..freq.len().min(256))
+                .filter(|&s| freq[s] > 0)
+                .map(|s| s as u8)
+                .collect(),
+        };
+        t.set(freq, cum, shift);
+        t
+    }
+
+    /// Replaces the tables' contents, reusing their storage and keeping
+    /// their layout.
     ///
-    /// Spans are filled a block of [`FILL`] entries at a time, in symbol
-    /// order, each block possibly running past its span into the next
-    /// symbol's (which then overwrites it) or into the padding after the
-    /// last slot. With totals up to 2^12 the symbol is part of the slot
-    /// entry and the separate symbol table is not filled.
+    /// Spans are filled a block of [`FILL`] entries (by symbol:
+    /// [`SYMBOL_FILL`] bytes) at a time, in symbol order, each block
+    /// possibly running past its span into the next symbol's (which then
+    /// overwrites it) or into the padding after the last slot. With totals
+    /// up to 2^12 the symbol is part of the slot entry and the separate
+    /// symbol table is not filled.
     pub(crate) fn set(&mut self, freq: &[u32], cum: &[u32], shift: u32) {
         debug_assert!(freq.len() <= 256 && shift <= 16);
         let total = 1usize << shift;
         self.shift = shift;
         self.total = total as u32;
+        if self.by_symbol {
+            debug_assert!(
+                (0..freq.len()).all(|s| (freq[s] > 0) == self.codable.contains(&(s as u8)))
+            );
+            self.slots.resize(256, 0);
+            self.symbols.resize(total + SYMBOL_FILL, 0);
+            #[cfg(target_arch = "x86_64")]
+            if super::simd::decode::fill_symbol_tables(self, freq, cum) {
+                return;
+            }
+            fill_by_symbol(self, freq, cum);
+            return;
+        }
         self.packed = shift <= 12;
         self.slots.resize(total + FILL, 0);
         self.symbols.resize(total + FILL, 0);
@@ -156,6 +215,31 @@ pub(crate) fn fill_spans(t: &mut DecodeTables, freq: &[u32], cum: &[u32]) {
     }
 }
 
+/// Writes the by-symbol tables of `freq` / `cum` into `t` (see
+/// [`DecodeTables::set`]). Plain code, compiled once more for wider vectors
+/// where the CPU has them (`simd::decode::fill_symbol_tables`).
+///
+/// The loop runs over the codable symbols listed when the tables were made
+/// (the symbols a table update may give a frequency), and its one branch,
+/// whether a span is longer than a block, is mostly not taken.
+#[inline(always)]
+pub(crate) fn fill_by_symbol(t: &mut DecodeTables, freq: &[u32], cum: &[u32]) {
+    for &s in &t.codable {
+        let s = usize::from(s);
+        let (f, c) = (freq[s], cum[s]);
+        t.slots[s] = c | f.saturating_sub(1) << 16;
+        let block = [s as u8; SYMBOL_FILL];
+        let (mut at, end) = (c as usize, (c + f) as usize);
+        loop {
+            t.symbols[at..at + SYMBOL_FILL].copy_from_slice(&block);
+            at += SYMBOL_FILL;
+            if at >= end {
+                break;
+            }
+        }
+    }
+}
+
 /// One decoding step; returns the symbol. Positions stay inside the lane's
 /// padding (checked by the caller between chunks), where bytes read as zero.
 #[inline(always)]
@@ -163,11 +247,20 @@ fn decode_step(lane: &mut LaneState, buffer: &[u8], tables: &DecodeTables) -> u8
     let total = tables.total;
     let r = (lane.range >> tables.shift).max(1);
     let t = (lane.code / r).min(total - 1) as usize;
-    let e = tables.slots.get(t).copied().unwrap_or(0);
-    let sym = if tables.packed {
-        (e >> 24) as u8
+    let (e, sym) = if tables.by_symbol {
+        let sym = tables.symbols.get(t).copied().unwrap_or(0);
+        (
+            tables.slots.get(usize::from(sym)).copied().unwrap_or(0),
+            sym,
+        )
     } else {
-        tables.symbols.get(t).copied().unwrap_or(0)
+        let e = tables.slots.get(t).copied().unwrap_or(0);
+        let sym = if tables.packed {
+            (e >> 24) as u8
+        } else {
+            tables.symbols.get(t).copied().unwrap_or(0)
+        };
+        (e, sym)
     };
     let (cum, freq) = tables.span(e);
     let offset = r.wrapping_mul(cum);
@@ -250,6 +343,18 @@ impl LaneDecoder {
 
     /// A lane that has read past its stream and the four implicit zeros.
     fn truncated(&self) -> Result<()> {
+        // One pass without branches first: damage is rare.
+        let over = self
+            .lanes
+            .iter()
+            .zip(&self.starts)
+            .zip(&self.lens)
+            .fold(false, |over, ((lane, &at), &len)| {
+                over | (lane.pos - at > len + 4)
+            });
+        if !over {
+            return Ok(());
+        }
         for ((lane, &at), &len) in self.lanes.iter().zip(&self.starts).zip(&self.lens) {
             if lane.pos - at > len + 4 {
                 return Err(crate::Error::truncated(len as u64));
@@ -273,7 +378,9 @@ impl LaneDecoder {
             (n - self.next).min(out.len())
         };
         let (head, rest) = out.split_at_mut(head);
-        self.truncated()?;
+        if !head.is_empty() {
+            self.truncated()?;
+        }
         for b in head {
             *b = decode_step(&mut self.lanes[self.next], &self.buffer, tables);
             self.next = (self.next + 1) % n;
@@ -286,7 +393,9 @@ impl LaneDecoder {
             self.truncated()?;
             self.chunk(tables, chunk);
         }
-        self.truncated()?;
+        if !tail.is_empty() {
+            self.truncated()?;
+        }
         for (lane, b) in self.lanes.iter_mut().zip(tail.iter_mut()) {
             *b = decode_step(lane, &self.buffer, tables);
         }
@@ -390,6 +499,51 @@ mod tests {
             assert!((200..250).all(|s| symbol(&t, s) == 1));
             assert!((250..total as usize).all(|s| symbol(&t, s) == 2));
             assert_eq!(t.span(t.slots[249]), (200, 50));
+        }
+    }
+
+    /// The by-symbol layout gives every slot the symbol and span of the
+    /// per-slot layout, through updates that move every boundary (spans
+    /// shorter and longer than a fill block, absent symbols in between).
+    #[test]
+    fn by_symbol_tables_match_the_per_slot_tables() {
+        for shift in [8u32, 12, 16] {
+            let total = 1u32 << shift;
+            let tables = |round: u32| {
+                let mut freq = [0u32; 256];
+                for (s, f) in freq.iter_mut().enumerate() {
+                    if s % 3 != 1 {
+                        *f = 1 + (s as u32 * (round + 5)) % (total >> 8);
+                    }
+                }
+                let rest = total - freq.iter().sum::<u32>();
+                freq[(round as usize * 41) % 256 / 3 * 3] += rest;
+                let mut cum = [0u32; 257];
+                for s in 0..256 {
+                    cum[s + 1] = cum[s] + freq[s];
+                }
+                (freq, cum)
+            };
+            let (freq, cum) = tables(0);
+            let mut by = DecodeTables::by_symbol(&freq, &cum, shift);
+            for round in 0..4 {
+                let (freq, cum) = tables(round);
+                by.set(&freq, &cum, shift);
+                let per = DecodeTables::new(&freq, &cum, shift);
+                for t in 0..total as usize {
+                    let (sym, entry) = if per.packed {
+                        ((per.slots[t] >> 24) as u8, per.slots[t])
+                    } else {
+                        (per.symbols[t], per.slots[t])
+                    };
+                    assert_eq!(by.symbols[t], sym, "shift {shift} round {round} slot {t}");
+                    assert_eq!(
+                        by.span(by.slots[usize::from(sym)]),
+                        per.span(entry),
+                        "shift {shift} round {round} slot {t}"
+                    );
+                }
+            }
         }
     }
 }

@@ -264,6 +264,7 @@ impl AdaptiveModel {
     ///
     /// When `symbols` is longer than [`segment_left`](Self::segment_left)
     /// (a run must not cross a refresh).
+    #[inline(always)]
     pub fn update_run(&mut self, symbols: &[u8]) {
         assert!(symbols.len() as u64 <= self.left, "a run crosses a refresh");
         // Values past the alphabet (never coded) are counted but never
@@ -278,6 +279,13 @@ impl AdaptiveModel {
         }
     }
 
+    /// [`refresh`](Self::refresh) kept out of line, for the per-symbol path.
+    #[inline(never)]
+    fn refresh_cold(&mut self) {
+        self.refresh();
+    }
+
+    #[inline(always)]
     fn refresh(&mut self) {
         while self.count_total > u64::from(self.params.limit) {
             let mut sum = 0;
@@ -293,6 +301,10 @@ impl AdaptiveModel {
     }
 
     /// Quantises the counts to the table (see [`frequencies`](Self::frequencies)).
+    ///
+    /// Inlined into its callers so that the lane coders can compile it for
+    /// wider vectors (the adaptive lanes' `learn_run`).
+    #[inline(always)]
     fn rebuild(&mut self) {
         let total = 1u32 << self.params.log2_total;
         let mut counted = 0u64;
@@ -337,13 +349,20 @@ impl AdaptiveModel {
                 self.take(top, sum - total);
             }
         }
-        let mut acc = 0;
-        for (c, &f) in self.cum.iter_mut().zip(&self.freq) {
-            *c = acc;
-            acc += f;
+        // The running sums of four quarters side by side: four short
+        // dependency chains in place of one long one.
+        let quarter: [u32; 4] =
+            core::array::from_fn(|q| self.freq[64 * q..64 * q + 64].iter().sum());
+        let mut acc = [0, quarter[0], quarter[0] + quarter[1], 0];
+        acc[3] = acc[2] + quarter[2];
+        for i in 0..64 {
+            for (q, a) in acc.iter_mut().enumerate() {
+                self.cum[64 * q + i] = *a;
+                *a += self.freq[64 * q + i];
+            }
         }
-        self.cum[256] = acc;
-        debug_assert_eq!(acc, total);
+        self.cum[256] = acc[3];
+        debug_assert_eq!(acc[3], total);
     }
 
     /// Removes `excess` units: up to half of `top`'s frequency from it, the
@@ -396,7 +415,7 @@ impl Model for AdaptiveModel {
         }
         self.left -= 1;
         if self.left == 0 {
-            self.refresh();
+            self.refresh_cold();
         }
     }
 }
@@ -414,6 +433,7 @@ impl LaneTable for AdaptiveModel {
     fn segment_left(&self) -> u64 {
         self.segment_left()
     }
+    #[inline(always)]
     fn update_run(&mut self, symbols: &[u8]) {
         self.update_run(symbols)
     }

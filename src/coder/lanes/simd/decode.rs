@@ -15,7 +15,10 @@
 //!    CPU.
 //! 2. One gather reads the slot's packed entry: `cum | (freq - 1) << 12 |
 //!    symbol << 24` for totals up to 2^12, otherwise `cum | (freq - 1) << 16`
-//!    with a second gather (off the critical path) for the symbol.
+//!    with a second gather (off the critical path) for the symbol. In the
+//!    by-symbol layout (the refreshed lanes, whose tables change every few
+//!    hundred symbols) one gather reads the slot's symbol byte and a
+//!    second, dependent one the symbol's entry `cum | (freq - 1) << 16`.
 //! 3. `code -= r * cum`; `range = r * freq`, or `range - r * cum` for the
 //!    last symbol of the table.
 //! 4. Renormalisation takes zero, one or two bytes per lane at once from a
@@ -35,7 +38,8 @@
 use core::arch::x86_64::*;
 
 use super::Kernel;
-use crate::coder::lanes::decode::{fill_spans, DecodeTables, LaneState};
+use crate::coder::lanes::decode::{fill_by_symbol, fill_spans, DecodeTables, LaneState};
+use crate::coder::lanes::LaneTable;
 
 /// Fills the decoding tables of `freq` / `cum` (see `DecodeTables::set`)
 /// with the widest stores the CPU has: the table fill of the refreshed
@@ -58,6 +62,50 @@ pub(crate) fn fill_tables(t: &mut DecodeTables, freq: &[u32], cum: &[u32]) -> bo
     }
 }
 
+/// [`fill_tables`] for the by-symbol layout (`lanes::decode::fill_by_symbol`).
+pub(crate) fn fill_symbol_tables(t: &mut DecodeTables, freq: &[u32], cum: &[u32]) -> bool {
+    if Kernel::Avx512Wide.supported() {
+        // SAFETY: the CPU has AVX-512 F and BW (checked); the function is
+        // safe code compiled for them.
+        unsafe { fill_symbols_avx512(t, freq, cum) };
+        true
+    } else if Kernel::Avx2.supported() {
+        // SAFETY: the CPU has AVX2 (checked); the function is safe code
+        // compiled for it.
+        unsafe { fill_symbols_avx2(t, freq, cum) };
+        true
+    } else {
+        false
+    }
+}
+
+#[target_feature(enable = "avx512f,avx512bw")]
+fn fill_symbols_avx512(t: &mut DecodeTables, freq: &[u32], cum: &[u32]) {
+    fill_by_symbol(t, freq, cum);
+}
+
+#[target_feature(enable = "avx2")]
+fn fill_symbols_avx2(t: &mut DecodeTables, freq: &[u32], cum: &[u32]) {
+    fill_by_symbol(t, freq, cum);
+}
+
+/// Slot layouts of the kernels' `LAYOUT` parameter: the per-slot entry
+/// carries the symbol.
+pub(crate) const PACKED: u8 = 0;
+/// The per-slot entry and a per-slot symbol table.
+pub(crate) const WIDE: u8 = 1;
+/// A per-slot symbol table, then a per-symbol entry.
+pub(crate) const BY_SYMBOL: u8 = 2;
+
+/// The `LAYOUT` parameter of the kernels for `tables`.
+pub(crate) fn layout(tables: &DecodeTables) -> u8 {
+    match (tables.by_symbol, tables.packed) {
+        (true, _) => BY_SYMBOL,
+        (false, true) => PACKED,
+        (false, false) => WIDE,
+    }
+}
+
 #[target_feature(enable = "avx512f,avx512bw")]
 fn fill_avx512(t: &mut DecodeTables, freq: &[u32], cum: &[u32]) {
     fill_spans(t, freq, cum);
@@ -66,6 +114,34 @@ fn fill_avx512(t: &mut DecodeTables, freq: &[u32], cum: &[u32]) {
 #[target_feature(enable = "avx2")]
 fn fill_avx2(t: &mut DecodeTables, freq: &[u32], cum: &[u32]) {
     fill_spans(t, freq, cum);
+}
+
+/// [`LaneTable::update_run`] compiled for the widest vectors the CPU
+/// has: the refresh at the end of a segment quantises all 256 counts and
+/// sums them up, loops that run several times faster on 256- or 512-bit
+/// vectors. Same results on every CPU.
+pub(crate) fn learn_run<T: LaneTable + ?Sized>(model: &mut T, run: &[u8]) {
+    if Kernel::Avx512Wide.supported() {
+        // SAFETY: the CPU has AVX-512 F and BW (checked); the function is
+        // safe code compiled for them.
+        unsafe { learn_avx512(model, run) }
+    } else if Kernel::Avx2.supported() {
+        // SAFETY: the CPU has AVX2 (checked); the function is safe code
+        // compiled for it.
+        unsafe { learn_avx2(model, run) }
+    } else {
+        model.update_run(run);
+    }
+}
+
+#[target_feature(enable = "avx512f,avx512bw")]
+fn learn_avx512<T: LaneTable + ?Sized>(model: &mut T, run: &[u8]) {
+    model.update_run(run);
+}
+
+#[target_feature(enable = "avx2")]
+fn learn_avx2<T: LaneTable + ?Sized>(model: &mut T, run: &[u8]) {
+    model.update_run(run);
 }
 
 /// Decodes whole rows of `chunk` (row-major, one symbol per lane a row),
@@ -92,10 +168,15 @@ pub(crate) fn decode_rows(
     for lane in lanes.iter() {
         assert!(lane.pos + 2 * rows + 4 <= buffer.len());
     }
-    assert!(tables.slots.len() >= tables.total as usize);
+    if tables.by_symbol {
+        assert!(tables.slots.len() >= 256 && !tables.packed);
+    } else {
+        assert!(tables.slots.len() >= tables.total as usize);
+        assert_eq!(tables.packed, tables.shift <= 12);
+    }
     assert!(tables.symbols.len() >= tables.total as usize + 3);
     assert!((8..=16).contains(&tables.shift));
-    assert_eq!(tables.packed, tables.shift <= 12);
+    let layout = layout(tables);
     if kernel == Kernel::Avx512Wide {
         let mut first = 0;
         while first < n {
@@ -106,11 +187,13 @@ pub(crate) fn decode_rows(
             // kernel relies on (see `decode_rows` of the narrow build).
             unsafe {
                 use super::decode_wide::rows;
-                match (vectors, tables.packed) {
-                    (2, true) => rows::<2, true>(group, first, n, buffer, tables, chunk),
-                    (2, false) => rows::<2, false>(group, first, n, buffer, tables, chunk),
-                    (_, true) => rows::<1, true>(group, first, n, buffer, tables, chunk),
-                    (_, false) => rows::<1, false>(group, first, n, buffer, tables, chunk),
+                match (vectors, layout) {
+                    (2, PACKED) => rows::<2, PACKED>(group, first, n, buffer, tables, chunk),
+                    (2, WIDE) => rows::<2, WIDE>(group, first, n, buffer, tables, chunk),
+                    (2, _) => rows::<2, BY_SYMBOL>(group, first, n, buffer, tables, chunk),
+                    (_, PACKED) => rows::<1, PACKED>(group, first, n, buffer, tables, chunk),
+                    (_, WIDE) => rows::<1, WIDE>(group, first, n, buffer, tables, chunk),
+                    (_, _) => rows::<1, BY_SYMBOL>(group, first, n, buffer, tables, chunk),
                 }
             }
             first += 16 * vectors;
@@ -138,21 +221,32 @@ pub(crate) fn decode_rows(
         // slots are below `total`, and `chunk` holds `rows * n` bytes, of
         // which the pass writes columns `first .. first + 8 * vectors`.
         unsafe {
-            match (kernel, vectors, tables.packed) {
-                (Kernel::Avx512, 4, true) => rows_avx512::<4, true>(group, &pass, chunk),
-                (Kernel::Avx512, 4, false) => rows_avx512::<4, false>(group, &pass, chunk),
-                (Kernel::Avx512, 2, true) => rows_avx512::<2, true>(group, &pass, chunk),
-                (Kernel::Avx512, 2, false) => rows_avx512::<2, false>(group, &pass, chunk),
-                (Kernel::Avx512, _, true) => rows_avx512::<1, true>(group, &pass, chunk),
-                (Kernel::Avx512, _, false) => rows_avx512::<1, false>(group, &pass, chunk),
-                (Kernel::Avx2, 2, true) => rows_avx2::<2, true>(group, &pass, chunk),
-                (Kernel::Avx2, 2, false) => rows_avx2::<2, false>(group, &pass, chunk),
-                (Kernel::Avx2 | Kernel::Avx512Wide, _, true) => {
-                    rows_avx2::<1, true>(group, &pass, chunk)
-                }
-                (Kernel::Avx2 | Kernel::Avx512Wide, _, false) => {
-                    rows_avx2::<1, false>(group, &pass, chunk)
-                }
+            match (kernel, vectors) {
+                (Kernel::Avx512, 4) => match layout {
+                    PACKED => rows_avx512::<4, PACKED>(group, &pass, chunk),
+                    WIDE => rows_avx512::<4, WIDE>(group, &pass, chunk),
+                    _ => rows_avx512::<4, BY_SYMBOL>(group, &pass, chunk),
+                },
+                (Kernel::Avx512, 2) => match layout {
+                    PACKED => rows_avx512::<2, PACKED>(group, &pass, chunk),
+                    WIDE => rows_avx512::<2, WIDE>(group, &pass, chunk),
+                    _ => rows_avx512::<2, BY_SYMBOL>(group, &pass, chunk),
+                },
+                (Kernel::Avx512, _) => match layout {
+                    PACKED => rows_avx512::<1, PACKED>(group, &pass, chunk),
+                    WIDE => rows_avx512::<1, WIDE>(group, &pass, chunk),
+                    _ => rows_avx512::<1, BY_SYMBOL>(group, &pass, chunk),
+                },
+                (_, 2) => match layout {
+                    PACKED => rows_avx2::<2, PACKED>(group, &pass, chunk),
+                    WIDE => rows_avx2::<2, WIDE>(group, &pass, chunk),
+                    _ => rows_avx2::<2, BY_SYMBOL>(group, &pass, chunk),
+                },
+                _ => match layout {
+                    PACKED => rows_avx2::<1, PACKED>(group, &pass, chunk),
+                    WIDE => rows_avx2::<1, WIDE>(group, &pass, chunk),
+                    _ => rows_avx2::<1, BY_SYMBOL>(group, &pass, chunk),
+                },
             }
         }
         first += 8 * vectors;
@@ -221,7 +315,7 @@ unsafe fn slot(code: __m256i, r: __m256i, last_slot: __m256i) -> __m256i {
 }
 
 /// Defines one build of the kernel: `G` vectors of eight lanes a pass,
-/// `PACKED` for the one-gather slot layout.
+/// `LAYOUT` the tables' layout ([`PACKED`], [`WIDE`] or [`BY_SYMBOL`]).
 macro_rules! kernel {
     ($name:ident, $features:literal) => {
         /// One pass over `8 * G` lanes (see the module documentation).
@@ -231,7 +325,7 @@ macro_rules! kernel {
         /// The CPU has the function's target features, `group` has
         /// `8 * G` lanes, and the bounds of [`decode_rows`] hold.
         #[target_feature(enable = $features)]
-        unsafe fn $name<const G: usize, const PACKED: bool>(
+        unsafe fn $name<const G: usize, const LAYOUT: u8>(
             group: &mut [LaneState],
             pass: &Pass<'_>,
             chunk: &mut [u8],
@@ -292,9 +386,11 @@ macro_rules! kernel {
                     // SAFETY: the kernel's features include AVX2.
                     let t = unsafe { slot(code[g], r, last_slot) };
 
-                    // SAFETY: `t < total <= slots.len()`.
-                    let entry = unsafe { _mm256_i32gather_epi32::<4>(slots, t) };
-                    let (cum, freq, sym) = if PACKED {
+                    // SAFETY: `t < total <= slots.len()`; the symbol table has at
+                    // least three bytes of padding past `total` for the four-byte
+                    // read.
+                    let (cum, freq, sym) = if LAYOUT == PACKED {
+                        let entry = unsafe { _mm256_i32gather_epi32::<4>(slots, t) };
                         let cum = _mm256_and_si256(entry, low12);
                         let freq = _mm256_and_si256(_mm256_srli_epi32::<12>(entry), low12);
                         (
@@ -307,9 +403,16 @@ macro_rules! kernel {
                         // three bytes of padding past `total` for the four-byte
                         // read.
                         let sym = unsafe { _mm256_i32gather_epi32::<1>(symbols, t) };
+                        let sym = _mm256_and_si256(sym, low8);
+                        // SAFETY: by symbol, `sym < 256 <= slots.len()`.
+                        let entry = if LAYOUT == BY_SYMBOL {
+                            unsafe { _mm256_i32gather_epi32::<4>(slots, sym) }
+                        } else {
+                            unsafe { _mm256_i32gather_epi32::<4>(slots, t) }
+                        };
                         let cum = _mm256_and_si256(entry, low16);
                         let freq = _mm256_add_epi32(_mm256_srli_epi32::<16>(entry), one);
-                        (cum, freq, _mm256_and_si256(sym, low8))
+                        (cum, freq, sym)
                     };
                     let offset = _mm256_mullo_epi32(r, cum);
                     let c = _mm256_sub_epi32(code[g], offset);
