@@ -386,10 +386,8 @@ macro_rules! kernel {
                     // SAFETY: the kernel's features include AVX2.
                     let t = unsafe { slot(code[g], r, last_slot) };
 
-                    // SAFETY: `t < total <= slots.len()`; the symbol table has at
-                    // least three bytes of padding past `total` for the four-byte
-                    // read.
                     let (cum, freq, sym) = if LAYOUT == PACKED {
+                        // SAFETY: `t < total <= slots.len()`.
                         let entry = unsafe { _mm256_i32gather_epi32::<4>(slots, t) };
                         let cum = _mm256_and_si256(entry, low12);
                         let freq = _mm256_and_si256(_mm256_srli_epi32::<12>(entry), low12);
@@ -404,10 +402,11 @@ macro_rules! kernel {
                         // read.
                         let sym = unsafe { _mm256_i32gather_epi32::<1>(symbols, t) };
                         let sym = _mm256_and_si256(sym, low8);
-                        // SAFETY: by symbol, `sym < 256 <= slots.len()`.
                         let entry = if LAYOUT == BY_SYMBOL {
+                            // SAFETY: by symbol, `sym < 256 <= slots.len()`.
                             unsafe { _mm256_i32gather_epi32::<4>(slots, sym) }
                         } else {
+                            // SAFETY: `t < total <= slots.len()`.
                             unsafe { _mm256_i32gather_epi32::<4>(slots, t) }
                         };
                         let cum = _mm256_and_si256(entry, low16);

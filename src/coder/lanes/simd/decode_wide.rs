@@ -144,11 +144,12 @@ unsafe fn narrow<const LAYOUT: u8>(
         // bytes of padding past the total.
         let sym = unsafe { _mm512_i32gather_epi32::<1>(t, at.symbols.cast()) };
         let sym = _mm512_and_si512(sym, low8);
-        // SAFETY: by symbol, `sym < 256` and the symbols' entries are
-        // readable; otherwise `t` is below the total.
         let entry = if LAYOUT == BY_SYMBOL {
+            // SAFETY: by symbol, `sym < 256` and the symbols' entries are
+            // readable.
             unsafe { _mm512_i32gather_epi32::<4>(sym, at.slots.cast()) }
         } else {
+            // SAFETY: `t` is below the total.
             unsafe { _mm512_i32gather_epi32::<4>(t, at.slots.cast()) }
         };
         let cum = _mm512_and_si512(entry, low16);

@@ -62,6 +62,8 @@ mod state;
 use alloc::vec::Vec;
 
 use crate::coder::{Decoder, Encoder, IdealCost};
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 #[cfg(test)]
 use crate::model::cm::io::BitIo;

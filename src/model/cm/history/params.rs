@@ -1,5 +1,7 @@
 //! Parameters of the history engine and the memory they need.
 
+#[cfg(doc)]
+use crate::error::ErrorKind;
 use crate::error::Result;
 
 use super::engine::Engine;
