@@ -23,7 +23,7 @@ fn every_preset_round_trips_through_files() {
             out.stdout.is_empty() && out.stderr.is_empty(),
             "{name}: quiet on success"
         );
-        let packed = fs::read(dir.join(&format!("{input}.sr"))).unwrap();
+        let packed = fs::read(dir.join(format!("{input}.sr"))).unwrap();
         assert!(packed.len() < data.len(), "{name} compresses text");
         // The input is left alone.
         assert_eq!(fs::read(dir.join(&input)).unwrap(), data);

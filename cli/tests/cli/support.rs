@@ -5,52 +5,22 @@ use std::fs;
 use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output, Stdio};
-use std::sync::atomic::{AtomicU32, Ordering};
 
-/// A fresh directory under the system's temporary directory, removed on drop.
-pub struct Scratch(PathBuf);
+#[path = "../../src/scratch.rs"]
+mod scratch;
+pub use scratch::Scratch;
 
-impl Scratch {
-    pub fn new(tag: &str) -> Self {
-        static N: AtomicU32 = AtomicU32::new(0);
-        let dir = std::env::temp_dir().join(format!(
-            "subrange-cli-{tag}-{}-{}",
-            std::process::id(),
-            N.fetch_add(1, Ordering::Relaxed)
-        ));
-        let _ = fs::remove_dir_all(&dir);
-        fs::create_dir_all(&dir).unwrap();
-        Scratch(dir)
-    }
+/// Writing into a scratch directory, for the tests that prepare inputs.
+pub trait ScratchFiles {
+    /// Writes `bytes` to `name` in the directory and returns its path.
+    fn write(&self, name: &str, bytes: &[u8]) -> PathBuf;
+}
 
-    pub fn path(&self) -> &Path {
-        &self.0
-    }
-
-    pub fn join(&self, name: &str) -> PathBuf {
-        self.0.join(name)
-    }
-
-    pub fn write(&self, name: &str, bytes: &[u8]) -> PathBuf {
+impl ScratchFiles for Scratch {
+    fn write(&self, name: &str, bytes: &[u8]) -> PathBuf {
         let p = self.join(name);
         fs::write(&p, bytes).unwrap();
         p
-    }
-
-    /// The names in the directory, sorted (temporary files included).
-    pub fn entries(&self) -> Vec<String> {
-        let mut v: Vec<String> = fs::read_dir(&self.0)
-            .unwrap()
-            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
-            .collect();
-        v.sort();
-        v
-    }
-}
-
-impl Drop for Scratch {
-    fn drop(&mut self) {
-        let _ = fs::remove_dir_all(&self.0);
     }
 }
 
