@@ -17,6 +17,11 @@ use crate::serial;
 /// test while the next one measures, a few KiB).
 const SLACK: u64 = 64 << 10;
 
+/// What the harness may free while a test measures (the report of a test
+/// that just finished), so the peak above the starting level can come out
+/// this much below what the decoder allocated.
+const FREED_MEANWHILE: u64 = 4 << 10;
+
 /// Runs `f` and returns its result with the peak of live heap bytes above
 /// the level at the start.
 fn peak_during<T>(f: impl FnOnce() -> T) -> (T, u64) {
@@ -41,7 +46,7 @@ fn order2_allocates_what_it_declares() {
             last = need;
             assert!(need <= p.memory_needed());
             assert!(
-                peak >= need && peak <= need + len as u64 + SLACK,
+                peak + FREED_MEANWHILE >= need && peak <= need + len as u64 + SLACK,
                 "order1 {order1}, {len} bytes: peak {peak}, declared {need}"
             );
         }
@@ -70,7 +75,7 @@ fn mix_allocates_what_it_declares() {
         last = need;
         assert!(need <= p.memory_needed());
         assert!(
-            peak >= need && peak <= need + len as u64 + SLACK,
+            peak + FREED_MEANWHILE >= need && peak <= need + len as u64 + SLACK,
             "{len} bytes: peak {peak}, declared {need}"
         );
     }
