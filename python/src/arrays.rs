@@ -5,7 +5,7 @@ use pyo3::prelude::*;
 use pyo3::types::PyBytes;
 
 use subrange::batch::{decode_probabilities, decode_symbols, encode_probabilities, encode_symbols};
-use subrange::model::{StepwiseModel, StepwiseParams, Model, Probability, TableModel};
+use subrange::model::{Model, Probability, StepwiseModel, StepwiseParams, TableModel};
 
 use crate::to_py;
 
