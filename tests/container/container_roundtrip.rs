@@ -277,7 +277,14 @@ fn container_overhead_at_the_default_block_size() {
     for preset in Preset::all() {
         let mut o = Options::new();
         o.preset(preset);
-        let packed = compress(&data, &o).unwrap();
+        // The framing does not depend on the preset: the slow
+        // context-mixing presets frame a shorter input (one block at their
+        // default size, as the whole input would be for `history`).
+        let data = match preset.name() {
+            "mix" | "history" => &data[..300_000],
+            _ => &data[..],
+        };
+        let packed = compress(data, &o).unwrap();
         let report = inspect(&packed[..]).unwrap();
         assert!(report.is_intact());
         let payload: u64 = report.blocks.iter().map(|b| b.coded_len).sum();
