@@ -12,7 +12,9 @@
 //! Invariants: at most `depth` blocks are in flight (read and not yet
 //! written), and block buffers are recycled — a block's raw bytes are read
 //! straight into a buffer that already served an earlier block, with no
-//! copy on the way and no zero fill. The reader and writer stay on the
+//! copy on the way and no zero fill. Checksums are the coder threads'
+//! work: a block's CRC-32s are computed (compressing) or checked
+//! (decompressing, payload and raw bytes) by the thread that codes it. The reader and writer stay on the
 //! caller's thread (they need not be `Send`). An error from the reader, the
 //! writer or a coder ends the run: the job queue is dropped, so coder
 //! threads stop as soon as their current job is done, and the first error
@@ -28,7 +30,7 @@ use std::thread::{self, Scope};
 use std::vec::Vec;
 
 use crate::error::Result;
-use crate::format::{decode_payload, encode_block, BlockFrame, ContainerReader};
+use crate::format::{check_payload, decode_payload, encode_block, BlockFrame, ContainerReader};
 use crate::preset::Preset;
 use crate::stream::engine::Engine;
 use crate::stream::workers::Workers;
@@ -257,8 +259,10 @@ pub(crate) fn decompress<R: Read, W: Write>(
         .header()
         .map(|h| depth_for(&h.preset, h.block_size))?;
     let coders = self::coders(options.get_threads(), first);
+    // The payload's checksum is checked here, on the thread decoding it.
     let decode = |(preset, frame, mut payload, mut out): DecodeJob| -> Decoded {
-        let r = decode_payload(&preset, &frame, &mut payload, &mut out);
+        let r = check_payload(&frame, &payload)
+            .and_then(|()| decode_payload(&preset, &frame, &mut payload, &mut out));
         (payload, out, r)
     };
     let mut write = |out: &[u8]| -> Result<()> {
@@ -268,7 +272,7 @@ pub(crate) fn decompress<R: Read, W: Write>(
     };
     if coders == 0 {
         let (mut payload, mut out) = (Vec::new(), Vec::new());
-        while let Some(frame) = reader.next_block(&mut payload)? {
+        while let Some(frame) = reader.next_block_unchecked(&mut payload)? {
             let preset = reader.header()?.preset;
             let (p, o, r) = decode((preset, frame, payload, out));
             r?;
@@ -307,7 +311,7 @@ pub(crate) fn decompress<R: Read, W: Write>(
                         break;
                     }
                     let (mut payload, out) = spare.pop().unwrap_or_default();
-                    match reader.next_block(&mut payload) {
+                    match reader.next_block_unchecked(&mut payload) {
                         Ok(Some(frame)) => {
                             let preset = reader.header()?.preset;
                             pipe.submit((preset, frame, payload, out));
