@@ -156,26 +156,35 @@ impl<R: Read> Input<R> {
     /// small for the first step is dropped before its replacement is
     /// allocated, so old and new never live at once.
     pub(crate) fn fill(&mut self, buf: &mut Vec<u8>, len: usize) -> Result<()> {
-        buf.clear();
         if buf.capacity() < len.min(GROW_STEP) {
             *buf = Vec::new();
         }
+        // Bytes the buffer already holds (a recycled buffer's earlier
+        // contents) are read over in place; only bytes it never held are
+        // zeroed before the read.
+        let mut have = 0;
         if let Some(b) = self.peeked.take() {
             if len == 0 {
                 self.peeked = Some(b);
+                buf.clear();
                 return Ok(());
             }
-            buf.push(b);
+            match buf.first_mut() {
+                Some(first) => *first = b,
+                None => buf.push(b),
+            }
+            have = 1;
             self.offset += 1;
         }
-        while buf.len() < len {
-            let have = buf.len();
+        while have < len {
             let want = (len - have).min(GROW_STEP);
-            if buf.capacity() < have + want {
-                let cap = (have + want).max(have.saturating_mul(2)).min(len);
-                buf.reserve_exact(cap - have);
+            if buf.len() < have + want {
+                if buf.capacity() < have + want {
+                    let cap = (have + want).max(have.saturating_mul(2)).min(len);
+                    buf.reserve_exact(cap - buf.len());
+                }
+                buf.resize(have + want, 0);
             }
-            buf.resize(have + want, 0);
             let mut got = 0;
             while got < want {
                 match self.inner.read(&mut buf[have + got..have + want]) {
@@ -194,7 +203,9 @@ impl<R: Read> Input<R> {
                     }
                 }
             }
+            have += want;
         }
+        buf.truncate(len);
         Ok(())
     }
 }
@@ -239,6 +250,7 @@ impl<R: Read> Input<R> {
 mod tests {
     use super::*;
     use crate::ErrorKind;
+    use std::vec;
 
     #[test]
     fn exact_reads_and_offsets() {
@@ -255,5 +267,24 @@ mod tests {
         assert_eq!(input.offset(), 7);
         let err = input.fill(&mut buf, 2).unwrap_err();
         assert!(matches!(err.kind(), ErrorKind::Truncated { offset: 8 }));
+    }
+
+    #[test]
+    fn fills_overwrite_a_recycled_buffer() {
+        let data: Vec<u8> = (0..3000u32).map(|i| (i % 253) as u8).collect();
+        let mut input = Input::new(&data[..]);
+        // A buffer holding more, then less, than the next fill.
+        let mut buf = vec![0xEE; 2500];
+        input.fill(&mut buf, 1000).unwrap();
+        assert_eq!(buf, data[..1000]);
+        assert!(!input.at_end().unwrap()); // peeks a byte
+        input.fill(&mut buf, 1500).unwrap();
+        assert_eq!(buf, data[1000..2500]);
+        assert_eq!(input.offset(), 2500);
+        input.fill(&mut buf, 0).unwrap();
+        assert!(buf.is_empty());
+        let err = input.fill(&mut buf, 600).unwrap_err();
+        assert!(matches!(err.kind(), ErrorKind::Truncated { offset: 3000 }));
+        assert_eq!(buf, data[2500..]);
     }
 }

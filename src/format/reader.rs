@@ -123,6 +123,22 @@ impl<R: Read> ContainerReader<R> {
         Ok(Some(frame))
     }
 
+    /// As [`next_block`](Self::next_block), but the payload's checksum is
+    /// left to the caller ([`check_payload`], before decoding it), so that
+    /// the thread decoding a block also checks it.
+    pub(crate) fn next_block_unchecked(
+        &mut self,
+        payload: &mut Vec<u8>,
+    ) -> Result<Option<BlockFrame>> {
+        let Some(frame) = self.next_frame()? else {
+            return Ok(None);
+        };
+        // Lengths were checked against the block size (at most 64 MiB).
+        self.input.fill(payload, frame.payload_len as usize)?;
+        self.count(&frame);
+        Ok(Some(frame))
+    }
+
     /// Counts a block whose payload has been read.
     fn count(&mut self, frame: &BlockFrame) {
         let block_size = self.header.as_ref().map_or(0, |h| h.block_size);

@@ -12,7 +12,9 @@
 //! Invariants: at most `depth` blocks are in flight (read and not yet
 //! written), and block buffers are recycled — a block's raw bytes are read
 //! straight into a buffer that already served an earlier block, with no
-//! copy on the way and no zero fill. The reader and writer stay on the
+//! copy on the way and no zero fill. Checksums are the coder threads'
+//! work: a block's CRC-32s are computed (compressing) or checked
+//! (decompressing, payload and raw bytes) by the thread that codes it. The reader and writer stay on the
 //! caller's thread (they need not be `Send`). An error from the reader, the
 //! writer or a coder ends the run: the job queue is dropped, so coder
 //! threads stop as soon as their current job is done, and the first error
@@ -28,7 +30,7 @@ use std::thread::{self, Scope};
 use std::vec::Vec;
 
 use crate::error::Result;
-use crate::format::{decode_payload, encode_block, BlockFrame, ContainerReader};
+use crate::format::{check_payload, decode_payload, encode_block, BlockFrame, ContainerReader};
 use crate::preset::Preset;
 use crate::stream::engine::Engine;
 use crate::stream::workers::Workers;
@@ -123,13 +125,35 @@ impl<J: Send, O: Send> Ordered<J, O> {
     }
 }
 
-/// Reads up to `len` bytes into `buf` (cleared, its capacity kept): fewer
-/// only at the end of input.
+/// Reads up to `len` bytes into `buf` (its capacity kept): fewer only at
+/// the end of input.
+///
+/// The buffer is read into in place with [`Read::read`], so only bytes it
+/// never held are zeroed: a recycled buffer that held a whole block is
+/// filled again with no zero fill whatever the reader (with a reader that
+/// only implements `read`, `read_to_end` would zero the spare capacity on
+/// every call).
 fn read_block<R: Read>(reader: &mut R, buf: &mut Vec<u8>, len: usize) -> io::Result<()> {
-    buf.clear();
-    // `read_to_end` reads into the spare capacity without zeroing it where
-    // the reader allows, and retries `Interrupted`.
-    reader.take(len as u64).read_to_end(buf)?;
+    // The initialised part grows with what arrives (doubling from 64 KiB),
+    // so a short input does not touch a whole block's pages.
+    let mut got = 0;
+    while got < len {
+        if buf.len() == got {
+            let grown = got.saturating_mul(2).max(64 << 10).min(len);
+            buf.resize(grown, 0);
+        }
+        let end = buf.len().min(len);
+        match reader.read(&mut buf[got..end]) {
+            Ok(0) => break,
+            Ok(n) => got += n,
+            Err(e) if e.kind() == io::ErrorKind::Interrupted => {}
+            Err(e) => {
+                buf.truncate(got);
+                return Err(e);
+            }
+        }
+    }
+    buf.truncate(got);
     Ok(())
 }
 
@@ -235,8 +259,10 @@ pub(crate) fn decompress<R: Read, W: Write>(
         .header()
         .map(|h| depth_for(&h.preset, h.block_size))?;
     let coders = self::coders(options.get_threads(), first);
+    // The payload's checksum is checked here, on the thread decoding it.
     let decode = |(preset, frame, mut payload, mut out): DecodeJob| -> Decoded {
-        let r = decode_payload(&preset, &frame, &mut payload, &mut out);
+        let r = check_payload(&frame, &payload)
+            .and_then(|()| decode_payload(&preset, &frame, &mut payload, &mut out));
         (payload, out, r)
     };
     let mut write = |out: &[u8]| -> Result<()> {
@@ -246,7 +272,7 @@ pub(crate) fn decompress<R: Read, W: Write>(
     };
     if coders == 0 {
         let (mut payload, mut out) = (Vec::new(), Vec::new());
-        while let Some(frame) = reader.next_block(&mut payload)? {
+        while let Some(frame) = reader.next_block_unchecked(&mut payload)? {
             let preset = reader.header()?.preset;
             let (p, o, r) = decode((preset, frame, payload, out));
             r?;
@@ -285,7 +311,7 @@ pub(crate) fn decompress<R: Read, W: Write>(
                         break;
                     }
                     let (mut payload, out) = spare.pop().unwrap_or_default();
-                    match reader.next_block(&mut payload) {
+                    match reader.next_block_unchecked(&mut payload) {
                         Ok(Some(frame)) => {
                             let preset = reader.header()?.preset;
                             pipe.submit((preset, frame, payload, out));
@@ -310,4 +336,68 @@ pub(crate) fn decompress<R: Read, W: Write>(
         read: reader.input().offset(),
         written,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A reader handing out at most `step` bytes a call, with an
+    /// `Interrupted` before every other call.
+    struct Dribble<'a> {
+        data: &'a [u8],
+        step: usize,
+        calls: usize,
+    }
+
+    impl Read for Dribble<'_> {
+        fn read(&mut self, buf: &mut [u8]) -> io::Result<usize> {
+            self.calls += 1;
+            if self.calls % 2 == 1 {
+                return Err(io::ErrorKind::Interrupted.into());
+            }
+            let n = buf.len().min(self.step).min(self.data.len());
+            buf[..n].copy_from_slice(&self.data[..n]);
+            self.data = &self.data[n..];
+            Ok(n)
+        }
+    }
+
+    #[test]
+    fn blocks_are_read_whole_into_recycled_buffers() {
+        let data: Vec<u8> = (0..300_000u32).map(|i| (i * 7 % 251) as u8).collect();
+        let mut reader = Dribble {
+            data: &data,
+            step: 40_000,
+            calls: 0,
+        };
+        let len = 200_000;
+        let mut buf = Vec::with_capacity(len);
+        read_block(&mut reader, &mut buf, len).unwrap();
+        assert_eq!(buf, data[..len]);
+        assert_eq!(buf.capacity(), len);
+        // The same buffer again: the short last block, then nothing.
+        read_block(&mut reader, &mut buf, len).unwrap();
+        assert_eq!(buf, data[len..]);
+        read_block(&mut reader, &mut buf, len).unwrap();
+        assert!(buf.is_empty());
+        assert_eq!(buf.capacity(), len);
+    }
+
+    #[test]
+    fn a_read_error_keeps_what_was_read() {
+        let mut reader = Read::chain(&[5u8; 1000][..], FailAfter);
+        let mut buf = Vec::new();
+        let err = read_block(&mut reader, &mut buf, 4096).unwrap_err();
+        assert_eq!(err.kind(), io::ErrorKind::BrokenPipe);
+        assert_eq!(buf, [5u8; 1000]);
+    }
+
+    struct FailAfter;
+
+    impl Read for FailAfter {
+        fn read(&mut self, _: &mut [u8]) -> io::Result<usize> {
+            Err(io::ErrorKind::BrokenPipe.into())
+        }
+    }
 }
