@@ -14,8 +14,8 @@
 //! straight into a buffer that already served an earlier block, with no
 //! copy on the way and no zero fill. Checksums are the coder threads'
 //! work: a block's CRC-32s are computed (compressing) or checked
-//! (decompressing, payload and raw bytes) by the thread that codes it. The reader and writer stay on the
-//! caller's thread (they need not be `Send`). An error from the reader, the
+//! (decompressing, payload and raw bytes) by the thread that codes it.
+//! The reader and writer stay on the caller's thread (they need not be `Send`). An error from the reader, the
 //! writer or a coder ends the run: the job queue is dropped, so coder
 //! threads stop as soon as their current job is done, and the first error
 //! in stream order is returned (a read error after the blocks before it
