@@ -63,7 +63,7 @@ const FILL: usize = 16;
 /// Symbols a fill of the by-symbol layout writes at once (see
 /// [`fill_by_symbol`]); also the padding after the last slot of its
 /// symbol table.
-const SYMBOL_FILL: usize = 64;
+const SYMBOL_FILL: usize = 128;
 
 /// The decoding tables of one byte table.
 ///
