@@ -60,9 +60,9 @@ impl LaneState {
 /// the padding after the last slot.
 const FILL: usize = 16;
 
-/// Symbols a fill of the by-symbol layout writes at once (see
-/// [`fill_by_symbol`]); also the padding after the last slot of its
-/// symbol table.
+/// Symbols a fill of the by-symbol layout writes at once after the first
+/// half block of a span (see [`fill_by_symbol`]); also the padding after
+/// the last slot of its symbol table.
 const SYMBOL_FILL: usize = 128;
 
 /// The decoding tables of one byte table.
@@ -136,10 +136,11 @@ impl DecodeTables {
     /// Replaces the tables' contents, reusing their storage and keeping
     /// their layout.
     ///
-    /// Spans are filled a block of [`FILL`] entries (by symbol:
-    /// [`SYMBOL_FILL`] bytes) at a time, in symbol order, each block
-    /// possibly running past its span into the next symbol's (which then
-    /// overwrites it) or into the padding after the last slot. With totals
+    /// Spans are filled a block of [`FILL`] entries (by symbol: half a
+    /// block of [`SYMBOL_FILL`] bytes, then whole ones) at a time, in
+    /// symbol order, each block possibly running past its span into the
+    /// next symbol's (which then overwrites it) or into the padding after
+    /// the last slot. With totals
     /// up to 2^12 the symbol is part of the slot entry and the separate
     /// symbol table is not filled.
     pub(crate) fn set(&mut self, freq: &[u32], cum: &[u32], shift: u32) {
@@ -220,8 +221,11 @@ pub(crate) fn fill_spans(t: &mut DecodeTables, freq: &[u32], cum: &[u32]) {
 /// where the CPU has them (`simd::decode::fill_symbol_tables`).
 ///
 /// The loop runs over the codable symbols listed when the tables were made
-/// (the symbols a table update may give a frequency), and its one branch,
-/// whether a span is longer than a block, is mostly not taken.
+/// (the symbols a table update may give a frequency). A span gets half a
+/// block first (enough for most symbols' spans), then whole blocks while
+/// it lasts: the one branch, whether a span is longer than half a block,
+/// is mostly not taken, and the long spans of the frequent symbols take
+/// few turns of the loop.
 #[inline(always)]
 pub(crate) fn fill_by_symbol(t: &mut DecodeTables, freq: &[u32], cum: &[u32]) {
     for &s in &t.codable {
@@ -230,12 +234,11 @@ pub(crate) fn fill_by_symbol(t: &mut DecodeTables, freq: &[u32], cum: &[u32]) {
         t.slots[s] = c | f.saturating_sub(1) << 16;
         let block = [s as u8; SYMBOL_FILL];
         let (mut at, end) = (c as usize, (c + f) as usize);
-        loop {
+        t.symbols[at..at + SYMBOL_FILL / 2].copy_from_slice(&block[..SYMBOL_FILL / 2]);
+        at += SYMBOL_FILL / 2;
+        while at < end {
             t.symbols[at..at + SYMBOL_FILL].copy_from_slice(&block);
             at += SYMBOL_FILL;
-            if at >= end {
-                break;
-            }
         }
     }
 }
@@ -543,6 +546,47 @@ mod tests {
                         "shift {shift} round {round} slot {t}"
                     );
                 }
+            }
+        }
+    }
+
+    /// Spans of every length around the fill's half and whole blocks
+    /// (`SYMBOL_FILL / 2`, `SYMBOL_FILL`, and one more block), next to
+    /// spans of one slot: the by-symbol tables, filled by the plain code
+    /// and by the vector build, give every slot its symbol.
+    #[test]
+    fn by_symbol_fill_at_the_block_edges() {
+        let (half, whole) = (SYMBOL_FILL as u32 / 2, SYMBOL_FILL as u32);
+        let lengths: Vec<u32> = [half, whole, whole + half, 2 * whole]
+            .iter()
+            .flat_map(|&e| [e - 1, e, e + 1, 1])
+            .collect();
+        let shift = 16;
+        let total = 1u32 << shift;
+        for turn in 0..lengths.len() {
+            let mut freq = [0u32; 256];
+            for s in 0..255 {
+                freq[s] = lengths[(s + turn) % lengths.len()];
+            }
+            freq[255] = total - freq.iter().sum::<u32>();
+            let mut cum = [0u32; 257];
+            for s in 0..256 {
+                cum[s + 1] = cum[s] + freq[s];
+            }
+            let mut vector = DecodeTables::by_symbol(&freq, &cum, shift);
+            let mut plain = DecodeTables::by_symbol(&freq, &cum, shift);
+            // Stale contents first, as after an earlier table.
+            plain.symbols.fill(0xEE);
+            fill_by_symbol(&mut plain, &freq, &cum);
+            vector.set(&freq, &cum, shift);
+            for s in 0..256 {
+                for t in cum[s]..cum[s + 1] {
+                    let t = t as usize;
+                    assert_eq!(usize::from(plain.symbols[t]), s, "turn {turn} slot {t}");
+                    assert_eq!(usize::from(vector.symbols[t]), s, "turn {turn} slot {t}");
+                }
+                assert_eq!(plain.slots[s], cum[s] | (freq[s] - 1) << 16);
+                assert_eq!(vector.slots[s], plain.slots[s]);
             }
         }
     }
