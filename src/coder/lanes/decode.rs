@@ -9,9 +9,11 @@
 //! frequency), then narrows and renormalises exactly as the encoder did.
 //!
 //! Input checks are batched: rows are decoded in chunks of [`CHUNK_ROWS`],
-//! and before each chunk a lane that has read more than its stream plus the
-//! four implicit zero bytes is reported truncated (the padding covers the
-//! reads of one chunk). A lane whose `code` ever leaves its interval is
+//! and before a lane could take more than [`CHUNK_ROWS`] steps since the
+//! last check (counted across calls, so short pieces share one check), a
+//! lane that has read more than its stream plus the four implicit zero
+//! bytes is reported truncated (the padding covers the reads of
+//! [`CHUNK_ROWS`] steps). A lane whose `code` ever leaves its interval is
 //! corrupt; both verdicts come out of [`finish`](LaneDecoder::finish), so
 //! the work done is bounded by the output length whatever the input.
 //!
@@ -312,6 +314,9 @@ pub(crate) struct LaneDecoder {
     lens: Vec<usize>,
     /// The lane the next byte comes from.
     next: usize,
+    /// Steps any one lane may have taken since the read positions were
+    /// last checked (at most [`CHUNK_ROWS`]: the padding covers them).
+    unchecked: usize,
     #[cfg_attr(not(target_arch = "x86_64"), allow(dead_code))]
     kernel: Vector,
 }
@@ -340,8 +345,22 @@ impl LaneDecoder {
             starts,
             lens: streams.iter().map(|s| s.len()).collect(),
             next: 0,
+            unchecked: 0,
             kernel,
         }
+    }
+
+    /// Makes room for `steps` more steps of each lane: checks the read
+    /// positions ([`truncated`](Self::truncated)) unless the steps taken
+    /// since the last check and these still fit in the padding.
+    fn room(&mut self, steps: usize) -> Result<()> {
+        debug_assert!(steps <= CHUNK_ROWS);
+        if self.unchecked + steps > CHUNK_ROWS {
+            self.truncated()?;
+            self.unchecked = 0;
+        }
+        self.unchecked += steps;
+        Ok(())
     }
 
     /// A lane that has read past its stream and the four implicit zeros.
@@ -370,8 +389,9 @@ impl LaneDecoder {
     ///
     /// # Errors
     ///
-    /// [`ErrorKind::Truncated`] as soon as a lane has read past its end (the
-    /// bytes of `out` are then unspecified). Corrupt lanes are reported by
+    /// [`ErrorKind::Truncated`] when a lane has read past its end, found
+    /// within [`CHUNK_ROWS`] steps of it or by [`finish`](Self::finish)
+    /// (the bytes of `out` are then unspecified). Corrupt lanes are reported by
     /// [`finish`](Self::finish).
     pub(crate) fn decode(&mut self, tables: &DecodeTables, out: &mut [u8]) -> Result<()> {
         let n = self.lanes.len();
@@ -382,7 +402,7 @@ impl LaneDecoder {
         };
         let (head, rest) = out.split_at_mut(head);
         if !head.is_empty() {
-            self.truncated()?;
+            self.room(1)?;
         }
         for b in head {
             *b = decode_step(&mut self.lanes[self.next], &self.buffer, tables);
@@ -393,11 +413,11 @@ impl LaneDecoder {
         for chunk in body.chunks_mut(CHUNK_ROWS * n) {
             // A lane past its four implicit zeros is truncated for good: stop
             // before its reads could leave its padding.
-            self.truncated()?;
+            self.room(chunk.len() / n)?;
             self.chunk(tables, chunk);
         }
         if !tail.is_empty() {
-            self.truncated()?;
+            self.room(1)?;
         }
         for (lane, b) in self.lanes.iter_mut().zip(tail.iter_mut()) {
             *b = decode_step(lane, &self.buffer, tables);
