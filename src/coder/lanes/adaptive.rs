@@ -310,6 +310,49 @@ mod tests {
         }
     }
 
+    /// Short segments (a few rows each) share one check of the lanes'
+    /// read positions: a lane cut short is still reported truncated, by
+    /// every kernel and by the scalar steps, and the reads stay in the
+    /// lanes' padding (the vector kernels rely on it).
+    #[test]
+    fn truncated_lanes_are_found_across_short_segments() {
+        #[cfg(target_arch = "x86_64")]
+        let kernels: Vec<Vector> = [
+            crate::coder::lanes::simd::Kernel::Avx512Wide,
+            crate::coder::lanes::simd::Kernel::Avx512,
+            crate::coder::lanes::simd::Kernel::Avx2,
+        ]
+        .into_iter()
+        .filter(|k| k.supported())
+        .map(Some)
+        .chain([None])
+        .collect();
+        #[cfg(not(target_arch = "x86_64"))]
+        let kernels: Vec<Vector> = vec![None];
+        let data = drifting(30_000);
+        for period in [1u64, 5, 37, 100] {
+            for lanes in [8usize, 16, 32] {
+                let fresh = || Segmented::new(256, 12, period);
+                let streams = encode_adaptive_lanes(&mut fresh(), &data, lanes).unwrap();
+                for keep in [0usize, 3, streams[1].len() / 3] {
+                    let mut cut = streams.clone();
+                    cut[1].truncate(keep);
+                    let views: Vec<&[u8]> = cut.iter().map(Vec::as_slice).collect();
+                    for &kernel in &kernels {
+                        #[cfg(target_arch = "x86_64")]
+                        let kernel = kernel.filter(|k| k.fits(lanes));
+                        let mut out = vec![0u8; data.len()];
+                        let err = decode_with(&mut fresh(), &views, &mut out, kernel).unwrap_err();
+                        assert!(
+                            matches!(err.kind(), ErrorKind::Truncated { .. }),
+                            "{kernel:?} period {period} lanes {lanes} keep {keep}: {err:?}"
+                        );
+                    }
+                }
+            }
+        }
+    }
+
     #[cfg(target_arch = "x86_64")]
     mod generated {
         use super::*;

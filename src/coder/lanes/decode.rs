@@ -9,9 +9,11 @@
 //! frequency), then narrows and renormalises exactly as the encoder did.
 //!
 //! Input checks are batched: rows are decoded in chunks of [`CHUNK_ROWS`],
-//! and before each chunk a lane that has read more than its stream plus the
-//! four implicit zero bytes is reported truncated (the padding covers the
-//! reads of one chunk). A lane whose `code` ever leaves its interval is
+//! and before a lane could take more than [`CHUNK_ROWS`] steps since the
+//! last check (counted across calls, so short pieces share one check), a
+//! lane that has read more than its stream plus the four implicit zero
+//! bytes is reported truncated (the padding covers the reads of
+//! [`CHUNK_ROWS`] steps). A lane whose `code` ever leaves its interval is
 //! corrupt; both verdicts come out of [`finish`](LaneDecoder::finish), so
 //! the work done is bounded by the output length whatever the input.
 //!
@@ -60,10 +62,10 @@ impl LaneState {
 /// the padding after the last slot.
 const FILL: usize = 16;
 
-/// Symbols a fill of the by-symbol layout writes at once (see
-/// [`fill_by_symbol`]); also the padding after the last slot of its
-/// symbol table.
-const SYMBOL_FILL: usize = 64;
+/// Symbols a fill of the by-symbol layout writes at once after the first
+/// half block of a span (see [`fill_by_symbol`]); also the padding after
+/// the last slot of its symbol table.
+const SYMBOL_FILL: usize = 128;
 
 /// The decoding tables of one byte table.
 ///
@@ -136,10 +138,11 @@ impl DecodeTables {
     /// Replaces the tables' contents, reusing their storage and keeping
     /// their layout.
     ///
-    /// Spans are filled a block of [`FILL`] entries (by symbol:
-    /// [`SYMBOL_FILL`] bytes) at a time, in symbol order, each block
-    /// possibly running past its span into the next symbol's (which then
-    /// overwrites it) or into the padding after the last slot. With totals
+    /// Spans are filled a block of [`FILL`] entries (by symbol: half a
+    /// block of [`SYMBOL_FILL`] bytes, then whole ones) at a time, in
+    /// symbol order, each block possibly running past its span into the
+    /// next symbol's (which then overwrites it) or into the padding after
+    /// the last slot. With totals
     /// up to 2^12 the symbol is part of the slot entry and the separate
     /// symbol table is not filled.
     pub(crate) fn set(&mut self, freq: &[u32], cum: &[u32], shift: u32) {
@@ -220,8 +223,11 @@ pub(crate) fn fill_spans(t: &mut DecodeTables, freq: &[u32], cum: &[u32]) {
 /// where the CPU has them (`simd::decode::fill_symbol_tables`).
 ///
 /// The loop runs over the codable symbols listed when the tables were made
-/// (the symbols a table update may give a frequency), and its one branch,
-/// whether a span is longer than a block, is mostly not taken.
+/// (the symbols a table update may give a frequency). A span gets half a
+/// block first (enough for most symbols' spans), then whole blocks while
+/// it lasts: the one branch, whether a span is longer than half a block,
+/// is mostly not taken, and the long spans of the frequent symbols take
+/// few turns of the loop.
 #[inline(always)]
 pub(crate) fn fill_by_symbol(t: &mut DecodeTables, freq: &[u32], cum: &[u32]) {
     for &s in &t.codable {
@@ -230,12 +236,11 @@ pub(crate) fn fill_by_symbol(t: &mut DecodeTables, freq: &[u32], cum: &[u32]) {
         t.slots[s] = c | f.saturating_sub(1) << 16;
         let block = [s as u8; SYMBOL_FILL];
         let (mut at, end) = (c as usize, (c + f) as usize);
-        loop {
+        t.symbols[at..at + SYMBOL_FILL / 2].copy_from_slice(&block[..SYMBOL_FILL / 2]);
+        at += SYMBOL_FILL / 2;
+        while at < end {
             t.symbols[at..at + SYMBOL_FILL].copy_from_slice(&block);
             at += SYMBOL_FILL;
-            if at >= end {
-                break;
-            }
         }
     }
 }
@@ -309,6 +314,9 @@ pub(crate) struct LaneDecoder {
     lens: Vec<usize>,
     /// The lane the next byte comes from.
     next: usize,
+    /// Steps any one lane may have taken since the read positions were
+    /// last checked (at most [`CHUNK_ROWS`]: the padding covers them).
+    unchecked: usize,
     #[cfg_attr(not(target_arch = "x86_64"), allow(dead_code))]
     kernel: Vector,
 }
@@ -337,8 +345,22 @@ impl LaneDecoder {
             starts,
             lens: streams.iter().map(|s| s.len()).collect(),
             next: 0,
+            unchecked: 0,
             kernel,
         }
+    }
+
+    /// Makes room for `steps` more steps of each lane: checks the read
+    /// positions ([`truncated`](Self::truncated)) unless the steps taken
+    /// since the last check and these still fit in the padding.
+    fn room(&mut self, steps: usize) -> Result<()> {
+        debug_assert!(steps <= CHUNK_ROWS);
+        if self.unchecked + steps > CHUNK_ROWS {
+            self.truncated()?;
+            self.unchecked = 0;
+        }
+        self.unchecked += steps;
+        Ok(())
     }
 
     /// A lane that has read past its stream and the four implicit zeros.
@@ -367,8 +389,9 @@ impl LaneDecoder {
     ///
     /// # Errors
     ///
-    /// [`ErrorKind::Truncated`] as soon as a lane has read past its end (the
-    /// bytes of `out` are then unspecified). Corrupt lanes are reported by
+    /// [`ErrorKind::Truncated`] when a lane has read past its end, found
+    /// within [`CHUNK_ROWS`] steps of it or by [`finish`](Self::finish)
+    /// (the bytes of `out` are then unspecified). Corrupt lanes are reported by
     /// [`finish`](Self::finish).
     pub(crate) fn decode(&mut self, tables: &DecodeTables, out: &mut [u8]) -> Result<()> {
         let n = self.lanes.len();
@@ -379,7 +402,7 @@ impl LaneDecoder {
         };
         let (head, rest) = out.split_at_mut(head);
         if !head.is_empty() {
-            self.truncated()?;
+            self.room(1)?;
         }
         for b in head {
             *b = decode_step(&mut self.lanes[self.next], &self.buffer, tables);
@@ -390,11 +413,11 @@ impl LaneDecoder {
         for chunk in body.chunks_mut(CHUNK_ROWS * n) {
             // A lane past its four implicit zeros is truncated for good: stop
             // before its reads could leave its padding.
-            self.truncated()?;
+            self.room(chunk.len() / n)?;
             self.chunk(tables, chunk);
         }
         if !tail.is_empty() {
-            self.truncated()?;
+            self.room(1)?;
         }
         for (lane, b) in self.lanes.iter_mut().zip(tail.iter_mut()) {
             *b = decode_step(lane, &self.buffer, tables);
@@ -543,6 +566,47 @@ mod tests {
                         "shift {shift} round {round} slot {t}"
                     );
                 }
+            }
+        }
+    }
+
+    /// Spans of every length around the fill's half and whole blocks
+    /// (`SYMBOL_FILL / 2`, `SYMBOL_FILL`, and one more block), next to
+    /// spans of one slot: the by-symbol tables, filled by the plain code
+    /// and by the vector build, give every slot its symbol.
+    #[test]
+    fn by_symbol_fill_at_the_block_edges() {
+        let (half, whole) = (SYMBOL_FILL as u32 / 2, SYMBOL_FILL as u32);
+        let lengths: Vec<u32> = [half, whole, whole + half, 2 * whole]
+            .iter()
+            .flat_map(|&e| [e - 1, e, e + 1, 1])
+            .collect();
+        let shift = 16;
+        let total = 1u32 << shift;
+        for turn in 0..lengths.len() {
+            let mut freq = [0u32; 256];
+            for s in 0..255 {
+                freq[s] = lengths[(s + turn) % lengths.len()];
+            }
+            freq[255] = total - freq.iter().sum::<u32>();
+            let mut cum = [0u32; 257];
+            for s in 0..256 {
+                cum[s + 1] = cum[s] + freq[s];
+            }
+            let mut vector = DecodeTables::by_symbol(&freq, &cum, shift);
+            let mut plain = DecodeTables::by_symbol(&freq, &cum, shift);
+            // Stale contents first, as after an earlier table.
+            plain.symbols.fill(0xEE);
+            fill_by_symbol(&mut plain, &freq, &cum);
+            vector.set(&freq, &cum, shift);
+            for s in 0..256 {
+                for t in cum[s]..cum[s + 1] {
+                    let t = t as usize;
+                    assert_eq!(usize::from(plain.symbols[t]), s, "turn {turn} slot {t}");
+                    assert_eq!(usize::from(vector.symbols[t]), s, "turn {turn} slot {t}");
+                }
+                assert_eq!(plain.slots[s], cum[s] | (freq[s] - 1) << 16);
+                assert_eq!(vector.slots[s], plain.slots[s]);
             }
         }
     }
