@@ -89,9 +89,8 @@ pub trait LaneTable: Model {
         u64::MAX
     }
 
-    /// Learns a run of coded symbols, no longer than
-    /// [`segment_left`](LaneTable::segment_left), at once. The default
-    /// learns nothing.
+    /// Learns a run of at most [`segment_left`](LaneTable::segment_left)
+    /// coded symbols at once. The default learns nothing.
     fn update_run(&mut self, symbols: &[u8]) {
         let _ = symbols;
     }
